@@ -1,0 +1,233 @@
+//! The report: every figure the model gives for a scenario, and the warnings a user must see.
+//!
+//! Plain data with `serde::Serialize`; a figure that does not exist is `None` (JSON `null`).
+//! Nothing is computed here.
+
+use serde::Serialize;
+
+/// The noise budget of one output pixel after averaging, one entry per source, rms.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Default)]
+pub struct NoiseParts {
+    /// Photon (signal) shot noise.
+    pub photon_shot: f64,
+    /// Dark-current shot noise.
+    pub dark_shot: f64,
+    /// Read noise.
+    pub read: f64,
+    /// Reset (kTC) noise left by the readout.
+    pub reset: f64,
+    /// Quantization noise.
+    pub quantization: f64,
+    /// All temporal parts together.
+    pub temporal: f64,
+    /// Dark signal non-uniformity (fixed pattern).
+    pub dsnu: f64,
+    /// Photo-response non-uniformity (fixed pattern).
+    pub prnu: f64,
+    /// Temporal and fixed-pattern parts together.
+    pub total: f64,
+}
+
+impl NoiseParts {
+    /// Every entry multiplied by `factor` (a unit conversion).
+    #[must_use]
+    pub fn scaled(&self, factor: f64) -> NoiseParts {
+        NoiseParts {
+            photon_shot: self.photon_shot * factor,
+            dark_shot: self.dark_shot * factor,
+            read: self.read * factor,
+            reset: self.reset * factor,
+            quantization: self.quantization * factor,
+            temporal: self.temporal * factor,
+            dsnu: self.dsnu * factor,
+            prnu: self.prnu * factor,
+            total: self.total * factor,
+        }
+    }
+
+    /// The entries as (report key, value) pairs, sources first, sums last.
+    #[must_use]
+    pub fn entries(&self) -> [(&'static str, f64); 9] {
+        [
+            ("photon_shot", self.photon_shot),
+            ("dark_shot", self.dark_shot),
+            ("read", self.read),
+            ("reset", self.reset),
+            ("quantization", self.quantization),
+            ("temporal", self.temporal),
+            ("dsnu", self.dsnu),
+            ("prnu", self.prnu),
+            ("total", self.total),
+        ]
+    }
+}
+
+/// Each source's share of the total variance (0..1); the shares of the seven sources sum to 1.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Default)]
+pub struct VarianceShare {
+    /// Photon shot noise.
+    pub photon_shot: f64,
+    /// Dark shot noise.
+    pub dark_shot: f64,
+    /// Read noise.
+    pub read: f64,
+    /// Reset noise.
+    pub reset: f64,
+    /// Quantization noise.
+    pub quantization: f64,
+    /// DSNU.
+    pub dsnu: f64,
+    /// PRNU.
+    pub prnu: f64,
+}
+
+/// Signal-to-noise ratios of one output pixel.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Snr {
+    /// Signal over temporal noise.
+    pub temporal: f64,
+    /// Signal over temporal and fixed-pattern noise.
+    pub total: f64,
+    /// 20·log10 of the temporal SNR; `None` when the SNR is zero.
+    pub temporal_db: Option<f64>,
+    /// 20·log10 of the total SNR; `None` when the SNR is zero.
+    pub total_db: Option<f64>,
+}
+
+/// What sets the usable level of a pixel.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum LimitedBy {
+    /// The full-well capacity.
+    FullWell,
+    /// The ADC's full scale above the black level.
+    Adc,
+}
+
+/// Saturation of one physical pixel.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Saturation {
+    /// Usable level L, e⁻.
+    pub level_e: f64,
+    /// Signal capacity L − d, e⁻ (negative when dark charge alone exceeds L).
+    pub capacity_e: f64,
+    /// (s + d) / L.
+    pub fill_fraction: f64,
+    /// Whether s + d > L.
+    pub saturated: bool,
+    /// What sets L.
+    pub limited_by: LimitedBy,
+}
+
+/// The smallest signal that reaches the SNR threshold.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct MinDetectable {
+    /// Per output pixel, temporal noise only, e⁻.
+    pub signal_e: f64,
+    /// Per output pixel, temporal and fixed-pattern noise, e⁻; `None` when PRNU forbids it.
+    pub signal_e_total: Option<f64>,
+    /// The temporal minimum as photons per physical pixel.
+    pub photons_per_pixel: f64,
+    /// The temporal minimum as photon flux at the sensor; `None` for light given per pixel.
+    pub photon_flux_per_um2_s: Option<f64>,
+}
+
+/// Dynamic range of one output pixel.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct DynamicRange {
+    /// Capacity over the temporal minimum detectable signal; `None` when the capacity is ≤ 0.
+    pub ratio: Option<f64>,
+    /// 20·log10 of the ratio.
+    pub db: Option<f64>,
+    /// log2 of the ratio.
+    pub stops: Option<f64>,
+}
+
+/// A condition the user must see, with a stable code.
+#[derive(Debug, Clone, PartialEq, Eq, Serialize)]
+pub struct Warning {
+    /// Stable identifier; see [`WarningCode`].
+    pub code: WarningCode,
+    /// A plain sentence with the figures that triggered it.
+    pub message: String,
+    /// Report keys (dot paths) this warning is about, so a page can show it beside them.
+    pub concerns: Vec<&'static str>,
+}
+
+/// The stable warning codes. New codes may be added; existing ones keep their meaning.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+#[non_exhaustive]
+pub enum WarningCode {
+    /// The signal plus dark charge exceeds the usable level: the frame clips.
+    Saturated,
+    /// Dark charge alone fills the pixel: no signal capacity is left.
+    DarkFillsPixel,
+    /// The exposure for the threshold would saturate the pixel.
+    ThresholdExposureBeyondSaturation,
+    /// PRNU caps the total SNR below the threshold at any signal.
+    ThresholdUnreachablePrnu,
+    /// The signal needed for the threshold (temporal, or total) is beyond the pixel's capacity.
+    ThresholdBeyondSaturation,
+    /// The light is so faint that the exposure for the threshold cannot be represented.
+    ThresholdExposureOutOfRange,
+    /// Reset (kTC) noise is larger than the read noise.
+    ResetNoiseDominates,
+    /// Read noise below 0.5 e⁻: photon-counting regime, Gaussian SNR is a poor guide.
+    SubElectronReadNoise,
+    /// Quantization noise is larger than the analog read noise: one DN spans many electrons.
+    QuantizationDominates,
+    /// Dark noise below 0.5 DN: the 1/12 DN² quantization model is unreliable.
+    DarkNoiseBelowHalfDn,
+    /// Charge binning sums more charge than one pixel's full well.
+    BinnedChargeExceedsFullWell,
+    /// The conversion gain given is higher than q/C for the capacitance given.
+    ConversionGainAboveSenseNode,
+    /// No light: the signal is zero.
+    NoLight,
+}
+
+/// Every figure of the format-version-1 report. Extra keys beyond the format: `noise_dn`,
+/// `noise_uv`, `variance_share`, `sense_node_capacitance_ff`,
+/// `dark_current_at_temperature_e_per_s`.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Report {
+    /// Format version, 1.
+    pub version: u64,
+    /// Photons per physical pixel per frame.
+    pub photons_per_pixel: f64,
+    /// Signal S per output pixel, e⁻.
+    pub signal_e: f64,
+    /// Dark charge D per output pixel, e⁻.
+    pub dark_e: f64,
+    /// K·S, DN above the black level.
+    pub signal_dn: f64,
+    /// Output-referred conversion gain, µV/e⁻ (given, or q/C); `None` when neither is known.
+    pub conversion_gain_uv_per_e: Option<f64>,
+    /// Sense-node capacitance, fF (given, or q/CG); `None` when neither is known.
+    pub sense_node_capacitance_ff: Option<f64>,
+    /// Dark current at the sensor temperature, e⁻/s per physical pixel.
+    pub dark_current_at_temperature_e_per_s: f64,
+    /// The noise budget in electrons rms.
+    pub noise_e: NoiseParts,
+    /// The noise budget in DN rms (× K).
+    pub noise_dn: NoiseParts,
+    /// The noise budget in µV rms at the output (× conversion gain); `None` without it.
+    pub noise_uv: Option<NoiseParts>,
+    /// Each source's share of the total variance.
+    pub variance_share: VarianceShare,
+    /// Signal-to-noise ratios.
+    pub snr: Snr,
+    /// Saturation of one physical pixel.
+    pub saturation: Saturation,
+    /// Minimum detectable signal.
+    pub min_detectable: MinDetectable,
+    /// Dynamic range; its figures are `None` when the capacity is ≤ 0.
+    pub dynamic_range: DynamicRange,
+    /// Temporal SNR at the capacity; `None` when the capacity is ≤ 0.
+    pub max_snr: Option<f64>,
+    /// Exposure time that reaches the threshold (temporal SNR), s.
+    pub exposure_for_threshold_s: Option<f64>,
+    /// Conditions the user must see.
+    pub warnings: Vec<Warning>,
+}

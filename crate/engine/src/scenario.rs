@@ -1,0 +1,174 @@
+//! The checked scenario: one planned measurement (sensor, readout, light, exposure, conditions).
+//!
+//! A [`Scenario`] can only be made by [`crate::validate`], so every value in it obeys the rules of
+//! the format; the model computes from it without failing. This file parses nothing itself.
+
+/// How the pixel's reset level is sampled (`sensor.readout`).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[non_exhaustive]
+pub enum Readout {
+    /// Correlated double sampling: reset noise cancelled (pinned photodiode with transfer gate).
+    Cds,
+    /// Delta (uncorrelated) double sampling: two independent resets, variance 2kT/C.
+    Dds,
+    /// One sample against a fixed reference: variance kT/C.
+    Single,
+}
+
+impl Readout {
+    /// The format's name for this readout.
+    #[must_use]
+    pub fn as_str(self) -> &'static str {
+        match self {
+            Readout::Cds => "cds",
+            Readout::Dds => "dds",
+            Readout::Single => "single",
+        }
+    }
+
+    /// How many independent reset (kTC) variances this readout leaves in the signal.
+    #[must_use]
+    pub fn reset_variance_multiple(self) -> f64 {
+        match self {
+            Readout::Cds => 0.0,
+            Readout::Dds => 2.0,
+            Readout::Single => 1.0,
+        }
+    }
+}
+
+/// Where binned pixels are summed (`exposure.binning_mode`).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[non_exhaustive]
+pub enum BinningMode {
+    /// Charge summed before the read, read once.
+    Charge,
+    /// Each pixel read, then the values summed.
+    Digital,
+}
+
+impl BinningMode {
+    /// The format's name for this mode.
+    #[must_use]
+    pub fn as_str(self) -> &'static str {
+        match self {
+            BinningMode::Charge => "charge",
+            BinningMode::Digital => "digital",
+        }
+    }
+}
+
+/// The light reaching the sensor (`light`). Open to new kinds: match with a wildcard arm.
+#[derive(Debug, Clone, PartialEq)]
+#[non_exhaustive]
+pub enum Light {
+    /// Photons per µm² per second at the sensor.
+    PhotonFlux {
+        /// Photon flux density, photons µm⁻² s⁻¹.
+        photon_flux_per_um2_s: f64,
+    },
+    /// Monochromatic irradiance at the sensor.
+    Irradiance {
+        /// Irradiance, W/m².
+        irradiance_w_per_m2: f64,
+        /// Vacuum wavelength, nm.
+        wavelength_nm: f64,
+    },
+    /// Photons per physical pixel per frame, independent of the exposure time.
+    PhotonsPerPixel {
+        /// Mean photons incident on one pixel in one frame.
+        photons_per_pixel: f64,
+    },
+}
+
+/// The sensor and its readout (`sensor`), with defaults applied.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Sensor {
+    /// Pixel pitch, µm; the pixel area is pitch².
+    pub pixel_pitch_um: f64,
+    /// Effective quantum efficiency η, electrons per incident photon.
+    pub quantum_efficiency: f64,
+    /// Full-well capacity of one pixel, e⁻.
+    pub full_well_e: f64,
+    /// Temporal read noise of one read (no reset, quantization or dark shot noise), e⁻ rms.
+    pub read_noise_e: f64,
+    /// Sense-node capacitance, fF, when given.
+    pub sense_node_capacitance_ff: Option<f64>,
+    /// Output-referred conversion gain, µV/e⁻, when given.
+    pub conversion_gain_uv_per_e: Option<f64>,
+    /// How the reset level is sampled.
+    pub readout: Readout,
+    /// Mean dark current of one pixel at the reference temperature, e⁻/s.
+    pub dark_current_e_per_s: f64,
+    /// Temperature at which the dark current is given, °C.
+    pub dark_current_reference_c: f64,
+    /// Temperature rise that doubles the dark current, °C.
+    pub dark_current_doubling_c: f64,
+    /// Dark signal non-uniformity, spatial rms per pixel, e⁻.
+    pub dsnu_e: f64,
+    /// Photo-response non-uniformity, spatial rms, percent of signal.
+    pub prnu_percent: f64,
+    /// ADC resolution, bits.
+    pub adc_bits: u32,
+    /// System gain K, DN per electron.
+    pub system_gain_dn_per_e: f64,
+    /// Offset added before the ADC, DN.
+    pub black_level_dn: f64,
+}
+
+/// The exposure (`exposure`), with defaults applied.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Exposure {
+    /// Integration time of one frame, s.
+    pub time_s: f64,
+    /// Number of frames averaged, N ≥ 1.
+    pub frames_averaged: u32,
+    /// Binning factor b: b × b pixels make one output pixel.
+    pub binning: u32,
+    /// Where the binned pixels are summed.
+    pub binning_mode: BinningMode,
+}
+
+/// A validated scenario. Made only by [`crate::validate::scenario_from_value`] and friends.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Scenario {
+    pub(crate) title: Option<String>,
+    pub(crate) sensor: Sensor,
+    pub(crate) light: Light,
+    pub(crate) exposure: Exposure,
+    pub(crate) temperature_c: f64,
+    pub(crate) snr_threshold: f64,
+}
+
+impl Scenario {
+    /// The free-text title, if any.
+    #[must_use]
+    pub fn title(&self) -> Option<&str> {
+        self.title.as_deref()
+    }
+    /// The sensor, with defaults applied.
+    #[must_use]
+    pub fn sensor(&self) -> &Sensor {
+        &self.sensor
+    }
+    /// The light at the sensor.
+    #[must_use]
+    pub fn light(&self) -> &Light {
+        &self.light
+    }
+    /// The exposure, with defaults applied.
+    #[must_use]
+    pub fn exposure(&self) -> &Exposure {
+        &self.exposure
+    }
+    /// Sensor temperature, °C.
+    #[must_use]
+    pub fn temperature_c(&self) -> f64 {
+        self.temperature_c
+    }
+    /// The SNR that counts as detected.
+    #[must_use]
+    pub fn snr_threshold(&self) -> f64 {
+        self.snr_threshold
+    }
+}

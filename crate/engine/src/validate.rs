@@ -1,0 +1,866 @@
+//! Reading a scenario from JSON and checking every rule of the format, all problems at once.
+//!
+//! This is the only way to make a [`Scenario`]. It reports each problem with the key's dot path
+//! (`sensor.full_well_e: must be > 0, got -5`); it never stops at the first. It computes no
+//! noise figures. Unknown keys are problems, except keys starting with `x_`, which are ignored.
+
+use std::fmt;
+
+use serde_json::{Map, Value};
+
+use crate::scenario::{BinningMode, Exposure, Light, Readout, Scenario, Sensor};
+
+/// The format version this engine reads and writes.
+pub const FORMAT_VERSION: u64 = 1;
+
+/// Largest |(T − T_ref) / T_d| accepted, so that 2^x and everything multiplied by it stay finite.
+/// 2^200 ≈ 1.6e60; with the other limits below every figure stays far from f64 overflow.
+const MAX_DOUBLINGS: f64 = 200.0;
+
+/// One broken rule, naming the key it concerns.
+#[derive(Debug, Clone, PartialEq, Eq, serde::Serialize)]
+pub struct Problem {
+    /// Dot path of the key (`sensor.full_well_e`), or `scenario` for the document as a whole.
+    pub path: String,
+    /// What is wrong, in lower case, naming the rule and the value found.
+    pub message: String,
+}
+
+impl fmt::Display for Problem {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        write!(f, "{}: {}", self.path, self.message)
+    }
+}
+
+/// A refused scenario: every problem found, in document order.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct ScenarioError {
+    problems: Vec<Problem>,
+}
+
+impl ScenarioError {
+    /// The problems, at least one.
+    #[must_use]
+    pub fn problems(&self) -> &[Problem] {
+        &self.problems
+    }
+}
+
+impl fmt::Display for ScenarioError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        for (i, p) in self.problems.iter().enumerate() {
+            if i > 0 {
+                writeln!(f)?;
+            }
+            write!(f, "{p}")?;
+        }
+        Ok(())
+    }
+}
+
+impl std::error::Error for ScenarioError {}
+
+/// Parse JSON text and validate it into a [`Scenario`].
+///
+/// # Errors
+/// A [`ScenarioError`] listing every problem: malformed JSON, a wrong type, a broken rule, an
+/// unknown key, a missing required key, or a version other than 1.
+///
+/// ```
+/// let err = engine::validate::scenario_from_json("{\"version\": 2}").unwrap_err();
+/// assert!(err.to_string().starts_with("version:"));
+/// ```
+pub fn scenario_from_json(text: &str) -> Result<Scenario, ScenarioError> {
+    match serde_json::from_str::<Value>(text) {
+        Ok(v) => scenario_from_value(&v),
+        Err(e) => Err(ScenarioError {
+            problems: vec![Problem {
+                path: "scenario".into(),
+                message: format!(
+                    "not valid JSON: {} (line {}, column {})",
+                    json_error_kind(&e),
+                    e.line(),
+                    e.column()
+                ),
+            }],
+        }),
+    }
+}
+
+fn json_error_kind(e: &serde_json::Error) -> String {
+    // serde_json's Display appends " at line L column C"; keep only the description.
+    let s = e.to_string();
+    match s.find(" at line ") {
+        Some(i) => s.get(..i).unwrap_or(&s).to_string(),
+        None => s,
+    }
+}
+
+/// Validate an already-parsed JSON value into a [`Scenario`].
+///
+/// # Errors
+/// As [`scenario_from_json`], except for JSON syntax.
+pub fn scenario_from_value(v: &Value) -> Result<Scenario, ScenarioError> {
+    let mut p = Problems::default();
+    let Some(map) = v.as_object() else {
+        p.push(
+            "scenario",
+            format!("must be a JSON object, got {}", type_name(v)),
+        );
+        return Err(p.into_error());
+    };
+    let mut top = Fields::new("", map);
+
+    // The version is checked first: a newer file gets one clear message, not a list of its keys.
+    match top.get("version") {
+        None => p.push(
+            "version",
+            "required: this calculator reads format version 1".into(),
+        ),
+        Some(Value::Number(n)) if n.as_f64() == Some(1.0) => {}
+        Some(Value::Number(n)) if n.as_f64().is_some_and(|x| x > 1.0) => {
+            p.push(
+                "version",
+                format!(
+                    "this scenario is format version {n}, newer than this calculator reads (version 1)"
+                ),
+            );
+            return Err(p.into_error());
+        }
+        Some(other) => p.push("version", format!("must be 1, got {}", show_value(other))),
+    }
+
+    let title = top.string(&mut p, "title");
+    let sensor = top
+        .object(&mut p, "sensor", true)
+        .and_then(|mut f| sensor(&mut p, &mut f));
+    let light = top
+        .object(&mut p, "light", true)
+        .and_then(|mut f| light(&mut p, &mut f));
+    let exposure = top
+        .object(&mut p, "exposure", true)
+        .and_then(|mut f| exposure(&mut p, &mut f));
+    let temperature_c = top.number(
+        &mut p,
+        "temperature_c",
+        Need::Default(25.0),
+        Range::new().above(-273.15).at_most_limit(1000.0),
+    );
+    let snr_threshold = top.number(
+        &mut p,
+        "snr_threshold",
+        Need::Default(1.0),
+        Range::new()
+            .above(0.0)
+            .at_least_limit(1e-3)
+            .at_most_limit(1e6),
+    );
+    top.finish(&mut p);
+
+    // Rules that join keys, checked only where both sides were readable.
+    if let (Some(s), Some(t)) = (&sensor, temperature_c) {
+        let doublings = (t - s.dark_current_reference_c) / s.dark_current_doubling_c;
+        if doublings.abs() > MAX_DOUBLINGS {
+            p.push(
+                "sensor.dark_current_doubling_c",
+                format!(
+                    "the dark current would double {} times between sensor.dark_current_reference_c \
+                     and temperature_c; at most {MAX_DOUBLINGS} (this calculator's limit)",
+                    show(doublings)
+                ),
+            );
+        }
+    }
+
+    match (title, sensor, light, exposure, temperature_c, snr_threshold) {
+        (title, Some(sensor), Some(light), Some(exposure), Some(temperature_c), Some(snr))
+            if p.is_empty() =>
+        {
+            Ok(Scenario {
+                title,
+                sensor,
+                light,
+                exposure,
+                temperature_c,
+                snr_threshold: snr,
+            })
+        }
+        _ => Err(p.into_error()),
+    }
+}
+
+fn sensor(p: &mut Problems, f: &mut Fields<'_>) -> Option<Sensor> {
+    let positive = || Range::new().above(0.0);
+    let pixel_pitch_um = f.number(
+        p,
+        "pixel_pitch_um",
+        Need::Required,
+        positive().at_least_limit(1e-3).at_most_limit(1e4),
+    );
+    let quantum_efficiency = f.number(
+        p,
+        "quantum_efficiency",
+        Need::Required,
+        positive().at_least_limit(1e-6).at_most(1.0),
+    );
+    let full_well_e = f.number(
+        p,
+        "full_well_e",
+        Need::Required,
+        positive().at_most_limit(1e12),
+    );
+    let read_noise_e = f.number(
+        p,
+        "read_noise_e",
+        Need::Required,
+        Range::new().at_least(0.0).at_most_limit(1e6),
+    );
+    let capacitance = f.number(
+        p,
+        "sense_node_capacitance_ff",
+        Need::Optional,
+        positive().at_least_limit(1e-6).at_most_limit(1e9),
+    );
+    let gain_uv = f.number(
+        p,
+        "conversion_gain_uv_per_e",
+        Need::Optional,
+        positive().at_least_limit(1e-6).at_most_limit(1e9),
+    );
+    let readout = f
+        .choice(p, "readout", &["cds", "dds", "single"], Some("cds"))
+        .map(|s| match s {
+            "dds" => Readout::Dds,
+            "single" => Readout::Single,
+            _ => Readout::Cds,
+        });
+    let dark_current_e_per_s = f.number(
+        p,
+        "dark_current_e_per_s",
+        Need::Required,
+        Range::new().at_least(0.0).at_most_limit(1e12),
+    );
+    let dark_current_reference_c = f.number(
+        p,
+        "dark_current_reference_c",
+        Need::Default(25.0),
+        Range::new().above(-273.15).at_most_limit(1000.0),
+    );
+    let dark_current_doubling_c = f.number(
+        p,
+        "dark_current_doubling_c",
+        Need::Default(6.5),
+        positive().at_most_limit(1e6),
+    );
+    let dsnu_e = f.number(
+        p,
+        "dsnu_e",
+        Need::Default(0.0),
+        Range::new().at_least(0.0).at_most_limit(1e9),
+    );
+    let prnu_percent = f.number(
+        p,
+        "prnu_percent",
+        Need::Default(0.0),
+        Range::new().at_least(0.0).at_most_limit(100.0),
+    );
+    let adc_bits = f.integer(p, "adc_bits", None, 1, 32);
+    let system_gain_dn_per_e = f.number(
+        p,
+        "system_gain_dn_per_e",
+        Need::Required,
+        positive().at_least_limit(1e-9).at_most_limit(1e9),
+    );
+    let black_level_dn = f.number(
+        p,
+        "black_level_dn",
+        Need::Default(0.0),
+        Range::new().at_least(0.0),
+    );
+    f.finish(p);
+
+    if let (Some(bits), Some(black)) = (adc_bits, black_level_dn) {
+        let full_scale = f64::from(bits).exp2() - 1.0;
+        if black >= full_scale {
+            p.push(
+                &f.path_of("black_level_dn"),
+                format!(
+                    "must be below the ADC's full scale 2^adc_bits − 1 = {}, got {}",
+                    show(full_scale),
+                    show(black)
+                ),
+            );
+        }
+    }
+    if let Some(r @ (Readout::Dds | Readout::Single)) = readout {
+        if capacitance.is_none()
+            && gain_uv.is_none()
+            && !f.had_problem_at(p, "sense_node_capacitance_ff")
+        {
+            p.push(
+                &f.path_of("sense_node_capacitance_ff"),
+                format!(
+                    "required when sensor.readout is \"{}\": reset noise needs the sense-node \
+                     capacitance; give it, or sensor.conversion_gain_uv_per_e to derive it",
+                    r.as_str()
+                ),
+            );
+        }
+    }
+
+    Some(Sensor {
+        pixel_pitch_um: pixel_pitch_um?,
+        quantum_efficiency: quantum_efficiency?,
+        full_well_e: full_well_e?,
+        read_noise_e: read_noise_e?,
+        sense_node_capacitance_ff: capacitance,
+        conversion_gain_uv_per_e: gain_uv,
+        readout: readout?,
+        dark_current_e_per_s: dark_current_e_per_s?,
+        dark_current_reference_c: dark_current_reference_c?,
+        dark_current_doubling_c: dark_current_doubling_c?,
+        dsnu_e: dsnu_e?,
+        prnu_percent: prnu_percent?,
+        adc_bits: adc_bits?,
+        system_gain_dn_per_e: system_gain_dn_per_e?,
+        black_level_dn: black_level_dn?,
+    })
+}
+
+/// The light kinds of format version 1, each with the keys that mark it.
+const LIGHT_KINDS: &[(&str, &[&str])] = &[
+    ("photon_flux_per_um2_s", &["photon_flux_per_um2_s"]),
+    (
+        "irradiance_w_per_m2",
+        &["irradiance_w_per_m2", "wavelength_nm"],
+    ),
+    ("photons_per_pixel", &["photons_per_pixel"]),
+];
+
+fn light(p: &mut Problems, f: &mut Fields<'_>) -> Option<Light> {
+    let present: Vec<&str> = LIGHT_KINDS
+        .iter()
+        .map(|(k, _)| *k)
+        .filter(|k| f.has(k))
+        .collect();
+    let kind = match present.as_slice() {
+        [one] => Some(*one),
+        [] => {
+            // `wavelength_nm` alone is an incomplete irradiance, named as such.
+            if f.has("wavelength_nm") {
+                Some("irradiance_w_per_m2")
+            } else {
+                p.push(
+                    &f.prefix(),
+                    "give exactly one light kind: photon_flux_per_um2_s, \
+                     irradiance_w_per_m2 with wavelength_nm, or photons_per_pixel; got none"
+                        .into(),
+                );
+                None
+            }
+        }
+        many => {
+            p.push(
+                &f.prefix(),
+                format!("give exactly one light kind; got {}", many.join(" and ")),
+            );
+            None
+        }
+    };
+    // Read the keys of the chosen kind; the others are then reported as unknown by `finish`,
+    // unless several kinds were given, which was reported above.
+    let non_negative = || Range::new().at_least(0.0);
+    let light = match kind {
+        Some("photon_flux_per_um2_s") => f
+            .number(
+                p,
+                "photon_flux_per_um2_s",
+                Need::Required,
+                non_negative().at_most_limit(1e20),
+            )
+            .map(|v| Light::PhotonFlux {
+                photon_flux_per_um2_s: v,
+            }),
+        Some("irradiance_w_per_m2") => {
+            let e = f.number(
+                p,
+                "irradiance_w_per_m2",
+                Need::Required,
+                non_negative().at_most_limit(1e9),
+            );
+            let l = f.number(
+                p,
+                "wavelength_nm",
+                Need::Required,
+                Range::new().above(0.0).at_most_limit(1e6),
+            );
+            match (e, l) {
+                (Some(e), Some(l)) => Some(Light::Irradiance {
+                    irradiance_w_per_m2: e,
+                    wavelength_nm: l,
+                }),
+                _ => None,
+            }
+        }
+        Some(_) => f
+            .number(
+                p,
+                "photons_per_pixel",
+                Need::Required,
+                non_negative().at_most_limit(1e20),
+            )
+            .map(|v| Light::PhotonsPerPixel {
+                photons_per_pixel: v,
+            }),
+        None => {
+            for k in present {
+                f.mark_used(k);
+            }
+            None
+        }
+    };
+    if kind.is_none() {
+        for (_, keys) in LIGHT_KINDS {
+            for k in *keys {
+                f.mark_used(k);
+            }
+        }
+    }
+    f.finish(p);
+    light
+}
+
+fn exposure(p: &mut Problems, f: &mut Fields<'_>) -> Option<Exposure> {
+    let time_s = f.number(
+        p,
+        "time_s",
+        Need::Required,
+        Range::new()
+            .above(0.0)
+            .at_least_limit(1e-12)
+            .at_most_limit(1e6),
+    );
+    let frames = f.integer(p, "frames_averaged", Some(1), 1, 1_000_000);
+    let binning = f.integer(p, "binning", Some(1), 1, 1000);
+    let mode = f
+        .choice(p, "binning_mode", &["charge", "digital"], Some("digital"))
+        .map(|s| {
+            if s == "charge" {
+                BinningMode::Charge
+            } else {
+                BinningMode::Digital
+            }
+        });
+    f.finish(p);
+    Some(Exposure {
+        time_s: time_s?,
+        frames_averaged: frames?,
+        binning: binning?,
+        binning_mode: mode?,
+    })
+}
+
+// ---------------------------------------------------------------------------------------------
+// The reader: typed access to one JSON object, remembering which keys were read.
+
+#[derive(Default)]
+struct Problems(Vec<Problem>);
+
+impl Problems {
+    fn push(&mut self, path: &str, message: String) {
+        self.0.push(Problem {
+            path: path.to_string(),
+            message,
+        });
+    }
+    fn is_empty(&self) -> bool {
+        self.0.is_empty()
+    }
+    fn into_error(self) -> ScenarioError {
+        ScenarioError { problems: self.0 }
+    }
+}
+
+/// Whether a key must be there, may be absent, or takes a default.
+#[derive(Clone, Copy)]
+enum Need {
+    Required,
+    Optional,
+    Default(f64),
+}
+
+/// The allowed range of a number: the format's rule, then this calculator's limits.
+#[derive(Clone, Copy, Default)]
+struct Range {
+    /// (bound, inclusive): the format's rule.
+    min: Option<(f64, bool)>,
+    max: Option<(f64, bool)>,
+}
+
+impl Range {
+    fn new() -> Self {
+        Self::default()
+    }
+    fn above(mut self, v: f64) -> Self {
+        self.min = Some((v, false));
+        self
+    }
+    fn at_least(mut self, v: f64) -> Self {
+        self.min = Some((v, true));
+        self
+    }
+    /// A lower limit of this calculator, tighter than the format's rule; checked after it.
+    fn at_least_limit(self, v: f64) -> RangeWithLimit {
+        RangeWithLimit {
+            rule: self,
+            low_limit: Some(v),
+            high_limit: None,
+        }
+    }
+    fn at_most_limit(self, v: f64) -> RangeWithLimit {
+        RangeWithLimit {
+            rule: self,
+            low_limit: None,
+            high_limit: Some(v),
+        }
+    }
+}
+
+/// A format rule plus this calculator's own limits (which keep every figure finite).
+#[derive(Clone, Copy)]
+struct RangeWithLimit {
+    rule: Range,
+    low_limit: Option<f64>,
+    high_limit: Option<f64>,
+}
+
+impl RangeWithLimit {
+    fn at_most_limit(mut self, v: f64) -> Self {
+        self.high_limit = Some(v);
+        self
+    }
+    fn at_most(mut self, v: f64) -> Self {
+        self.rule.max = Some((v, true));
+        self
+    }
+}
+
+impl From<Range> for RangeWithLimit {
+    fn from(rule: Range) -> Self {
+        RangeWithLimit {
+            rule,
+            low_limit: None,
+            high_limit: None,
+        }
+    }
+}
+
+impl RangeWithLimit {
+    /// The message for a value outside the range, or `None` when it is inside.
+    fn check(&self, v: f64) -> Option<String> {
+        if let Some((b, inclusive)) = self.rule.min {
+            let ok = if inclusive { v >= b } else { v > b };
+            if !ok {
+                let op = if inclusive { "≥" } else { ">" };
+                return Some(format!("must be {op} {}, got {}", show(b), show(v)));
+            }
+        }
+        if let Some((b, inclusive)) = self.rule.max {
+            let ok = if inclusive { v <= b } else { v < b };
+            if !ok {
+                let op = if inclusive { "≤" } else { "<" };
+                return Some(format!("must be {op} {}, got {}", show(b), show(v)));
+            }
+        }
+        if let Some(b) = self.low_limit {
+            if v < b {
+                return Some(format!(
+                    "must be at least {} (this calculator's limit), got {}",
+                    show(b),
+                    show(v)
+                ));
+            }
+        }
+        if let Some(b) = self.high_limit {
+            if v > b {
+                return Some(format!(
+                    "must be at most {} (this calculator's limit), got {}",
+                    show(b),
+                    show(v)
+                ));
+            }
+        }
+        None
+    }
+}
+
+struct Fields<'v> {
+    prefix: String,
+    map: &'v Map<String, Value>,
+    used: Vec<String>,
+}
+
+impl<'v> Fields<'v> {
+    fn new(prefix: &str, map: &'v Map<String, Value>) -> Self {
+        Fields {
+            prefix: prefix.to_string(),
+            map,
+            used: Vec::new(),
+        }
+    }
+
+    fn prefix(&self) -> String {
+        if self.prefix.is_empty() {
+            "scenario".to_string()
+        } else {
+            self.prefix.clone()
+        }
+    }
+
+    fn path_of(&self, key: &str) -> String {
+        if self.prefix.is_empty() {
+            key.to_string()
+        } else {
+            format!("{}.{key}", self.prefix)
+        }
+    }
+
+    fn has(&self, key: &str) -> bool {
+        self.map.get(key).is_some_and(|v| !v.is_null())
+    }
+
+    fn mark_used(&mut self, key: &str) {
+        self.used.push(key.to_string());
+    }
+
+    fn had_problem_at(&self, p: &Problems, key: &str) -> bool {
+        let path = self.path_of(key);
+        p.0.iter().any(|q| q.path == path)
+    }
+
+    /// The value of `key`, marking it read; `null` counts as absent.
+    fn get(&mut self, key: &str) -> Option<&'v Value> {
+        self.mark_used(key);
+        self.map.get(key).filter(|v| !v.is_null())
+    }
+
+    fn number(
+        &mut self,
+        p: &mut Problems,
+        key: &str,
+        need: Need,
+        range: impl Into<RangeWithLimit>,
+    ) -> Option<f64> {
+        let path = self.path_of(key);
+        let v = match (self.get(key), need) {
+            (None, Need::Required) => {
+                p.push(&path, "required, missing".into());
+                return None;
+            }
+            (None, Need::Optional) => return None,
+            (None, Need::Default(d)) => return Some(d),
+            (Some(v), _) => v,
+        };
+        let Some(x) = v.as_f64().filter(|x| x.is_finite()) else {
+            p.push(&path, format!("must be a number, got {}", show_value(v)));
+            return None;
+        };
+        match range.into().check(x) {
+            Some(msg) => {
+                p.push(&path, msg);
+                None
+            }
+            None => Some(x),
+        }
+    }
+
+    fn integer(
+        &mut self,
+        p: &mut Problems,
+        key: &str,
+        default: Option<u32>,
+        min: u32,
+        max: u32,
+    ) -> Option<u32> {
+        let path = self.path_of(key);
+        let v = match (self.get(key), default) {
+            (None, Some(d)) => return Some(d),
+            (None, None) => {
+                p.push(&path, "required, missing".into());
+                return None;
+            }
+            (Some(v), _) => v,
+        };
+        let Some(x) = v.as_f64().filter(|x| x.is_finite()) else {
+            p.push(
+                &path,
+                format!("must be a whole number, got {}", show_value(v)),
+            );
+            return None;
+        };
+        if x.fract() != 0.0 {
+            p.push(&path, format!("must be a whole number, got {}", show(x)));
+            return None;
+        }
+        if x < f64::from(min) || x > f64::from(max) {
+            p.push(
+                &path,
+                format!(
+                    "must be a whole number from {min} to {max}, got {}",
+                    show(x)
+                ),
+            );
+            return None;
+        }
+        // OK because x is whole and within [min, max] ⊂ u32.
+        #[allow(clippy::cast_possible_truncation, clippy::cast_sign_loss)]
+        Some(x as u32)
+    }
+
+    fn choice(
+        &mut self,
+        p: &mut Problems,
+        key: &str,
+        allowed: &[&'static str],
+        default: Option<&'static str>,
+    ) -> Option<&'static str> {
+        let path = self.path_of(key);
+        let v = match (self.get(key), default) {
+            (None, Some(d)) => return Some(d),
+            (None, None) => {
+                p.push(&path, "required, missing".into());
+                return None;
+            }
+            (Some(v), _) => v,
+        };
+        let quoted: Vec<String> = allowed.iter().map(|a| format!("\"{a}\"")).collect();
+        match v.as_str().and_then(|s| allowed.iter().find(|a| **a == s)) {
+            Some(a) => Some(a),
+            None => {
+                p.push(
+                    &path,
+                    format!(
+                        "must be one of {}, got {}",
+                        quoted.join(", "),
+                        show_value(v)
+                    ),
+                );
+                None
+            }
+        }
+    }
+
+    fn string(&mut self, p: &mut Problems, key: &str) -> Option<String> {
+        match self.get(key) {
+            None => None,
+            Some(Value::String(s)) => Some(s.clone()),
+            Some(v) => {
+                p.push(
+                    &self.path_of(key),
+                    format!("must be text, got {}", show_value(v)),
+                );
+                None
+            }
+        }
+    }
+
+    fn object(&mut self, p: &mut Problems, key: &str, required: bool) -> Option<Fields<'v>> {
+        let path = self.path_of(key);
+        match self.get(key) {
+            None => {
+                if required {
+                    p.push(&path, "required, missing".into());
+                }
+                None
+            }
+            Some(Value::Object(m)) => Some(Fields::new(&path, m)),
+            Some(v) => {
+                p.push(&path, format!("must be an object, got {}", show_value(v)));
+                None
+            }
+        }
+    }
+
+    /// Report every key that was not read, except extension keys starting with `x_`.
+    fn finish(&self, p: &mut Problems) {
+        for key in self.map.keys() {
+            if key.starts_with("x_") || self.used.iter().any(|u| u == key) {
+                continue;
+            }
+            let hint = self
+                .used
+                .iter()
+                .find(|u| near_miss(u, key))
+                .map(|u| format!(" (did you mean \"{u}\"?)"))
+                .unwrap_or_default();
+            p.push(
+                &self.path_of(key),
+                format!("unknown key{hint}; keys of your own must start with \"x_\""),
+            );
+        }
+    }
+}
+
+/// Whether two key names differ only a little (a typo): same after dropping `_` and case,
+/// or one edit apart.
+fn near_miss(a: &str, b: &str) -> bool {
+    let norm = |s: &str| s.to_ascii_lowercase().replace('_', "");
+    if norm(a) == norm(b) {
+        return true;
+    }
+    edit_distance(a, b) <= 2
+}
+
+fn edit_distance(a: &str, b: &str) -> usize {
+    let a: Vec<char> = a.chars().collect();
+    let b: Vec<char> = b.chars().collect();
+    let mut prev: Vec<usize> = (0..=b.len()).collect();
+    for (i, ca) in a.iter().enumerate() {
+        let mut cur = Vec::with_capacity(b.len() + 1);
+        cur.push(i + 1);
+        for (j, cb) in b.iter().enumerate() {
+            let sub = prev.get(j).copied().unwrap_or(usize::MAX) + usize::from(ca != cb);
+            let del = prev
+                .get(j + 1)
+                .copied()
+                .unwrap_or(usize::MAX)
+                .saturating_add(1);
+            let ins = cur.get(j).copied().unwrap_or(usize::MAX).saturating_add(1);
+            cur.push(sub.min(del).min(ins));
+        }
+        prev = cur;
+    }
+    prev.last().copied().unwrap_or(0)
+}
+
+fn type_name(v: &Value) -> &'static str {
+    match v {
+        Value::Null => "null",
+        Value::Bool(_) => "true or false",
+        Value::Number(_) => "a number",
+        Value::String(_) => "text",
+        Value::Array(_) => "a list",
+        Value::Object(_) => "an object",
+    }
+}
+
+/// A value as it appears in a message: numbers and short text shown, the rest by type.
+fn show_value(v: &Value) -> String {
+    match v {
+        Value::Number(n) => n.to_string(),
+        Value::String(s) if s.chars().count() <= 40 => format!("\"{s}\""),
+        Value::String(_) => "long text".into(),
+        Value::Bool(b) => b.to_string(),
+        other => type_name(other).into(),
+    }
+}
+
+/// A number as it appears in a message: plain for everyday magnitudes, exponent otherwise.
+fn show(x: f64) -> String {
+    let a = x.abs();
+    if a != 0.0 && !(1e-4..1e7).contains(&a) {
+        format!("{x:e}")
+    } else {
+        format!("{x}")
+    }
+}
