@@ -1,1 +1,380 @@
-//! placeholder
+//! Reference checks: the engine's formulas and whole-model figures against published values.
+//!
+//! Every expected number names its source beside it (REFERENCES.md section, and the
+//! publication or library it cites there). This file checks physics; the format's own
+//! arithmetic is checked by `conformance.rs`.
+
+use engine::report::Report;
+use engine::{dark, photon, quantization, sense_node};
+use serde_json::{json, Value};
+
+/// Values quoted to 4 significant digits: the rounding alone allows a relative error of up to
+/// 0.5 in the 4th digit, i.e. 5e-4 for a leading digit of 1 (the worst case).
+const FOUR_DIGITS: f64 = 5e-4;
+/// Values quoted to 6 or 7 significant digits: half a unit in the 6th digit, worst case.
+const SIX_DIGITS: f64 = 5e-6;
+/// A system gain so high that quantization noise (1/(12 K²) = 8.3e-14 e⁻²) is far below any
+/// tolerance here; used where a published example has no quantization term.
+const NO_QUANTIZATION_GAIN: f64 = 1e6;
+
+fn assert_rel(got: f64, want: f64, tol: f64, what: &str) {
+    let rel = ((got - want) / want).abs();
+    assert!(
+        rel <= tol,
+        "{what}: got {got}, want {want} (relative error {rel:.2e} > {tol:.0e})"
+    );
+}
+
+/// Evaluate a scenario given as a JSON value; panics with the problems if it is refused.
+fn eval(v: &Value) -> Report {
+    engine::evaluate_json(&v.to_string()).unwrap_or_else(|e| panic!("refused:\n{e}\n{v}"))
+}
+
+/// A sensor with the EMVA 1288 worked example's figures (REFERENCES.md §4): η = 0.6,
+/// K = 0.25 DN/e⁻, σ_d = 2.5 e⁻, μ_e.sat = 10 000 e⁻, 3.45 µm; no dark current.
+fn emva_example(photons_per_pixel: f64, dsnu_e: f64, prnu_percent: f64) -> Value {
+    json!({
+        "version": 1,
+        "sensor": {
+            "pixel_pitch_um": 3.45, "quantum_efficiency": 0.6, "full_well_e": 10000,
+            "read_noise_e": 2.5, "dark_current_e_per_s": 0, "adc_bits": 16,
+            "system_gain_dn_per_e": 0.25, "dsnu_e": dsnu_e, "prnu_percent": prnu_percent
+        },
+        "light": { "photons_per_pixel": photons_per_pixel },
+        "exposure": { "time_s": 0.01 }
+    })
+}
+
+// ---- §2 reset (kTC) noise and conversion gain ------------------------------------------------
+
+/// Source: REFERENCES.md §2 check-value table (√(kTC)/q, √(2kTC)/q, q/C), computed there with
+/// scipy.constants (CODATA 2018); kT/C after El Gamal, Stanford EE 392B notes 6.
+const KTC_TABLE: &[(f64, f64, f64, f64, f64)] = &[
+    // (C fF, T K, CG µV/e⁻, √(kTC)/q e⁻, √(2kTC)/q e⁻)
+    (1.0, 300.0, 160.2, 12.70, 17.96),
+    (2.0, 300.0, 80.11, 17.96, 25.41),
+    (5.0, 300.0, 32.04, 28.40, 40.17),
+    (10.0, 300.0, 16.02, 40.17, 56.81),
+    (1.0, 273.15, 160.2, 12.12, 17.14),
+    (2.0, 273.15, 80.11, 17.14, 24.24),
+    (5.0, 273.15, 32.04, 27.10, 38.33),
+    (10.0, 273.15, 16.02, 38.33, 54.21),
+];
+
+#[test]
+fn reset_noise_and_conversion_gain_match_the_ktc_table() {
+    for &(c, t, cg, single, dds) in KTC_TABLE {
+        assert_rel(
+            sense_node::conversion_gain_uv_per_e(c),
+            cg,
+            FOUR_DIGITS,
+            "q/C",
+        );
+        let v = sense_node::reset_variance_e2(c, t);
+        assert_rel(v.sqrt(), single, FOUR_DIGITS, "√(kTC)/q");
+        assert_rel((2.0 * v).sqrt(), dds, FOUR_DIGITS, "√(2kTC)/q");
+    }
+}
+
+#[test]
+fn whole_model_reset_noise_follows_the_readout() {
+    // Source: REFERENCES.md §2 table (2 fF, 300 K = 26.85 °C): single 17.96 e⁻, DDS 25.41 e⁻;
+    // CDS cancels reset noise (Fossum & Hondongwa 2014, from memory).
+    for (readout, want) in [("single", Some(17.96)), ("dds", Some(25.41)), ("cds", None)] {
+        let r = eval(&json!({
+            "version": 1,
+            "sensor": {"pixel_pitch_um": 3, "quantum_efficiency": 0.5, "full_well_e": 10000,
+                "read_noise_e": 2, "sense_node_capacitance_ff": 2.0, "readout": readout,
+                "dark_current_e_per_s": 0, "adc_bits": 12, "system_gain_dn_per_e": 0.3},
+            "light": {"photons_per_pixel": 100}, "exposure": {"time_s": 0.01},
+            "temperature_c": 26.85
+        }));
+        match want {
+            Some(w) => assert_rel(r.noise_e.reset, w, FOUR_DIGITS, readout),
+            None => assert_eq!(r.noise_e.reset, 0.0, "cds leaves no reset noise"),
+        }
+        // The derived conversion gain is q/C: 80.11 µV/e⁻ at 2 fF (REFERENCES.md §2).
+        assert_rel(
+            r.conversion_gain_uv_per_e.unwrap_or(0.0),
+            80.11,
+            FOUR_DIGITS,
+            "derived q/C",
+        );
+    }
+}
+
+// ---- §3 quantization --------------------------------------------------------------------------
+
+#[test]
+fn quantization_noise_matches_the_table() {
+    // Source: REFERENCES.md §3 table, σ_q = 1/(√12·K) (Bennett 1948; EMVA 1288, from memory).
+    for (k, want) in [
+        (0.05, 5.774),
+        (0.1, 2.887),
+        (0.25, 1.155),
+        (0.5, 0.5774),
+        (1.0, 0.2887),
+        (2.0, 0.1443),
+    ] {
+        assert_rel(
+            quantization::quantization_variance_e2(k).sqrt(),
+            want,
+            FOUR_DIGITS,
+            "σ_q",
+        );
+    }
+}
+
+// ---- §5 photon flux ---------------------------------------------------------------------------
+
+#[test]
+fn photon_energy_and_flux_match_the_monochromatic_values() {
+    // Source: REFERENCES.md §5 "Monochromatic check values" (E_ph = hc/λ with CODATA 2018).
+    assert_rel(
+        photon::photon_energy_j(550.0),
+        3.611720e-19,
+        SIX_DIGITS,
+        "E_ph(550 nm)",
+    );
+    assert_rel(
+        photon::photon_energy_j(555.0),
+        3.579182e-19,
+        SIX_DIGITS,
+        "E_ph(555 nm)",
+    );
+    assert_rel(
+        photon::photon_energy_j(850.0),
+        2.336995e-19,
+        SIX_DIGITS,
+        "E_ph(850 nm)",
+    );
+    assert_rel(
+        photon::photon_flux_per_um2_s(1.0, 550.0),
+        2.769e6,
+        FOUR_DIGITS,
+        "Φ(550)",
+    );
+    assert_rel(
+        photon::photon_flux_per_um2_s(1.0, 555.0),
+        2.794e6,
+        FOUR_DIGITS,
+        "Φ(555)",
+    );
+    assert_rel(
+        photon::photon_flux_per_um2_s(1.0, 850.0),
+        4.279e6,
+        FOUR_DIGITS,
+        "Φ(850)",
+    );
+    // 1 lx at 555 nm is 1/683 W/m² (V = 1, K_m = 683 lm/W): 4090.7 photons s⁻¹ µm⁻².
+    assert_rel(
+        photon::photon_flux_per_um2_s(1.0 / 683.0, 555.0),
+        4090.7,
+        FOUR_DIGITS,
+        "1 lx",
+    );
+}
+
+#[test]
+fn whole_model_counts_photons_from_irradiance() {
+    // Source: REFERENCES.md §5: 1 W/m² at 850 nm = 4.279e6 photons s⁻¹ µm⁻²; EMVA 1288 eq. for
+    // μ_p = A·E·t·λ/(hc) (from memory). A (2 µm)² pixel for 1 ms holds 4 × 4.279e3 photons.
+    let r = eval(&json!({
+        "version": 1,
+        "sensor": {"pixel_pitch_um": 2, "quantum_efficiency": 0.5, "full_well_e": 100000,
+            "read_noise_e": 2, "dark_current_e_per_s": 0, "adc_bits": 16, "system_gain_dn_per_e": 0.5},
+        "light": {"irradiance_w_per_m2": 1.0, "wavelength_nm": 850}, "exposure": {"time_s": 0.001}
+    }));
+    assert_rel(r.photons_per_pixel, 4.0 * 4.279e3, FOUR_DIGITS, "μ_p");
+    assert_rel(r.signal_e, 0.5 * 4.0 * 4.279e3, FOUR_DIGITS, "μ_e = η μ_p");
+}
+
+// ---- §4 EMVA 1288 worked example ---------------------------------------------------------------
+
+/// Source: REFERENCES.md §4 worked example, "SNR at selected exposures" table (EMVA 1288
+/// Release 4.0 Linear eqs. for SNR and SNR_tot, from memory; values computed there with numpy).
+const EMVA_SNR_TABLE: &[(f64, f64, f64, f64)] = &[
+    // (μ_p, SNR temporal, SNR dB, SNR_tot with DSNU 1 e⁻ and PRNU 1 %)
+    (5.0, 0.9222, -0.7038, 0.8814),
+    (10.0, 1.628, 4.233, 1.571),
+    (100.0, 7.298, 17.26, 7.226),
+    (1000.0, 24.34, 27.73, 23.63),
+    (10000.0, 77.41, 37.78, 61.21),
+    (16667.0, 99.96, 40.00, 70.70),
+];
+
+#[test]
+fn emva_worked_example_snr_table() {
+    for &(mu_p, snr, snr_db, snr_tot) in EMVA_SNR_TABLE {
+        let r = eval(&emva_example(mu_p, 1.0, 1.0));
+        assert_rel(r.snr.temporal, snr, FOUR_DIGITS, "SNR");
+        // dB values are quoted to 2 decimals: half a unit in the last place.
+        let db = r.snr.temporal_db.unwrap_or(f64::NAN);
+        assert!(
+            (db - snr_db).abs() <= 0.005,
+            "SNR dB at μp={mu_p}: got {db}, want {snr_db}"
+        );
+        assert_rel(r.snr.total, snr_tot, FOUR_DIGITS, "SNR_tot");
+    }
+}
+
+#[test]
+fn emva_worked_example_threshold_range_and_maximum() {
+    // Source: REFERENCES.md §4 worked example: μ_e.min (exact root) = 3.29881 e⁻,
+    // μ_p.min = 5.49802 photons, DR = 3031 (69.63 dB, 11.57 bits), SNR at saturation 99.96.
+    let r = eval(&emva_example(1000.0, 0.0, 0.0));
+    assert_rel(r.min_detectable.signal_e, 3.29881, SIX_DIGITS, "μ_e.min");
+    assert_rel(
+        r.min_detectable.photons_per_pixel,
+        5.49802,
+        SIX_DIGITS,
+        "μ_p.min",
+    );
+    let dr = r.dynamic_range;
+    assert_rel(dr.ratio.unwrap_or(0.0), 3031.0, FOUR_DIGITS, "DR");
+    assert!(
+        (dr.db.unwrap_or(0.0) - 69.63).abs() <= 0.005,
+        "DR dB {:?}",
+        dr.db
+    );
+    assert!(
+        (dr.stops.unwrap_or(0.0) - 11.57).abs() <= 0.005,
+        "DR bits {:?}",
+        dr.stops
+    );
+    assert_rel(
+        r.max_snr.unwrap_or(0.0),
+        99.96,
+        FOUR_DIGITS,
+        "SNR at μe.sat",
+    );
+    // The same example's σ_y.dark² = K²σ_d² + 1/12 = 0.473958 DN²: the model's read and
+    // quantization noise in DN add up to it.
+    let dark_dn2 = r.noise_dn.read.powi(2) + r.noise_dn.quantization.powi(2);
+    assert_rel(dark_dn2, 0.473958, SIX_DIGITS, "σ²_y.dark");
+}
+
+// ---- §8 detection threshold -------------------------------------------------------------------
+
+#[test]
+fn threshold_signal_matches_the_rose_and_snr_one_values() {
+    // Source: REFERENCES.md §8 check values, σ_r = 1 e⁻, d = 0.01 e⁻: SNR = 1 needs
+    // 1/2 + √(1/4 + σ_r² + d) = 1.6225 e⁻; the Rose criterion k = 5 (Rose 1948) needs 25.97 e⁻.
+    for (k, want) in [(1.0, 1.6225), (5.0, 25.97)] {
+        let r = eval(&json!({
+            "version": 1,
+            "sensor": {"pixel_pitch_um": 3, "quantum_efficiency": 0.5, "full_well_e": 10000,
+                "read_noise_e": 1.0, "dark_current_e_per_s": 1.0, "adc_bits": 32,
+                "system_gain_dn_per_e": NO_QUANTIZATION_GAIN},
+            "light": {"photons_per_pixel": 0}, "exposure": {"time_s": 0.01},
+            "snr_threshold": k
+        }));
+        assert_rel(
+            r.min_detectable.signal_e,
+            want,
+            FOUR_DIGITS,
+            "threshold signal",
+        );
+    }
+}
+
+// ---- §9 binning and frame averaging ------------------------------------------------------------
+
+fn binning_case(binning: u32, mode: &str) -> Report {
+    // S = 10 e⁻ per pixel (η = 1), σ_r = 3 e⁻, no dark, negligible quantization.
+    eval(&json!({
+        "version": 1,
+        "sensor": {"pixel_pitch_um": 3, "quantum_efficiency": 1.0, "full_well_e": 10000,
+            "read_noise_e": 3.0, "dark_current_e_per_s": 0, "adc_bits": 32,
+            "system_gain_dn_per_e": NO_QUANTIZATION_GAIN},
+        "light": {"photons_per_pixel": 10}, "exposure": {"time_s": 0.01, "binning": binning,
+            "binning_mode": mode}
+    }))
+}
+
+#[test]
+fn binning_check_values() {
+    // Source: REFERENCES.md §9 (Janesick, Scientific CCDs 2001, from memory): S = 10 e⁻,
+    // σ_r = 3 e⁻, 2×2: single pixel 2.294, charge-binned 5.714, digital sum 4.588;
+    // read noise 3 e⁻ charge-binned, 6 e⁻ digital sum.
+    assert_rel(
+        binning_case(1, "digital").snr.temporal,
+        2.294,
+        FOUR_DIGITS,
+        "single",
+    );
+    let charge = binning_case(2, "charge");
+    let digital = binning_case(2, "digital");
+    assert_rel(charge.snr.temporal, 5.714, FOUR_DIGITS, "charge 2×2");
+    assert_rel(digital.snr.temporal, 4.588, FOUR_DIGITS, "digital 2×2");
+    assert_rel(charge.noise_e.read, 3.0, SIX_DIGITS, "charge read noise");
+    assert_rel(digital.noise_e.read, 6.0, SIX_DIGITS, "digital read noise");
+}
+
+#[test]
+fn frame_averaging_check_values() {
+    // Source: REFERENCES.md §9: temporal 5 e⁻ and fixed pattern 2 e⁻ per frame, N = 16:
+    // temporal 1.250 e⁻, FPN 2.000 e⁻, total 2.358 e⁻ (single frame 5.385 e⁻).
+    let case = |n: u32| {
+        eval(&json!({
+            "version": 1,
+            "sensor": {"pixel_pitch_um": 3, "quantum_efficiency": 0.5, "full_well_e": 10000,
+                "read_noise_e": 5.0, "dark_current_e_per_s": 0, "dsnu_e": 2.0, "adc_bits": 32,
+                "system_gain_dn_per_e": NO_QUANTIZATION_GAIN},
+            "light": {"photons_per_pixel": 0}, "exposure": {"time_s": 0.01, "frames_averaged": n}
+        }))
+    };
+    let one = case(1);
+    let sixteen = case(16);
+    assert_rel(one.noise_e.total, 5.385, FOUR_DIGITS, "single-frame total");
+    assert_rel(
+        sixteen.noise_e.temporal,
+        1.250,
+        FOUR_DIGITS,
+        "averaged temporal",
+    );
+    assert_rel(sixteen.noise_e.dsnu, 2.000, FOUR_DIGITS, "averaged FPN");
+    assert_rel(sixteen.noise_e.total, 2.358, FOUR_DIGITS, "averaged total");
+}
+
+// ---- §7 dark current and temperature -----------------------------------------------------------
+
+/// Source: REFERENCES.md §7 doubling-rule table, I/I_ref with I_ref at 20 °C (common practice
+/// 5–8 °C doubling; EMVA 1288 optional temperature dependence, from memory).
+const DOUBLING_TABLE: &[(f64, [f64; 4])] = &[
+    // T_d, then I/I_ref at 40, 0, −20, −40 °C
+    (5.0, [16.00, 0.06250, 0.003906, 0.0002441]),
+    (6.0, [10.08, 0.09921, 0.009843, 0.0009766]),
+    (7.0, [7.246, 0.1380, 0.01905, 0.002629]),
+    (8.0, [5.657, 0.1768, 0.03125, 0.005524]),
+];
+
+#[test]
+fn temperature_doubling_law() {
+    for &(td, ratios) in DOUBLING_TABLE {
+        for (t, want) in [40.0, 0.0, -20.0, -40.0].into_iter().zip(ratios) {
+            assert_rel(
+                dark::temperature_factor(t, 20.0, td),
+                want,
+                FOUR_DIGITS,
+                "I/I_ref",
+            );
+            // The same through the whole model: 1 e⁻/s at 20 °C.
+            let r = eval(&json!({
+                "version": 1,
+                "sensor": {"pixel_pitch_um": 3, "quantum_efficiency": 0.5, "full_well_e": 10000,
+                    "read_noise_e": 2, "dark_current_e_per_s": 1.0, "dark_current_reference_c": 20,
+                    "dark_current_doubling_c": td, "adc_bits": 12, "system_gain_dn_per_e": 0.3},
+                "light": {"photons_per_pixel": 100}, "exposure": {"time_s": 1.0},
+                "temperature_c": t
+            }));
+            assert_rel(
+                r.dark_current_at_temperature_e_per_s,
+                want,
+                FOUR_DIGITS,
+                "model dark rate",
+            );
+            assert_rel(r.dark_e, want, FOUR_DIGITS, "dark charge in 1 s");
+        }
+    }
+}

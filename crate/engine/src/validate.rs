@@ -207,7 +207,7 @@ fn sensor(p: &mut Problems, f: &mut Fields<'_>) -> Option<Sensor> {
         p,
         "full_well_e",
         Need::Required,
-        positive().at_most_limit(1e12),
+        positive().at_least_limit(1.0).at_most_limit(1e12),
     );
     let read_noise_e = f.number(
         p,
@@ -858,9 +858,226 @@ fn show_value(v: &Value) -> String {
 /// A number as it appears in a message: plain for everyday magnitudes, exponent otherwise.
 fn show(x: f64) -> String {
     let a = x.abs();
-    if a != 0.0 && !(1e-4..1e7).contains(&a) {
+    if a != 0.0 && !(1e-4..1e6).contains(&a) {
         format!("{x:e}")
     } else {
         format!("{x}")
+    }
+}
+
+#[cfg(test)]
+#[allow(clippy::unwrap_used, clippy::expect_used, clippy::indexing_slicing)]
+mod tests {
+    //! Data-driven checks of the messages: one `check` helper, one line per case.
+
+    use serde_json::{json, Value};
+
+    fn valid() -> Value {
+        json!({
+            "version": 1,
+            "sensor": {"pixel_pitch_um": 3.45, "quantum_efficiency": 0.6, "full_well_e": 10000,
+                "read_noise_e": 2.5, "dark_current_e_per_s": 1, "adc_bits": 12,
+                "system_gain_dn_per_e": 0.25},
+            "light": {"photon_flux_per_um2_s": 1000},
+            "exposure": {"time_s": 0.01}
+        })
+    }
+
+    /// Apply `edit` to a valid scenario and check the problems, rendered one a line.
+    fn check(edit: impl FnOnce(&mut Value), expected: &[&str]) {
+        let mut v = valid();
+        edit(&mut v);
+        let got: Vec<String> = match super::scenario_from_value(&v) {
+            Ok(_) => vec![],
+            Err(e) => e.problems().iter().map(ToString::to_string).collect(),
+        };
+        assert_eq!(got, expected, "for {v}");
+    }
+
+    #[test]
+    fn a_valid_scenario_passes_with_defaults() {
+        let s = super::scenario_from_value(&valid()).unwrap();
+        assert_eq!(s.temperature_c, 25.0); // SCENARIO.md default
+        assert_eq!(s.snr_threshold, 1.0);
+        assert_eq!(s.sensor.dark_current_doubling_c, 6.5);
+        assert_eq!(s.exposure.frames_averaged, 1);
+    }
+
+    #[test]
+    fn rules_name_the_key_and_the_value() {
+        check(
+            |v| v["sensor"]["full_well_e"] = json!(-5),
+            &["sensor.full_well_e: must be > 0, got -5"],
+        );
+        check(
+            |v| v["sensor"]["quantum_efficiency"] = json!(1.2),
+            &["sensor.quantum_efficiency: must be ≤ 1, got 1.2"],
+        );
+        check(
+            |v| v["sensor"]["adc_bits"] = json!(12.5),
+            &["sensor.adc_bits: must be a whole number, got 12.5"],
+        );
+        check(
+            |v| v["sensor"]["adc_bits"] = json!(33),
+            &["sensor.adc_bits: must be a whole number from 1 to 32, got 33"],
+        );
+        check(
+            |v| v["sensor"]["readout"] = json!("ccd"),
+            &["sensor.readout: must be one of \"cds\", \"dds\", \"single\", got \"ccd\""],
+        );
+        check(
+            |v| v["exposure"]["time_s"] = json!("10 ms"),
+            &["exposure.time_s: must be a number, got \"10 ms\""],
+        );
+        check(
+            |v| v["temperature_c"] = json!(-300),
+            &["temperature_c: must be > -273.15, got -300"],
+        );
+        check(
+            |v| v["exposure"]["time_s"] = json!(1e7),
+            &["exposure.time_s: must be at most 1e6 (this calculator's limit), got 1e7"],
+        );
+    }
+
+    #[test]
+    fn every_problem_is_reported_at_once() {
+        check(
+            |v| {
+                v["sensor"]["full_well_e"] = json!(0);
+                v["sensor"]["read_noise_e"] = json!(-1);
+                v["exposure"]["binning"] = json!(0);
+                v["snr_threshold"] = json!(0);
+            },
+            &[
+                "sensor.full_well_e: must be > 0, got 0",
+                "sensor.read_noise_e: must be ≥ 0, got -1",
+                "exposure.binning: must be a whole number from 1 to 1000, got 0",
+                "snr_threshold: must be > 0, got 0",
+            ],
+        );
+    }
+
+    #[test]
+    fn unknown_keys_are_errors_except_x_keys() {
+        check(
+            |v| v["sensor"]["x_vendor_note"] = json!("kept and ignored"),
+            &[],
+        );
+        check(|v| v["x_project"] = json!({"anything": [1, 2]}), &[]);
+        check(
+            |v| v["sensor"]["full_well"] = json!(1),
+            &["sensor.full_well: unknown key (did you mean \"full_well_e\"?); keys of your own must start with \"x_\""],
+        );
+        check(
+            |v| v["colour"] = json!("red"),
+            &["colour: unknown key; keys of your own must start with \"x_\""],
+        );
+    }
+
+    #[test]
+    fn missing_required_keys_are_named() {
+        check(
+            |v| {
+                v["sensor"].as_object_mut().unwrap().remove("read_noise_e");
+                v.as_object_mut().unwrap().remove("exposure");
+            },
+            &[
+                "sensor.read_noise_e: required, missing",
+                "exposure: required, missing",
+            ],
+        );
+    }
+
+    #[test]
+    fn versions_other_than_one() {
+        check(
+            |v| v["version"] = json!(2),
+            &["version: this scenario is format version 2, newer than this calculator reads (version 1)"],
+        );
+        check(
+            |v| v["version"] = json!("1"),
+            &["version: must be 1, got \"1\""],
+        );
+        check(
+            |v| {
+                v.as_object_mut().unwrap().remove("version");
+            },
+            &["version: required: this calculator reads format version 1"],
+        );
+    }
+
+    #[test]
+    fn light_needs_exactly_one_kind() {
+        check(
+            |v| v["light"] = json!({}),
+            &["light: give exactly one light kind: photon_flux_per_um2_s, irradiance_w_per_m2 with wavelength_nm, or photons_per_pixel; got none"],
+        );
+        check(
+            |v| v["light"] = json!({"photon_flux_per_um2_s": 1, "photons_per_pixel": 5}),
+            &["light: give exactly one light kind; got photon_flux_per_um2_s and photons_per_pixel"],
+        );
+        check(
+            |v| v["light"] = json!({"irradiance_w_per_m2": 1}),
+            &["light.wavelength_nm: required, missing"],
+        );
+        check(
+            |v| v["light"] = json!({"wavelength_nm": 550}),
+            &["light.irradiance_w_per_m2: required, missing"],
+        );
+    }
+
+    #[test]
+    fn joined_rules() {
+        check(
+            |v| v["sensor"]["readout"] = json!("dds"),
+            &["sensor.sense_node_capacitance_ff: required when sensor.readout is \"dds\": reset noise needs the sense-node capacitance; give it, or sensor.conversion_gain_uv_per_e to derive it"],
+        );
+        check(
+            |v| {
+                v["sensor"]["readout"] = json!("single");
+                v["sensor"]["conversion_gain_uv_per_e"] = json!(60);
+            },
+            &[],
+        );
+        check(
+            |v| v["sensor"]["black_level_dn"] = json!(4095),
+            &["sensor.black_level_dn: must be below the ADC's full scale 2^adc_bits − 1 = 4095, got 4095"],
+        );
+        check(
+            |v| {
+                v["sensor"]["dark_current_doubling_c"] = json!(0.1);
+                v["temperature_c"] = json!(100);
+            },
+            &["sensor.dark_current_doubling_c: the dark current would double 750 times between sensor.dark_current_reference_c and temperature_c; at most 200 (this calculator's limit)"],
+        );
+    }
+
+    #[test]
+    fn malformed_documents() {
+        let e = super::scenario_from_json("{\"version\": 1,").unwrap_err();
+        assert_eq!(e.problems().len(), 1);
+        assert!(
+            e.to_string()
+                .starts_with("scenario: not valid JSON: EOF while parsing"),
+            "{e}"
+        );
+        let e = super::scenario_from_json("[1, 2]").unwrap_err();
+        assert_eq!(e.to_string(), "scenario: must be a JSON object, got a list");
+        check(
+            |v| v["sensor"] = json!(5),
+            &["sensor: must be an object, got 5"],
+        );
+    }
+
+    #[test]
+    fn null_counts_as_absent() {
+        check(
+            |v| v["sensor"]["sense_node_capacitance_ff"] = Value::Null,
+            &[],
+        );
+        check(
+            |v| v["sensor"]["read_noise_e"] = Value::Null,
+            &["sensor.read_noise_e: required, missing"],
+        );
     }
 }
