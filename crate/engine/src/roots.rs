@@ -24,7 +24,7 @@
 /// ```
 #[must_use]
 pub fn positive_root(a: f64, b: f64, c: f64) -> Option<f64> {
-    if !(a > 0.0) {
+    if a.is_nan() || a <= 0.0 {
         return None;
     }
     let disc = b.mul_add(b, 4.0 * a * c);

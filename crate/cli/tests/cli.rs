@@ -1,0 +1,210 @@
+//! The `noise-budget` command as a user runs it: exit codes, output forms, errors on stderr.
+//!
+//! Runs the built binary; the figures themselves are checked in the engine's tests, so here
+//! the CLI's JSON is only compared with the engine's own report for the same file.
+
+use std::io::Write;
+use std::process::{Command, Output, Stdio};
+
+const BIN: &str = env!("CARGO_BIN_EXE_noise-budget");
+
+fn run(args: &[&str], stdin: Option<&[u8]>) -> Output {
+    let mut child = Command::new(BIN)
+        .args(args)
+        .stdin(Stdio::piped())
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .expect("the binary starts");
+    if let Some(bytes) = stdin {
+        child
+            .stdin
+            .take()
+            .expect("stdin")
+            .write_all(bytes)
+            .expect("write stdin");
+    } else {
+        drop(child.stdin.take());
+    }
+    child.wait_with_output().expect("the binary finishes")
+}
+
+fn demo_paths() -> Vec<String> {
+    let dir = concat!(env!("CARGO_MANIFEST_DIR"), "/../../www/demos");
+    let mut v: Vec<String> = std::fs::read_dir(dir)
+        .expect("demo folder")
+        .flatten()
+        .map(|e| e.path().display().to_string())
+        .filter(|p| p.ends_with(".json"))
+        .collect();
+    v.sort();
+    v
+}
+
+fn temp_file(name: &str, contents: &[u8]) -> String {
+    let dir = std::env::temp_dir().join(format!("noise-budget-cli-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).expect("temp dir");
+    let p = dir.join(name);
+    std::fs::write(&p, contents).expect("write temp file");
+    p.display().to_string()
+}
+
+#[test]
+fn eval_prints_the_engines_report_for_every_demo() {
+    let demos = demo_paths();
+    assert!(
+        demos.len() >= 4,
+        "expected the demo scenarios, found {demos:?}"
+    );
+    for path in demos {
+        let out = run(&["eval", &path], None);
+        assert_eq!(
+            out.status.code(),
+            Some(0),
+            "{path}: {}",
+            String::from_utf8_lossy(&out.stderr)
+        );
+        let shown: serde_json::Value = serde_json::from_slice(&out.stdout).expect("JSON on stdout");
+        let text = std::fs::read_to_string(&path).expect("demo readable");
+        let report = engine::evaluate_json(&text).expect("demo valid");
+        assert_eq!(
+            shown,
+            serde_json::to_value(report).expect("serializes"),
+            "{path}"
+        );
+    }
+}
+
+#[test]
+fn eval_reads_standard_input() {
+    let text = std::fs::read(&demo_paths()[0]).expect("demo");
+    let out = run(&["eval", "-"], Some(&text));
+    assert_eq!(out.status.code(), Some(0));
+    assert!(serde_json::from_slice::<serde_json::Value>(&out.stdout).is_ok());
+}
+
+#[test]
+fn the_table_shows_the_budget_and_the_warnings() {
+    let path = demo_paths()
+        .into_iter()
+        .find(|p| p.contains("three-transistor"))
+        .expect("3T demo");
+    let out = run(&["eval", "--table", &path], None);
+    assert_eq!(out.status.code(), Some(0));
+    let t = String::from_utf8_lossy(&out.stdout);
+    for needle in [
+        "photon shot",
+        "reset (kTC)",
+        "quantization",
+        "DSNU",
+        "PRNU",
+        "= total",
+        "SNR",
+        " dB",
+        "minimum detectable",
+        "saturation",
+        "dynamic range",
+        "exposure for SNR",
+        "[reset_noise_dominates]",
+    ] {
+        assert!(t.contains(needle), "table lacks {needle:?}:\n{t}");
+    }
+}
+
+#[test]
+fn an_invalid_scenario_exits_2_with_every_problem_on_stderr() {
+    let bad = br#"{"version": 1, "sensor": {"pixel_pitch_um": -1, "quantum_efficiency": 2,
+        "full_well_e": 1000, "read_noise_e": 2, "dark_current_e_per_s": 0, "adc_bits": 12,
+        "system_gain_dn_per_e": 0.3, "colour": 1}, "light": {"photons_per_pixel": 10},
+        "exposure": {"time_s": 0}}"#;
+    let out = run(&["eval", &temp_file("bad.json", bad)], None);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(
+        out.stdout.is_empty(),
+        "nothing on stdout for a refused scenario"
+    );
+    let err = String::from_utf8_lossy(&out.stderr);
+    let lines: Vec<&str> = err.lines().collect();
+    assert_eq!(
+        lines,
+        [
+            "sensor.pixel_pitch_um: must be > 0, got -1",
+            "sensor.quantum_efficiency: must be ≤ 1, got 2",
+            "sensor.colour: unknown key; keys of your own must start with \"x_\"",
+            "exposure.time_s: must be > 0, got 0",
+        ]
+    );
+}
+
+#[test]
+fn malformed_input_exits_2_without_panicking() {
+    for (name, bytes) in [
+        ("empty.json", &b""[..]),
+        ("truncated.json", &br#"{"version": 1, "sensor": {"#[..]),
+        ("binary.json", &[0xff, 0xfe, 0x00, 0x12, 0x80][..]),
+        ("list.json", &b"[1,2,3]"[..]),
+        ("newer.json", &br#"{"version": 7}"#[..]),
+    ] {
+        let out = run(&["eval", &temp_file(name, bytes)], None);
+        assert_eq!(out.status.code(), Some(2), "{name}");
+        let err = String::from_utf8_lossy(&out.stderr);
+        assert!(!err.contains("panicked"), "{name}: {err}");
+        assert!(
+            err.starts_with("scenario:") || err.starts_with("version:"),
+            "{name}: {err}"
+        );
+    }
+}
+
+#[test]
+fn a_missing_file_exits_1() {
+    let out = run(&["eval", "/nonexistent/scenario.json"], None);
+    assert_eq!(out.status.code(), Some(1));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("cannot read /nonexistent/scenario.json"));
+}
+
+#[test]
+fn example_prints_a_valid_scenario_and_lists_the_demos() {
+    let out = run(&["example"], None);
+    assert_eq!(out.status.code(), Some(0));
+    let again = run(&["eval", "-"], Some(&out.stdout));
+    assert_eq!(
+        again.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&again.stderr)
+    );
+    let list = run(&["example", "--list"], None);
+    let names: Vec<String> = String::from_utf8_lossy(&list.stdout)
+        .lines()
+        .filter_map(|l| l.split_whitespace().next().map(String::from))
+        .collect();
+    assert_eq!(names.len(), demo_paths().len(), "every demo file is listed");
+    for n in names {
+        let out = run(&["example", &n], None);
+        assert_eq!(out.status.code(), Some(0), "{n}");
+        assert!(
+            engine::evaluate_json(&String::from_utf8_lossy(&out.stdout)).is_ok(),
+            "{n}"
+        );
+    }
+    let unknown = run(&["example", "no-such-demo"], None);
+    assert_eq!(unknown.status.code(), Some(2));
+}
+
+#[test]
+fn every_command_has_help() {
+    for args in [
+        &["--help"][..],
+        &["eval", "--help"],
+        &["example", "--help"],
+        &["help", "eval"],
+    ] {
+        let out = run(args, None);
+        assert_eq!(out.status.code(), Some(0), "{args:?}");
+        assert!(
+            String::from_utf8_lossy(&out.stdout).contains("Usage"),
+            "{args:?}"
+        );
+    }
+}
