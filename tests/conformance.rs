@@ -3,6 +3,13 @@
 //! Source: an independent implementation of SCENARIO.md (shared/conformance/README.md).
 //! Checks arithmetic against the format, not physics (that is `reference.rs`).
 
+#![allow(
+    clippy::unwrap_used,
+    clippy::expect_used,
+    clippy::panic,
+    clippy::indexing_slicing
+)] // test code: a failure should panic
+
 use std::path::{Path, PathBuf};
 
 use serde_json::Value;

@@ -3,6 +3,13 @@
 //! Each property is a consequence of the model's formulas (SCENARIO.md) stated as a relation
 //! between two evaluations; none compares against a hard-coded figure.
 
+#![allow(
+    clippy::unwrap_used,
+    clippy::expect_used,
+    clippy::panic,
+    clippy::indexing_slicing
+)] // test code: a failure should panic
+
 use engine::report::{NoiseParts, Report};
 use proptest::prelude::*;
 use serde_json::{json, Value};

@@ -4,6 +4,13 @@
 //! publication or library it cites there). This file checks physics; the format's own
 //! arithmetic is checked by `conformance.rs`.
 
+#![allow(
+    clippy::unwrap_used,
+    clippy::expect_used,
+    clippy::panic,
+    clippy::indexing_slicing
+)] // test code: a failure should panic
+
 use engine::report::Report;
 use engine::{dark, photon, quantization, sense_node};
 use serde_json::{json, Value};

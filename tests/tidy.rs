@@ -3,6 +3,13 @@
 //! They read files as text and check conventions (module doc lines, dependency direction,
 //! element ids, the test command); they check no physics.
 
+#![allow(
+    clippy::unwrap_used,
+    clippy::expect_used,
+    clippy::panic,
+    clippy::indexing_slicing
+)] // test code: a failure should panic
+
 use std::fs;
 use std::path::{Path, PathBuf};
 

@@ -2,6 +2,13 @@
 //!
 //! Reports times only; nothing here asserts a speed. Compare the medians as ratios.
 
+#![allow(
+    clippy::unwrap_used,
+    clippy::expect_used,
+    clippy::panic,
+    clippy::indexing_slicing
+)] // test code: a failure should panic
+
 use criterion::{black_box, criterion_group, criterion_main, Criterion};
 
 const DEMO: &str = include_str!("../../../www/demos/global-shutter-machine-vision.json");
