@@ -10,8 +10,10 @@
 
 pub mod constants;
 pub mod dark;
+pub mod frames;
 pub mod model;
 pub mod photon;
+pub mod ptc;
 pub mod quantization;
 pub mod report;
 pub mod roots;

@@ -1,0 +1,34 @@
+//! Photon transfer analysis (EMVA 1288's linear model) of measured dark and flat frames.
+//!
+//! Streaming by design: a [`StackAccumulator`] takes the frames of one stack one at a time and
+//! keeps only integer sums (plus one held frame, and a per-pixel sum for stacks longer than two),
+//! so a page or a command can feed files as they are read. [`analyse`] turns the stacks'
+//! statistics into a measured `sensor` section and its fit. No file I/O and no decoding here
+//! (see [`crate::frames`]); no planning either (that is [`crate::model`]).
+//!
+//! Code map: `pair.rs` the exact integer pass over a frame pair (the hot loop); `stack.rs` one
+//! stack; `fit.rs` straight-line fits with uncertainties; `formulas.rs` the standard's
+//! closed-form steps with their sources; `analysis.rs` the method, step by step.
+
+mod analysis;
+mod fit;
+mod formulas;
+mod pair;
+mod stack;
+
+pub use analysis::{
+    analyse, AnalysisError, Characterization, DarkCurrentFit, Diagnostic, FitReport, GainFit,
+    LinearityFit, MeasuredSensor, NonUniformityFit, PtcPoint, ReadNoiseFit, ResponsivityFit,
+    SaturationFit, GAIN_FIT_MAX_FRACTION, LINEARITY_RANGE_FRACTION, PRNU_FRACTION,
+};
+pub use fit::{fit_line, LineFit};
+pub use formulas::{
+    dark_current_e_per_s, dark_current_from_variance_e_per_s, dsnu_e, linearity_error_percent,
+    prnu_percent, quantum_efficiency, read_noise_e, read_noise_upper_bound_e,
+    saturation_capacity_e, QUANTIZATION_VARIANCE_DN2, SMALL_DARK_VARIANCE_DN2,
+};
+pub use pair::{pair_sums, PairSums};
+pub use stack::{
+    spatial_variance_corrected_dn2, FrameKind, Roi, StackAccumulator, StackError, StackSpec,
+    StackStats, MAX_FRAMES_PER_STACK,
+};
