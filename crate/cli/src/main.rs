@@ -34,6 +34,32 @@ enum Command {
         /// The scenario file (JSON); `-` reads standard input.
         file: PathBuf,
     },
+    /// Vary one numeric key of a scenario over a range and print the report's figures along it.
+    ///
+    /// CSV (RFC 4180, a header row naming each column with its unit) or JSON. Exit status as
+    /// for `eval`; a bad range is an invalid scenario (2).
+    Sweep {
+        /// The key to vary, as a dot path (e.g. exposure.time_s, light.photon_flux_per_um2_s).
+        #[arg(long, value_name = "KEY")]
+        vary: String,
+        /// First value.
+        #[arg(long, allow_negative_numbers = true)]
+        from: f64,
+        /// Last value.
+        #[arg(long, allow_negative_numbers = true)]
+        to: f64,
+        /// Number of points (2 to 100000).
+        #[arg(long, default_value_t = 50)]
+        points: u32,
+        /// Space the points by equal ratios instead of equal steps (both ends > 0).
+        #[arg(long)]
+        log: bool,
+        /// Output form.
+        #[arg(long, value_enum, default_value_t = SweepFormat::Csv)]
+        format: SweepFormat,
+        /// The scenario file (JSON); `-` reads standard input.
+        file: PathBuf,
+    },
     /// Print an invented demo scenario, valid input for `eval`.
     Example {
         /// Which demo to print (see --list); the first one by default.
@@ -49,21 +75,35 @@ fn main() -> ExitCode {
     match cli.command {
         Command::Eval { table, file } => eval(&file, table),
         Command::Example { name, list } => example(name.as_deref(), list),
+        Command::Sweep {
+            vary,
+            from,
+            to,
+            points,
+            log,
+            format,
+            file,
+        } => {
+            let request = engine::sweep::SweepRequest {
+                key: vary,
+                from,
+                to,
+                points,
+                spacing: if log {
+                    engine::sweep::Spacing::Log
+                } else {
+                    engine::sweep::Spacing::Linear
+                },
+            };
+            sweep(&file, &request, format)
+        }
     }
 }
 
 fn eval(file: &PathBuf, as_table: bool) -> ExitCode {
-    let shown = file.display().to_string();
-    let bytes = match read_input(file) {
-        Ok(b) => b,
-        Err(e) => {
-            eprintln!("noise-budget: cannot read {shown}: {e}");
-            return ExitCode::from(1);
-        }
-    };
-    let Ok(text) = String::from_utf8(bytes) else {
-        eprintln!("scenario: {shown} is not UTF-8 text");
-        return ExitCode::from(2);
+    let text = match read_text(file) {
+        Ok(t) => t,
+        Err(code) => return code,
     };
     let scenario = match engine::validate::scenario_from_json(&text) {
         Ok(s) => s,
@@ -87,6 +127,66 @@ fn eval(file: &PathBuf, as_table: bool) -> ExitCode {
         }
     };
     write_stdout(&out)
+}
+
+/// Output forms of `sweep`.
+#[derive(Clone, Copy, clap::ValueEnum)]
+enum SweepFormat {
+    /// Comma-separated values with a header row (RFC 4180).
+    Csv,
+    /// The sweep with the full report at every point.
+    Json,
+}
+
+fn sweep(file: &PathBuf, request: &engine::sweep::SweepRequest, format: SweepFormat) -> ExitCode {
+    let text = match read_text(file) {
+        Ok(t) => t,
+        Err(code) => return code,
+    };
+    let value: serde_json::Value = match serde_json::from_str(&text) {
+        Ok(v) => v,
+        Err(_) => {
+            // Let the validator word the JSON error exactly as `eval` does.
+            if let Err(e) = engine::validate::scenario_from_json(&text) {
+                for p in e.problems() {
+                    eprintln!("{p}");
+                }
+            }
+            return ExitCode::from(2);
+        }
+    };
+    match engine::sweep::sweep(&value, request) {
+        Ok(s) => match format {
+            SweepFormat::Csv => write_stdout(&engine::sweep::to_csv(&s)),
+            SweepFormat::Json => match serde_json::to_string_pretty(&s) {
+                Ok(j) => write_stdout(&(j + "\n")),
+                Err(e) => {
+                    eprintln!("noise-budget: cannot write the sweep as JSON: {e}");
+                    ExitCode::from(1)
+                }
+            },
+        },
+        Err(e) => {
+            for p in e.problems() {
+                eprintln!("{p}");
+            }
+            ExitCode::from(2)
+        }
+    }
+}
+
+/// Read a file (or standard input for `-`) as UTF-8 text; on failure print the message and
+/// give the exit code (1 for I/O, 2 for text that is not UTF-8).
+fn read_text(file: &PathBuf) -> Result<String, ExitCode> {
+    let shown = file.display().to_string();
+    let bytes = read_input(file).map_err(|e| {
+        eprintln!("noise-budget: cannot read {shown}: {e}");
+        ExitCode::from(1)
+    })?;
+    String::from_utf8(bytes).map_err(|_| {
+        eprintln!("scenario: {shown} is not UTF-8 text");
+        ExitCode::from(2)
+    })
 }
 
 fn example(name: Option<&str>, list: bool) -> ExitCode {

@@ -154,11 +154,7 @@ pub fn render(scenario: &Scenario, r: &Report) -> String {
         let _ = writeln!(o);
         let _ = writeln!(o, "warnings");
         for w in &r.warnings {
-            let code = serde_json::to_value(w.code)
-                .ok()
-                .and_then(|v| v.as_str().map(str::to_string))
-                .unwrap_or_default();
-            let _ = writeln!(o, "  [{code}] {}", w.message);
+            let _ = writeln!(o, "  [{}] {}", w.code.as_str(), w.message);
         }
     }
     o

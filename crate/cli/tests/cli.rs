@@ -198,6 +198,7 @@ fn every_command_has_help() {
         &["--help"][..],
         &["eval", "--help"],
         &["example", "--help"],
+        &["sweep", "--help"],
         &["help", "eval"],
     ] {
         let out = run(args, None);
@@ -207,4 +208,115 @@ fn every_command_has_help() {
             "{args:?}"
         );
     }
+}
+
+#[test]
+fn sweep_writes_csv_that_a_general_purpose_reader_parses() {
+    let path = demo_paths()
+        .into_iter()
+        .find(|p| p.contains("cooled"))
+        .expect("demo");
+    let out = run(
+        &[
+            "sweep",
+            "--vary",
+            "exposure.time_s",
+            "--from",
+            "1e-4",
+            "--to",
+            "1",
+            "--points",
+            "200",
+            "--log",
+            &path,
+        ],
+        None,
+    );
+    assert_eq!(
+        out.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    // Python's standard csv module (RFC 4180 dialect "excel") as the independent reader.
+    let script = "import csv, sys\n\
+        rows = list(csv.reader(sys.stdin))\n\
+        assert rows[0][0] == 'exposure.time_s [s]', rows[0][0]\n\
+        assert all(len(r) == len(rows[0]) for r in rows), 'ragged rows'\n\
+        t = [float(r[0]) for r in rows[1:]]\n\
+        assert len(t) == 200 and t[0] == 1e-4 and t[-1] == 1.0, (len(t), t[0], t[-1])\n\
+        assert all(a < b for a, b in zip(t, t[1:])), 'not increasing'\n\
+        i = rows[0].index('snr.temporal [ratio]')\n\
+        s = [float(r[i]) for r in rows[1:]]\n\
+        assert all(a < b for a, b in zip(s, s[1:])), 'SNR not rising with exposure'\n\
+        print(len(rows) - 1)\n";
+    let mut child = Command::new("python3")
+        .args(["-c", script])
+        .stdin(Stdio::piped())
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .expect("python3 runs");
+    child
+        .stdin
+        .take()
+        .expect("stdin")
+        .write_all(&out.stdout)
+        .expect("pipe csv");
+    let py = child.wait_with_output().expect("python3 finishes");
+    assert!(
+        py.status.success(),
+        "python csv check failed: {}",
+        String::from_utf8_lossy(&py.stderr)
+    );
+    assert_eq!(String::from_utf8_lossy(&py.stdout).trim(), "200");
+}
+
+#[test]
+fn sweep_json_and_bad_ranges() {
+    let path = demo_paths()[0].clone();
+    let out = run(
+        &[
+            "sweep",
+            "--vary",
+            "temperature_c",
+            "--from",
+            "-20",
+            "--to",
+            "40",
+            "--points",
+            "4",
+            "--format",
+            "json",
+            &path,
+        ],
+        None,
+    );
+    assert_eq!(
+        out.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).expect("JSON");
+    assert_eq!(v["points"].as_array().map(Vec::len), Some(4));
+    assert_eq!(v["unit"], "°C");
+    let bad = run(
+        &[
+            "sweep",
+            "--vary",
+            "sensor.quantum_efficiency",
+            "--from",
+            "0.5",
+            "--to",
+            "2",
+            &path,
+        ],
+        None,
+    );
+    assert_eq!(bad.status.code(), Some(2));
+    assert_eq!(
+        String::from_utf8_lossy(&bad.stderr).trim(),
+        "sweep.to: at 2: sensor.quantum_efficiency: must be ≤ 1, got 2"
+    );
 }

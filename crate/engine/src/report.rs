@@ -156,7 +156,7 @@ pub struct Warning {
 
 /// The stable warning codes. New codes may be added; existing ones keep their meaning.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
-#[serde(rename_all = "snake_case")]
+#[serde(into = "&'static str")]
 #[non_exhaustive]
 pub enum WarningCode {
     /// The signal plus dark charge exceeds the usable level: the frame clips.
@@ -185,6 +185,36 @@ pub enum WarningCode {
     ConversionGainAboveSenseNode,
     /// No light: the signal is zero.
     NoLight,
+}
+
+impl WarningCode {
+    /// The code as written in reports (`saturated`, `reset_noise_dominates`, …).
+    #[must_use]
+    pub fn as_str(self) -> &'static str {
+        match self {
+            WarningCode::Saturated => "saturated",
+            WarningCode::DarkFillsPixel => "dark_fills_pixel",
+            WarningCode::ThresholdExposureBeyondSaturation => {
+                "threshold_exposure_beyond_saturation"
+            }
+            WarningCode::ThresholdUnreachablePrnu => "threshold_unreachable_prnu",
+            WarningCode::ThresholdBeyondSaturation => "threshold_beyond_saturation",
+            WarningCode::ThresholdExposureOutOfRange => "threshold_exposure_out_of_range",
+            WarningCode::ResetNoiseDominates => "reset_noise_dominates",
+            WarningCode::SubElectronReadNoise => "sub_electron_read_noise",
+            WarningCode::QuantizationDominates => "quantization_dominates",
+            WarningCode::DarkNoiseBelowHalfDn => "dark_noise_below_half_dn",
+            WarningCode::BinnedChargeExceedsFullWell => "binned_charge_exceeds_full_well",
+            WarningCode::ConversionGainAboveSenseNode => "conversion_gain_above_sense_node",
+            WarningCode::NoLight => "no_light",
+        }
+    }
+}
+
+impl From<WarningCode> for &'static str {
+    fn from(c: WarningCode) -> Self {
+        c.as_str()
+    }
 }
 
 /// Every figure of the format-version-1 report. Extra keys beyond the format: `noise_dn`,

@@ -39,6 +39,11 @@ pub struct ScenarioError {
 }
 
 impl ScenarioError {
+    /// A refusal made of these problems (at least one) by another checker of this crate.
+    pub(crate) fn from_problems(problems: Vec<Problem>) -> Self {
+        ScenarioError { problems }
+    }
+
     /// The problems, at least one.
     #[must_use]
     pub fn problems(&self) -> &[Problem] {

@@ -1,0 +1,697 @@
+//! Sweeps: one numeric scenario key varied over a range, the report's figures along it.
+//!
+//! The base scenario and both ends of the range are validated as whole scenarios (every rule
+//! on a key is an interval, so the points between two valid ends are valid too); the points
+//! between are set on the checked type directly, so a 1000-point sweep costs 1000 evaluations,
+//! not 1000 validations. Also the regime boundaries of the SNR-against-signal view, and CSV
+//! text (RFC 4180). No I/O and no plotting here.
+
+use serde::Serialize;
+use serde_json::Value;
+
+use crate::evaluate;
+use crate::report::Report;
+use crate::scenario::{Light, Scenario};
+use crate::validate::{scenario_from_value, Problem, ScenarioError};
+
+/// Most points one sweep may have: far more than a plot can show, and a bound on the work.
+pub const MAX_POINTS: u32 = 100_000;
+
+/// The numeric keys a sweep may vary: dot path, unit (for headers and axes), whole number?
+pub const SWEEPABLE: &[(&str, &str, bool)] = &[
+    ("sensor.pixel_pitch_um", "µm", false),
+    ("sensor.quantum_efficiency", "1", false),
+    ("sensor.full_well_e", "e-", false),
+    ("sensor.read_noise_e", "e- rms", false),
+    ("sensor.sense_node_capacitance_ff", "fF", false),
+    ("sensor.conversion_gain_uv_per_e", "µV/e-", false),
+    ("sensor.dark_current_e_per_s", "e-/s", false),
+    ("sensor.dark_current_reference_c", "°C", false),
+    ("sensor.dark_current_doubling_c", "°C", false),
+    ("sensor.dsnu_e", "e- rms", false),
+    ("sensor.prnu_percent", "%", false),
+    ("sensor.adc_bits", "bit", true),
+    ("sensor.system_gain_dn_per_e", "DN/e-", false),
+    ("sensor.black_level_dn", "DN", false),
+    ("light.photon_flux_per_um2_s", "photons/µm²/s", false),
+    ("light.irradiance_w_per_m2", "W/m²", false),
+    ("light.wavelength_nm", "nm", false),
+    ("light.photons_per_pixel", "photons", false),
+    ("exposure.time_s", "s", false),
+    ("exposure.frames_averaged", "frames", true),
+    ("exposure.binning", "pixels", true),
+    ("temperature_c", "°C", false),
+    ("snr_threshold", "1", false),
+];
+
+/// How the points are spaced between the ends.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Spacing {
+    /// Equal steps.
+    Linear,
+    /// Equal ratios (both ends must be > 0).
+    Log,
+}
+
+/// What to sweep.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SweepRequest {
+    /// Dot path of the key, one of [`SWEEPABLE`].
+    pub key: String,
+    /// First value.
+    pub from: f64,
+    /// Last value.
+    pub to: f64,
+    /// Number of points, 2 ..= [`MAX_POINTS`].
+    pub points: u32,
+    /// Spacing of the points.
+    pub spacing: Spacing,
+}
+
+/// One point of a sweep.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct SweepPoint {
+    /// The key's value at this point (rounded for whole-number keys).
+    pub value: f64,
+    /// The report at this point.
+    pub report: Report,
+}
+
+/// Signals (e⁻ per output pixel) where the dominant noise changes, for the SNR-against-signal
+/// view; `None` where a region does not exist.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Regimes {
+    /// Photon shot variance equals the signal-independent floor σ0² (read, reset,
+    /// quantization, dark shot): below it the output is read-noise limited.
+    pub read_to_shot_signal_e: f64,
+    /// PRNU variance equals photon shot variance: above it the output is fixed-pattern
+    /// limited. `None` without PRNU.
+    pub shot_to_prnu_signal_e: Option<f64>,
+    /// The output pixel's capacity b²(L − d); `None` when dark charge fills the pixel.
+    pub saturation_signal_e: Option<f64>,
+}
+
+/// A computed sweep.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Sweep {
+    /// The key varied.
+    pub key: String,
+    /// Its unit.
+    pub unit: &'static str,
+    /// Spacing used.
+    pub spacing: Spacing,
+    /// The points, in order from `from` to `to`.
+    pub points: Vec<SweepPoint>,
+    /// Regime boundaries of the base scenario (they do not depend on the light).
+    pub regimes: Regimes,
+}
+
+/// Vary one key of a scenario (given as JSON) and evaluate every point.
+///
+/// # Errors
+/// The base scenario's problems, or problems with the request (unknown key, a key of another
+/// light kind, non-finite or out-of-range ends, log spacing through zero, too few or too many
+/// points), each naming the key or the request field.
+pub fn sweep(base: &Value, request: &SweepRequest) -> Result<Sweep, ScenarioError> {
+    let scenario = scenario_from_value(base)?;
+    let mut problems = Vec::new();
+    let entry = SWEEPABLE.iter().find(|(k, _, _)| *k == request.key);
+    match entry {
+        None => problems.push(problem(
+            "sweep.key",
+            format!(
+                "\"{}\" is not a numeric scenario key; one of: {}",
+                request.key,
+                SWEEPABLE
+                    .iter()
+                    .map(|(k, _, _)| *k)
+                    .collect::<Vec<_>>()
+                    .join(", ")
+            ),
+        )),
+        Some((key, _, _)) if key.starts_with("light.") && !light_has(&scenario.light, key) => {
+            problems.push(problem(
+                "sweep.key",
+                format!("{key} is not part of this scenario's light; sweep a key of the light kind it uses"),
+            ));
+        }
+        Some(_) => {}
+    }
+    if !request.from.is_finite() {
+        problems.push(problem(
+            "sweep.from",
+            format!("must be a finite number, got {}", request.from),
+        ));
+    }
+    if !request.to.is_finite() {
+        problems.push(problem(
+            "sweep.to",
+            format!("must be a finite number, got {}", request.to),
+        ));
+    }
+    if request.spacing == Spacing::Log && !(request.from > 0.0 && request.to > 0.0) {
+        problems.push(problem(
+            "sweep.from",
+            format!(
+                "log spacing needs both ends > 0, got {} and {}",
+                request.from, request.to
+            ),
+        ));
+    }
+    if !(2..=MAX_POINTS).contains(&request.points) {
+        problems.push(problem(
+            "sweep.points",
+            format!(
+                "must be a whole number from 2 to {MAX_POINTS}, got {}",
+                request.points
+            ),
+        ));
+    }
+    let Some(&(key, unit, whole)) = entry.filter(|_| problems.is_empty()) else {
+        return Err(ScenarioError::from_problems(problems));
+    };
+    // Both ends as whole scenarios: their problems name the key, prefixed by the end.
+    for (end, value) in [("sweep.from", request.from), ("sweep.to", request.to)] {
+        let value = if whole { value.round() } else { value };
+        if let Err(e) = scenario_from_value(&with_key(base, key, value)) {
+            problems.extend(
+                e.problems()
+                    .iter()
+                    .map(|p| problem(end, format!("at {value}: {p}"))),
+            );
+        }
+    }
+    if !problems.is_empty() {
+        return Err(ScenarioError::from_problems(problems));
+    }
+    let n = request.points;
+    let mut points = Vec::with_capacity(usize::try_from(n).unwrap_or(0));
+    let mut at = scenario.clone();
+    for i in 0..n {
+        let f = f64::from(i) / f64::from(n - 1);
+        let raw = match request.spacing {
+            Spacing::Linear => request.from + (request.to - request.from) * f,
+            Spacing::Log => {
+                // In decades, so that points on whole decades come out as exact powers of ten.
+                let (a, b) = (request.from.log10(), request.to.log10());
+                10f64.powf(a + (b - a) * f)
+            }
+        };
+        // The ends exactly as given (no rounding drift from log/pow).
+        let raw = if i == 0 {
+            request.from
+        } else if i == n - 1 {
+            request.to
+        } else {
+            raw
+        };
+        let value = if whole { raw.round() } else { raw };
+        set(&mut at, key, value);
+        points.push(SweepPoint {
+            value,
+            report: evaluate(&at),
+        });
+    }
+    Ok(Sweep {
+        key: key.to_string(),
+        unit,
+        spacing: request.spacing,
+        points,
+        regimes: regimes(&scenario),
+    })
+}
+
+/// Signals where the dominant noise of the output pixel changes (see [`Regimes`]).
+///
+/// # Formula
+/// ```text
+/// read → shot:  S/N = σ0²/N          ⇒ S = σ0² = D + n(σr² + σk² + σq²)
+/// shot → PRNU:  (p·S)²/b² = S/N      ⇒ S = b² / (N p²)
+/// ```
+/// Symbols as in SCENARIO.md's model.
+///
+/// # Source
+/// The three regions of the photon transfer curve (read-noise, shot-noise and fixed-pattern
+/// limited): Janesick, *Photon Transfer* (SPIE PM170, 2007), ch. 2 (from memory); the
+/// boundaries are where the variances of SCENARIO.md's model are equal (derived).
+#[must_use]
+#[allow(non_snake_case)] // symbols as in SCENARIO.md
+pub fn regimes(sc: &Scenario) -> Regimes {
+    let r = evaluate(sc);
+    let b2 = f64::from(sc.exposure.binning).powi(2);
+    let N = f64::from(sc.exposure.frames_averaged);
+    // σ0²/N is the temporal variance with the photon shot part taken out (one-frame σ0² / N).
+    let floor = r.noise_e.temporal.powi(2) - r.noise_e.photon_shot.powi(2);
+    let p = sc.sensor.prnu_percent / 100.0;
+    let capacity = r.saturation.capacity_e;
+    Regimes {
+        read_to_shot_signal_e: floor * N,
+        shot_to_prnu_signal_e: (p > 0.0).then(|| b2 / (N * p * p)),
+        saturation_signal_e: (capacity > 0.0).then_some(b2 * capacity),
+    }
+}
+
+/// Reads one figure from a report; `None` where it does not exist.
+pub type Getter = fn(&Report) -> Option<f64>;
+
+/// The report figures a sweep's CSV carries: column name (a report dot path), unit, getter.
+pub const CSV_COLUMNS: &[(&str, &str, Getter)] = &[
+    ("photons_per_pixel", "photons", |r| {
+        Some(r.photons_per_pixel)
+    }),
+    ("signal_e", "e-", |r| Some(r.signal_e)),
+    ("dark_e", "e-", |r| Some(r.dark_e)),
+    ("signal_dn", "DN", |r| Some(r.signal_dn)),
+    ("noise_e.photon_shot", "e- rms", |r| {
+        Some(r.noise_e.photon_shot)
+    }),
+    ("noise_e.dark_shot", "e- rms", |r| Some(r.noise_e.dark_shot)),
+    ("noise_e.read", "e- rms", |r| Some(r.noise_e.read)),
+    ("noise_e.reset", "e- rms", |r| Some(r.noise_e.reset)),
+    ("noise_e.quantization", "e- rms", |r| {
+        Some(r.noise_e.quantization)
+    }),
+    ("noise_e.temporal", "e- rms", |r| Some(r.noise_e.temporal)),
+    ("noise_e.dsnu", "e- rms", |r| Some(r.noise_e.dsnu)),
+    ("noise_e.prnu", "e- rms", |r| Some(r.noise_e.prnu)),
+    ("noise_e.total", "e- rms", |r| Some(r.noise_e.total)),
+    ("snr.temporal", "ratio", |r| Some(r.snr.temporal)),
+    ("snr.total", "ratio", |r| Some(r.snr.total)),
+    ("snr.temporal_db", "dB", |r| r.snr.temporal_db),
+    ("snr.total_db", "dB", |r| r.snr.total_db),
+    ("saturation.fill_fraction", "fraction", |r| {
+        Some(r.saturation.fill_fraction)
+    }),
+    ("min_detectable.signal_e", "e-", |r| {
+        Some(r.min_detectable.signal_e)
+    }),
+    ("min_detectable.signal_e_total", "e-", |r| {
+        r.min_detectable.signal_e_total
+    }),
+    ("min_detectable.photons_per_pixel", "photons", |r| {
+        Some(r.min_detectable.photons_per_pixel)
+    }),
+    ("dynamic_range.db", "dB", |r| r.dynamic_range.db),
+    ("max_snr", "ratio", |r| r.max_snr),
+    ("exposure_for_threshold_s", "s", |r| {
+        r.exposure_for_threshold_s
+    }),
+    ("variance_share.photon_shot", "fraction", |r| {
+        Some(r.variance_share.photon_shot)
+    }),
+    ("variance_share.dark_shot", "fraction", |r| {
+        Some(r.variance_share.dark_shot)
+    }),
+    ("variance_share.read", "fraction", |r| {
+        Some(r.variance_share.read)
+    }),
+    ("variance_share.reset", "fraction", |r| {
+        Some(r.variance_share.reset)
+    }),
+    ("variance_share.quantization", "fraction", |r| {
+        Some(r.variance_share.quantization)
+    }),
+    ("variance_share.dsnu", "fraction", |r| {
+        Some(r.variance_share.dsnu)
+    }),
+    ("variance_share.prnu", "fraction", |r| {
+        Some(r.variance_share.prnu)
+    }),
+];
+
+/// The sweep as CSV text (RFC 4180: CRLF line ends, a header row, fields quoted where needed).
+///
+/// The header names each column with its unit in brackets (`exposure.time_s [s]`); a figure
+/// that does not exist is an empty field; `saturated` is `true`/`false`; `warnings` lists the
+/// warning codes of the point, separated by spaces. Numbers are written in the shortest form
+/// that reads back to the same double.
+#[must_use]
+pub fn to_csv(sweep: &Sweep) -> String {
+    let mut header: Vec<String> = vec![format!("{} [{}]", sweep.key, sweep.unit)];
+    header.extend(CSV_COLUMNS.iter().map(|(k, u, _)| format!("{k} [{u}]")));
+    header.push("saturation.saturated [true/false]".into());
+    header.push("warnings [codes]".into());
+    let mut out = csv_row(&header);
+    for p in &sweep.points {
+        let mut row = vec![number(p.value)];
+        row.extend(
+            CSV_COLUMNS
+                .iter()
+                .map(|(_, _, get)| get(&p.report).map(number).unwrap_or_default()),
+        );
+        row.push(p.report.saturation.saturated.to_string());
+        row.push(
+            p.report
+                .warnings
+                .iter()
+                .map(|w| w.code.as_str())
+                .collect::<Vec<_>>()
+                .join(" "),
+        );
+        out.push_str(&csv_row(&row));
+    }
+    out
+}
+
+fn csv_row(fields: &[String]) -> String {
+    let mut line = fields
+        .iter()
+        .map(|f| {
+            if f.contains([',', '"', '\r', '\n']) {
+                format!("\"{}\"", f.replace('"', "\"\""))
+            } else {
+                f.clone()
+            }
+        })
+        .collect::<Vec<_>>()
+        .join(",");
+    line.push_str("\r\n");
+    line
+}
+
+fn number(x: f64) -> String {
+    format!("{x}")
+}
+
+fn problem(path: &str, message: String) -> Problem {
+    Problem {
+        path: path.to_string(),
+        message,
+    }
+}
+
+fn light_has(light: &Light, key: &str) -> bool {
+    matches!(
+        (light, key),
+        (Light::PhotonFlux { .. }, "light.photon_flux_per_um2_s")
+            | (
+                Light::Irradiance { .. },
+                "light.irradiance_w_per_m2" | "light.wavelength_nm"
+            )
+            | (Light::PhotonsPerPixel { .. }, "light.photons_per_pixel")
+    )
+}
+
+/// A copy of the scenario JSON with `key` (a dot path) set to `value`.
+fn with_key(base: &Value, key: &str, value: f64) -> Value {
+    let mut v = base.clone();
+    let mut cur = &mut v;
+    let mut parts = key.split('.').peekable();
+    while let Some(part) = parts.next() {
+        let Some(obj) = cur.as_object_mut() else {
+            break;
+        };
+        if parts.peek().is_none() {
+            obj.insert(part.to_string(), Value::from(value));
+            break;
+        }
+        cur = obj
+            .entry(part.to_string())
+            .or_insert_with(|| Value::Object(serde_json::Map::new()));
+    }
+    v
+}
+
+/// Set one key on a checked scenario. Only called with a key of [`SWEEPABLE`] and a value
+/// between two ends that validated, so the scenario stays valid.
+fn set(sc: &mut Scenario, key: &str, v: f64) {
+    let s = &mut sc.sensor;
+    match key {
+        "sensor.pixel_pitch_um" => s.pixel_pitch_um = v,
+        "sensor.quantum_efficiency" => s.quantum_efficiency = v,
+        "sensor.full_well_e" => s.full_well_e = v,
+        "sensor.read_noise_e" => s.read_noise_e = v,
+        "sensor.sense_node_capacitance_ff" => s.sense_node_capacitance_ff = Some(v),
+        "sensor.conversion_gain_uv_per_e" => s.conversion_gain_uv_per_e = Some(v),
+        "sensor.dark_current_e_per_s" => s.dark_current_e_per_s = v,
+        "sensor.dark_current_reference_c" => s.dark_current_reference_c = v,
+        "sensor.dark_current_doubling_c" => s.dark_current_doubling_c = v,
+        "sensor.dsnu_e" => s.dsnu_e = v,
+        "sensor.prnu_percent" => s.prnu_percent = v,
+        "sensor.adc_bits" => s.adc_bits = whole(v),
+        "sensor.system_gain_dn_per_e" => s.system_gain_dn_per_e = v,
+        "sensor.black_level_dn" => s.black_level_dn = v,
+        "exposure.time_s" => sc.exposure.time_s = v,
+        "exposure.frames_averaged" => sc.exposure.frames_averaged = whole(v),
+        "exposure.binning" => sc.exposure.binning = whole(v),
+        "temperature_c" => sc.temperature_c = v,
+        "snr_threshold" => sc.snr_threshold = v,
+        _ => set_light(&mut sc.light, key, v),
+    }
+}
+
+fn set_light(light: &mut Light, key: &str, v: f64) {
+    match (light, key) {
+        (
+            Light::PhotonFlux {
+                photon_flux_per_um2_s,
+            },
+            "light.photon_flux_per_um2_s",
+        ) => {
+            *photon_flux_per_um2_s = v;
+        }
+        (
+            Light::Irradiance {
+                irradiance_w_per_m2,
+                ..
+            },
+            "light.irradiance_w_per_m2",
+        ) => {
+            *irradiance_w_per_m2 = v;
+        }
+        (Light::Irradiance { wavelength_nm, .. }, "light.wavelength_nm") => *wavelength_nm = v,
+        (Light::PhotonsPerPixel { photons_per_pixel }, "light.photons_per_pixel") => {
+            *photons_per_pixel = v;
+        }
+        _ => {}
+    }
+}
+
+/// A whole number between validated ends, as the checked type stores it.
+fn whole(v: f64) -> u32 {
+    // OK because v was rounded and lies between two ends that validated as whole numbers
+    // within u32 range.
+    #[allow(clippy::cast_possible_truncation, clippy::cast_sign_loss)]
+    let n = v.round().max(1.0) as u32;
+    n
+}
+
+#[cfg(test)]
+#[allow(
+    clippy::unwrap_used,
+    clippy::expect_used,
+    clippy::indexing_slicing,
+    clippy::panic
+)]
+mod tests {
+    //! The sweep against single evaluations, and the regime boundaries against the model.
+
+    use serde_json::{json, Value};
+
+    use super::{sweep, to_csv, Spacing, SweepRequest, SWEEPABLE};
+    use crate::evaluate_json;
+
+    /// Agreement where two computations are equal in exact arithmetic but differ in the order
+    /// of a few roundings (ε ≈ 2.2e-16 each): far below 1e-12.
+    const ROUNDING: f64 = 1e-12;
+    /// The floor is recovered as temporal² − shot², a difference of two nearly equal squares
+    /// that loses up to about three digits of the 1e-12 above.
+    const DIFFERENCE_ROUNDING: f64 = 1e-9;
+
+    fn base() -> Value {
+        json!({
+            "version": 1,
+            "sensor": {"pixel_pitch_um": 3.45, "quantum_efficiency": 0.6, "full_well_e": 10000,
+                "read_noise_e": 2.5, "sense_node_capacitance_ff": 2.0, "readout": "dds",
+                "dark_current_e_per_s": 30, "dsnu_e": 1.5, "prnu_percent": 1.0, "adc_bits": 12,
+                "system_gain_dn_per_e": 0.25, "black_level_dn": 64},
+            "light": {"photon_flux_per_um2_s": 500},
+            "exposure": {"time_s": 0.01, "frames_averaged": 2, "binning": 2},
+            "temperature_c": 40, "snr_threshold": 3
+        })
+    }
+
+    fn request(key: &str, from: f64, to: f64, points: u32, spacing: Spacing) -> SweepRequest {
+        SweepRequest {
+            key: key.into(),
+            from,
+            to,
+            points,
+            spacing,
+        }
+    }
+
+    fn set(mut v: Value, key: &str, x: f64) -> Value {
+        let mut cur = &mut v;
+        let parts: Vec<&str> = key.split('.').collect();
+        for (i, p) in parts.iter().enumerate() {
+            if i + 1 == parts.len() {
+                cur[*p] = json!(x);
+            } else {
+                cur = &mut cur[*p];
+            }
+        }
+        v
+    }
+
+    #[test]
+    fn every_point_equals_a_single_evaluation() {
+        let b = base();
+        for &(key, _, whole) in SWEEPABLE {
+            if key.starts_with("light.") && key != "light.photon_flux_per_um2_s" {
+                continue;
+            }
+            // A range inside every key's rules, from the base value to 1.5 × it.
+            let v0 = {
+                let parts: Vec<&str> = key.split('.').collect();
+                let mut cur = &b;
+                for p in &parts {
+                    cur = &cur[*p];
+                }
+                cur.as_f64().unwrap_or(1.0)
+            };
+            let v0 = if v0 == 0.0 { 1.0 } else { v0 };
+            let to = match key {
+                "sensor.quantum_efficiency" => 0.9,
+                "sensor.prnu_percent" => 2.0,
+                "sensor.adc_bits" => 16.0,
+                _ => v0 * 1.5,
+            };
+            let s = sweep(&b, &request(key, v0, to, 7, Spacing::Linear))
+                .unwrap_or_else(|e| panic!("{key}: {e}"));
+            assert_eq!(s.points.len(), 7);
+            for p in &s.points {
+                let single = evaluate_json(&set(b.clone(), key, p.value).to_string())
+                    .unwrap_or_else(|e| panic!("{key} = {}: {e}", p.value));
+                assert_eq!(p.report, single, "{key} = {}", p.value);
+                if whole {
+                    assert_eq!(p.value.fract(), 0.0);
+                }
+            }
+        }
+    }
+
+    #[test]
+    fn log_spacing_hits_the_decades_and_the_ends() {
+        let s = sweep(
+            &base(),
+            &request("exposure.time_s", 1e-4, 1.0, 5, Spacing::Log),
+        )
+        .unwrap();
+        let values: Vec<f64> = s.points.iter().map(|p| p.value).collect();
+        assert_eq!(values, [1e-4, 1e-3, 1e-2, 1e-1, 1.0]);
+    }
+
+    #[test]
+    fn regime_boundaries_sit_where_the_variances_are_equal() {
+        // At S = read_to_shot_signal_e the photon shot variance equals the rest of the temporal
+        // variance; at S = shot_to_prnu_signal_e the PRNU variance equals the photon shot
+        // variance (SCENARIO.md's model; derived).
+        let b = base();
+        let s = sweep(
+            &b,
+            &request("exposure.time_s", 0.01, 0.02, 2, Spacing::Linear),
+        )
+        .unwrap();
+        let r = s.regimes;
+        let signal = |e: f64| {
+            // S = b² η μp with b = 2, η = 0.6: light given per pixel to land on S exactly.
+            let v = set(b.clone(), "light.photons_per_pixel", e / (4.0 * 0.6));
+            let mut v = v;
+            v["light"]
+                .as_object_mut()
+                .unwrap()
+                .remove("photon_flux_per_um2_s");
+            evaluate_json(&v.to_string()).unwrap()
+        };
+        let at = signal(r.read_to_shot_signal_e);
+        let shot = at.noise_e.photon_shot.powi(2);
+        let rest = at.noise_e.temporal.powi(2) - shot;
+        assert!(
+            (shot - rest).abs() <= DIFFERENCE_ROUNDING * shot,
+            "shot {shot} vs floor {rest}"
+        );
+        let p = r.shot_to_prnu_signal_e.unwrap();
+        let at = signal(p);
+        let (prnu, shot) = (at.noise_e.prnu, at.noise_e.photon_shot);
+        assert!(
+            (prnu - shot).abs() <= DIFFERENCE_ROUNDING * shot,
+            "prnu {prnu} vs shot {shot}"
+        );
+        // Saturation: b²(L − d).
+        let cap = at.saturation.capacity_e * 4.0;
+        assert!((r.saturation_signal_e.unwrap() - cap).abs() <= ROUNDING * cap);
+    }
+
+    #[test]
+    fn bad_requests_name_the_field() {
+        let b = base();
+        let msg = |r: SweepRequest| sweep(&b, &r).unwrap_err().to_string();
+        assert!(msg(request("sensor.colour", 1.0, 2.0, 5, Spacing::Linear))
+            .starts_with("sweep.key: \"sensor.colour\" is not a numeric scenario key"));
+        assert_eq!(
+            msg(request("exposure.time_s", -1.0, 1.0, 5, Spacing::Log)),
+            "sweep.from: log spacing needs both ends > 0, got -1 and 1"
+        );
+        assert_eq!(
+            msg(request("exposure.time_s", 1.0, 2.0, 1, Spacing::Linear)),
+            "sweep.points: must be a whole number from 2 to 100000, got 1"
+        );
+        assert_eq!(
+            msg(request(
+                "sensor.quantum_efficiency",
+                0.5,
+                1.5,
+                5,
+                Spacing::Linear
+            )),
+            "sweep.to: at 1.5: sensor.quantum_efficiency: must be ≤ 1, got 1.5"
+        );
+        assert_eq!(
+            msg(request(
+                "exposure.time_s",
+                f64::NAN,
+                1.0,
+                5,
+                Spacing::Linear
+            )),
+            "sweep.from: must be a finite number, got NaN"
+        );
+        let mut bad = b.clone();
+        bad["sensor"]["full_well_e"] = json!(-1);
+        assert_eq!(
+            sweep(
+                &bad,
+                &request("exposure.time_s", 1.0, 2.0, 5, Spacing::Linear)
+            )
+            .unwrap_err()
+            .to_string(),
+            "sensor.full_well_e: must be > 0, got -1"
+        );
+    }
+
+    #[test]
+    fn csv_has_a_header_with_units_and_one_row_a_point() {
+        let s = sweep(
+            &base(),
+            &request("temperature_c", -20.0, 60.0, 9, Spacing::Linear),
+        )
+        .unwrap();
+        let csv = to_csv(&s);
+        let lines: Vec<&str> = csv.split("\r\n").collect();
+        assert_eq!(
+            lines.len(),
+            9 + 2,
+            "header, 9 rows, and the empty string after the last CRLF"
+        );
+        assert!(
+            lines[0].starts_with("temperature_c [°C],photons_per_pixel [photons],signal_e [e-],")
+        );
+        let columns = lines[0].split(',').count();
+        for row in &lines[1..10] {
+            assert_eq!(row.split(',').count(), columns, "{row}");
+        }
+        assert!(lines[1].starts_with("-20,"));
+    }
+}
