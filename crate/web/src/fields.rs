@@ -1,0 +1,215 @@
+//! Turning what is typed in the form into scenario JSON, and scenario JSON back into field text.
+//!
+//! Pure functions on text and `serde_json::Value`, testable natively. They judge nothing: a
+//! field that is not a number is passed on as text so that the engine names the broken rule.
+//! No DOM, no engine call, no formula.
+
+use serde_json::{Map, Value};
+
+/// The light kinds of format version 1, each named by its first key, with all its keys.
+/// Order matches the page's light-kind choice.
+pub const LIGHT_KINDS: &[(&str, &[&str])] = &[
+    ("photon_flux_per_um2_s", &["photon_flux_per_um2_s"]),
+    (
+        "irradiance_w_per_m2",
+        &["irradiance_w_per_m2", "wavelength_nm"],
+    ),
+    ("photons_per_pixel", &["photons_per_pixel"]),
+];
+
+/// How a field's text becomes a JSON value.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Kind {
+    /// A number (the usual case).
+    Number,
+    /// Free text, or a choice among named options.
+    Text,
+}
+
+/// The JSON value for a field's text; `None` for an empty field (the key is left out, so the
+/// format's default applies, or the engine reports it missing).
+///
+/// A number field whose text is not a JSON number becomes a JSON string, which the engine
+/// refuses naming the field and the rule. A few harmless spellings people type are accepted
+/// (`+5`, `.5`, `5.`); everything else goes through the same JSON number parser as a file,
+/// so the page and the command-line tool read the same digits as the same number.
+///
+/// ```
+/// use noise_budget_web::fields::{value_for, Kind};
+/// assert_eq!(value_for("0.39", Kind::Number), Some(serde_json::json!(0.39)));
+/// assert_eq!(value_for("abc", Kind::Number), Some(serde_json::json!("abc")));
+/// assert_eq!(value_for("  ", Kind::Number), None);
+/// ```
+#[must_use]
+pub fn value_for(text: &str, kind: Kind) -> Option<Value> {
+    let t = text.trim();
+    if t.is_empty() {
+        return None;
+    }
+    match kind {
+        Kind::Text => Some(Value::String(text.to_string())),
+        Kind::Number => {
+            let unsigned = t.strip_prefix('+').unwrap_or(t);
+            let (sign, digits) = match unsigned.strip_prefix('-') {
+                Some(rest) => ("-", rest),
+                None => ("", unsigned),
+            };
+            let has_digit = digits.bytes().any(|b| b.is_ascii_digit());
+            let lead = if has_digit && digits.starts_with('.') {
+                "0"
+            } else {
+                ""
+            };
+            let trail = if has_digit && digits.ends_with('.') {
+                "0"
+            } else {
+                ""
+            };
+            let json = format!("{sign}{lead}{digits}{trail}");
+            match serde_json::from_str::<Value>(&json) {
+                Ok(v @ Value::Number(_)) => Some(v),
+                _ => Some(Value::String(t.to_string())),
+            }
+        }
+    }
+}
+
+/// Put `value` at the dot `path` inside `root`, making objects on the way.
+/// A path that runs into a non-object is left alone (the form never makes one).
+pub fn insert_at(root: &mut Map<String, Value>, path: &str, value: Value) {
+    let mut parts = path.split('.').peekable();
+    let mut here = root;
+    while let Some(part) = parts.next() {
+        if parts.peek().is_none() {
+            here.insert(part.to_string(), value);
+            return;
+        }
+        let next = here
+            .entry(part.to_string())
+            .or_insert_with(|| Value::Object(Map::new()));
+        match next {
+            Value::Object(m) => here = m,
+            _ => return,
+        }
+    }
+}
+
+/// The value at the dot `path` inside `root`, if there is one (and it is not `null`).
+#[must_use]
+pub fn value_at<'v>(root: &'v Value, path: &str) -> Option<&'v Value> {
+    path.split('.')
+        .try_fold(root, |v, part| v.get(part))
+        .filter(|v| !v.is_null())
+}
+
+/// The text a field shows for a scenario value: numbers as written by JSON, text as is.
+#[must_use]
+pub fn text_for(value: Option<&Value>) -> String {
+    match value {
+        None | Some(Value::Null) => String::new(),
+        Some(Value::String(s)) => s.clone(),
+        Some(other) => other.to_string(),
+    }
+}
+
+/// Which light kind a scenario's `light` object gives: the first kind with a key present.
+#[must_use]
+pub fn light_kind_of(scenario: &Value) -> Option<&'static str> {
+    let light = value_at(scenario, "light")?;
+    LIGHT_KINDS
+        .iter()
+        .find(|(_, keys)| keys.iter().any(|k| value_at(light, k).is_some()))
+        .map(|(name, _)| *name)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use serde_json::json;
+
+    #[test]
+    fn numbers_are_read_like_json_files() {
+        for (text, want) in [
+            ("10500", json!(10500)),
+            ("-5", json!(-5)),
+            ("1e-3", json!(0.001)),
+            (" 2.4 ", json!(2.4)),
+            ("+7", json!(7)),
+            (".5", json!(0.5)),
+            ("-.5", json!(-0.5)),
+            ("5.", json!(5.0)),
+        ] {
+            assert_eq!(value_for(text, Kind::Number), Some(want), "{text:?}");
+        }
+    }
+
+    #[test]
+    fn non_numbers_pass_through_as_text_for_the_engine_to_refuse() {
+        for text in ["abc", "0,39", "1e400", "NaN", "inf", "--1", ".", "1 2"] {
+            assert_eq!(
+                value_for(text, Kind::Number),
+                Some(Value::String(text.to_string())),
+                "{text:?}"
+            );
+        }
+    }
+
+    #[test]
+    fn text_fields_keep_spaces_and_empty_is_absent() {
+        assert_eq!(value_for(" a b ", Kind::Text), Some(json!(" a b ")));
+        assert_eq!(value_for("", Kind::Text), None);
+        assert_eq!(value_for("   ", Kind::Text), None);
+    }
+
+    #[test]
+    fn insert_and_read_dot_paths() {
+        let mut m = Map::new();
+        insert_at(&mut m, "sensor.full_well_e", json!(10));
+        insert_at(&mut m, "sensor.readout", json!("cds"));
+        insert_at(&mut m, "temperature_c", json!(25));
+        let v = Value::Object(m);
+        assert_eq!(
+            v,
+            json!({"sensor": {"full_well_e": 10, "readout": "cds"}, "temperature_c": 25})
+        );
+        assert_eq!(value_at(&v, "sensor.full_well_e"), Some(&json!(10)));
+        assert_eq!(value_at(&v, "sensor.nothing"), None);
+        assert_eq!(value_at(&v, "temperature_c.deeper"), None);
+        let mut m = Map::new();
+        insert_at(&mut m, "a", json!(1));
+        insert_at(&mut m, "a.b", json!(2));
+        assert_eq!(Value::Object(m), json!({"a": 1}));
+    }
+
+    #[test]
+    fn text_for_values() {
+        assert_eq!(text_for(Some(&json!(0.002))), "0.002");
+        assert_eq!(text_for(Some(&json!(12))), "12");
+        assert_eq!(text_for(Some(&json!("dds"))), "dds");
+        assert_eq!(text_for(None), "");
+        assert_eq!(text_for(Some(&Value::Null)), "");
+        // What a field shows reads back as the same number.
+        for x in [0.002, 1e-9, 3.45, 10500.0, 1e20, 0.1 + 0.2] {
+            let t = text_for(Some(&json!(x)));
+            assert_eq!(value_for(&t, Kind::Number), Some(json!(x)), "{t}");
+        }
+    }
+
+    #[test]
+    fn light_kinds() {
+        assert_eq!(
+            light_kind_of(&json!({"light": {"irradiance_w_per_m2": 1, "wavelength_nm": 500}})),
+            Some("irradiance_w_per_m2")
+        );
+        assert_eq!(
+            light_kind_of(&json!({"light": {"wavelength_nm": 500}})),
+            Some("irradiance_w_per_m2")
+        );
+        assert_eq!(
+            light_kind_of(&json!({"light": {"photons_per_pixel": 3}})),
+            Some("photons_per_pixel")
+        );
+        assert_eq!(light_kind_of(&json!({"light": {}})), None);
+        assert_eq!(light_kind_of(&json!({})), None);
+    }
+}

@@ -1,0 +1,56 @@
+//! The page's wasm boundary: reads the form and the address, calls the engine, writes results.
+//!
+//! The only crate that touches the DOM. It holds no formula and no validation rule: every
+//! figure and every refusal comes from `engine`; rounded display text comes from the browser's
+//! `Intl.NumberFormat`. Nothing here may panic on what a user types, links or opens.
+
+pub mod address;
+pub mod demos;
+pub mod fields;
+
+#[cfg(target_arch = "wasm32")]
+pub mod app;
+#[cfg(target_arch = "wasm32")]
+mod display;
+#[cfg(target_arch = "wasm32")]
+pub mod dom;
+#[cfg(target_arch = "wasm32")]
+mod form;
+#[cfg(target_arch = "wasm32")]
+mod results;
+#[cfg(target_arch = "wasm32")]
+mod store;
+
+#[cfg(target_arch = "wasm32")]
+use wasm_bindgen::prelude::*;
+
+/// Entry point: set the page up (does nothing on a page without the calculator's form).
+#[cfg(target_arch = "wasm32")]
+#[wasm_bindgen(start)]
+pub fn start() {
+    app::mount();
+}
+
+/// Evaluate a scenario (JSON text) and return the report as a JavaScript object, with `null`
+/// for figures that do not exist; for scripts and tests that want figures without the form.
+///
+/// # Errors
+/// The engine's problems, one per line, each naming its key.
+#[cfg(target_arch = "wasm32")]
+#[wasm_bindgen]
+pub fn evaluate(scenario_json: &str) -> Result<JsValue, JsError> {
+    use serde::Serialize as _;
+    let report = engine::evaluate_json(scenario_json).map_err(|e| JsError::new(&e.to_string()))?;
+    let ser = serde_wasm_bindgen::Serializer::new().serialize_missing_as_null(true);
+    report
+        .serialize(&ser)
+        .map_err(|e| JsError::new(&e.to_string()))
+}
+
+/// The calculator's version.
+#[cfg(target_arch = "wasm32")]
+#[wasm_bindgen]
+#[must_use]
+pub fn version() -> String {
+    env!("CARGO_PKG_VERSION").to_string()
+}

@@ -1,0 +1,142 @@
+//! Writing a report on the page: every `data-report` element gets its figure, the variance bar
+//! its shares, and each warning goes beside the figures it concerns.
+//!
+//! Presentation only: figures are copied from the engine's report (serialized to JSON values)
+//! and formatted for display; nothing is computed from them here.
+
+use engine::report::Warning;
+use serde_json::Value;
+use wasm_bindgen::JsCast;
+use web_sys::{Element, HtmlElement};
+
+use crate::display::{self, Style};
+use crate::dom;
+use crate::fields::value_at;
+
+/// Written on the page for a figure that does not exist in this scenario (a report `null`).
+const NO_FIGURE: &str = "—";
+/// `data-value` of a figure that does not exist, as in the report's JSON.
+const NULL_VALUE: &str = "null";
+
+/// Show a report: figures, bar, warnings, and lift the stale mark.
+pub fn show(report: &engine::Report) {
+    let Ok(value) = serde_json::to_value(report) else {
+        return;
+    };
+    for el in dom::all_in_document("[data-report]") {
+        let path = el.get_attribute("data-report").unwrap_or_default();
+        write_figure(&el, value_at(&value, &path));
+    }
+    for el in dom::all_in_document("[data-share]") {
+        let path = el.get_attribute("data-share").unwrap_or_default();
+        let share = value_at(&value, &path)
+            .and_then(Value::as_f64)
+            .unwrap_or(0.0);
+        if let Some(h) = el.dyn_ref::<HtmlElement>() {
+            // The share itself is the flex weight: no arithmetic on it here.
+            let _ = h.style().set_property("flex-grow", &display::full(share));
+        }
+        dom::set_attr(&el, "title", &display::rounded(share, Style::Percent));
+    }
+    show_warnings(&report.warnings);
+    set_stale(false);
+}
+
+fn write_figure(el: &Element, v: Option<&Value>) {
+    let unit = el.get_attribute("data-unit").unwrap_or_default();
+    let fmt = el.get_attribute("data-fmt").unwrap_or_default();
+    let (data, text) = match v {
+        Some(Value::Number(n)) => {
+            let x = n.as_f64().unwrap_or(f64::NAN);
+            let style = if fmt == "pct" {
+                Style::Percent
+            } else {
+                Style::Number
+            };
+            (
+                display::full(x),
+                format!("{}{unit}", display::rounded(x, style)),
+            )
+        }
+        Some(Value::Bool(b)) => {
+            let word = if *b { "yes" } else { "no" };
+            (b.to_string(), word.to_string())
+        }
+        Some(Value::String(s)) => (s.clone(), words(s)),
+        _ => (NULL_VALUE.to_string(), NO_FIGURE.to_string()),
+    };
+    dom::set_attr(el, "data-value", &data);
+    el.set_text_content(Some(&text));
+}
+
+/// A report word (`full_well`, `adc`) as plain words.
+fn words(s: &str) -> String {
+    match s {
+        "full_well" => "the full well".into(),
+        "adc" => "the ADC range".into(),
+        other => other.replace('_', " "),
+    }
+}
+
+/// Put each warning's sentence in the warning list of every result group holding a figure it
+/// concerns, and mark those figures; a warning about no shown figure goes in the general list.
+fn show_warnings(warnings: &[Warning]) {
+    for list in dom::all_in_document("[data-warn-host] > .warnings") {
+        dom::clear(&list);
+    }
+    if let Some(general) = dom::by_id("warnings-general") {
+        dom::clear(&general);
+    }
+    for el in dom::all_in_document("[data-report].warned") {
+        dom::set_class(&el, "warned", false);
+    }
+    for w in warnings {
+        let code = serde_json::to_value(w.code)
+            .ok()
+            .and_then(|v| v.as_str().map(str::to_string))
+            .unwrap_or_default();
+        let mut lists: Vec<Element> = Vec::new();
+        for path in &w.concerns {
+            for fig in dom::all_in_document("[data-report]")
+                .into_iter()
+                .filter(|e| e.get_attribute("data-report").as_deref() == Some(path))
+            {
+                dom::set_class(&fig, "warned", true);
+                let list = fig
+                    .closest("[data-warn-host]")
+                    .ok()
+                    .flatten()
+                    .and_then(|h| h.query_selector(":scope > .warnings").ok().flatten());
+                if let Some(list) = list {
+                    if !lists.iter().any(|l| l.is_same_node(Some(&list))) {
+                        lists.push(list);
+                    }
+                }
+            }
+        }
+        if lists.is_empty() {
+            lists.extend(dom::by_id("warnings-general"));
+        }
+        for list in lists {
+            if let Some(li) = dom::new_element("li", &w.message) {
+                dom::set_attr(&li, "data-warning", &code);
+                let _ = list.append_child(&li);
+            }
+        }
+    }
+}
+
+/// Mark the results as belonging to an earlier, valid scenario (or not).
+pub fn set_stale(stale: bool) {
+    if let Some(results) = dom::by_id("results") {
+        dom::set_class(&results, "stale", stale);
+        if stale {
+            dom::set_attr(&results, "aria-describedby", "stale-note");
+        } else {
+            dom::remove_attr(&results, "aria-describedby");
+        }
+    }
+    if let Some(note) = dom::by_id("stale-note") {
+        dom::set_hidden(&note, !stale);
+    }
+}

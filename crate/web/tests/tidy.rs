@@ -1,0 +1,251 @@
+//! Tidy checks for the page, run natively by `cargo test`: the web crate and `www/index.html`
+//! agree (ids, names, report paths), and every source file says what it is for.
+//!
+//! They read files and the engine's output only; they drive no browser (the page tests do).
+
+use std::fs;
+use std::path::{Path, PathBuf};
+
+use noise_budget_web::demos::DEMOS;
+use noise_budget_web::fields::value_at;
+
+fn crate_dir() -> PathBuf {
+    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
+}
+
+fn read(path: &Path) -> String {
+    let text = fs::read_to_string(path);
+    assert!(text.is_ok(), "cannot read {}", path.display());
+    text.unwrap_or_default()
+}
+
+fn index_html() -> String {
+    read(&crate_dir().join("../../www/index.html"))
+}
+
+fn rust_sources() -> Vec<PathBuf> {
+    let mut out = Vec::new();
+    for dir in ["src", "tests"] {
+        let entries = fs::read_dir(crate_dir().join(dir));
+        assert!(entries.is_ok(), "cannot list {dir}");
+        for e in entries.into_iter().flatten().flatten() {
+            let p = e.path();
+            if p.extension().and_then(|x| x.to_str()) == Some("rs") {
+                out.push(p);
+            }
+        }
+    }
+    out.sort();
+    out
+}
+
+/// Every value of `attr="…"` in the HTML text.
+fn attribute_values(html: &str, attr: &str) -> Vec<String> {
+    let needle = format!(" {attr}=\"");
+    html.match_indices(&needle)
+        .filter_map(|(i, _)| {
+            let rest = html.get(i + needle.len()..)?;
+            rest.find('"')
+                .and_then(|end| rest.get(..end))
+                .map(str::to_string)
+        })
+        .collect()
+}
+
+/// The functions that look an element up by id: the DOM helper and the helpers that forward
+/// their own `id: &'static str` parameter to it.
+const LOOKUPS: &[&str] = &["by_id", "by_id_as", "on_id", "set_text_of"];
+
+/// Every id argument of a look-up in a Rust source: `Ok(literal)`, or `Err(text)` for an
+/// argument that is neither a literal nor a helper forwarding its own `id` parameter.
+fn looked_up_ids(src: &str) -> Vec<Result<String, String>> {
+    let mut out = Vec::new();
+    for name in LOOKUPS {
+        for (i, _) in src.match_indices(name) {
+            let before = src.get(..i).and_then(|b| b.chars().last());
+            if before.is_some_and(|c| c.is_alphanumeric() || c == '_') {
+                continue; // part of a longer name
+            }
+            let Some(rest) = src.get(i + name.len()..) else {
+                continue;
+            };
+            let rest = match rest.strip_prefix("::<") {
+                Some(r) => r.split_once(">(").map_or("", |(_, after)| after),
+                None => match rest.strip_prefix('(') {
+                    Some(r) => r,
+                    None => continue, // another look-up name's prefix, or not a call
+                },
+            };
+            let rest = rest.trim_start();
+            if rest.starts_with("id: ") || rest.starts_with("id)") || rest.starts_with("id,") {
+                continue; // the helper's own signature, or forwarding its parameter
+            }
+            match rest.strip_prefix('"').and_then(|a| a.split_once('"')) {
+                Some((id, _)) => out.push(Ok(id.to_string())),
+                None => out.push(Err(rest.chars().take(40).collect())),
+            }
+        }
+    }
+    out
+}
+
+/// The `name`s of the scenario form's fields.
+fn form_field_names() -> Vec<String> {
+    let html = index_html();
+    let form = html
+        .split_once("<form")
+        .and_then(|(_, rest)| rest.split_once("</form>"))
+        .map(|(form, _)| form.to_string());
+    assert!(form.is_some(), "www/index.html has no form");
+    attribute_values(&form.unwrap_or_default(), "name")
+}
+
+#[test]
+fn every_rust_file_opens_with_a_purpose_line() {
+    for path in rust_sources() {
+        let text = read(&path);
+        assert!(
+            text.starts_with("//!"),
+            "{} must open with a `//!` line saying what it is for and what it does not do",
+            path.display()
+        );
+    }
+}
+
+#[test]
+fn every_id_the_web_crate_looks_up_exists_in_index_html() {
+    let ids = attribute_values(&index_html(), "id");
+    let mut checked = 0;
+    for path in rust_sources()
+        .into_iter()
+        .filter(|p| p.starts_with(crate_dir().join("src")))
+    {
+        for found in looked_up_ids(&read(&path)) {
+            match found {
+                Ok(id) => {
+                    assert!(
+                        ids.contains(&id),
+                        "{} looks up #{id}, which www/index.html lacks",
+                        path.display()
+                    );
+                    checked += 1;
+                }
+                Err(arg) => panic_free_fail(&format!(
+                    "{}: by_id must be called with a literal id, got `{arg}`",
+                    path.display()
+                )),
+            }
+        }
+    }
+    assert!(
+        checked > 10,
+        "found only {checked} id look-ups: is the scan broken?"
+    );
+}
+
+fn panic_free_fail(msg: &str) {
+    assert!(msg.is_empty(), "{msg}");
+}
+
+#[test]
+fn ids_in_index_html_are_unique() {
+    let ids = attribute_values(&index_html(), "id");
+    for id in &ids {
+        assert_eq!(
+            ids.iter().filter(|x| *x == id).count(),
+            1,
+            "duplicate id {id}"
+        );
+    }
+}
+
+#[test]
+fn every_report_path_on_the_page_exists_in_a_report() {
+    let html = index_html();
+    let mut paths = attribute_values(&html, "data-report");
+    paths.extend(attribute_values(&html, "data-share"));
+    assert!(paths.len() > 40, "found only {} report paths", paths.len());
+    // noise_uv is null without a conversion gain: the demo with one shows every path.
+    let mut reports = Vec::new();
+    for d in DEMOS {
+        let report = engine::evaluate_json(d.json);
+        assert!(report.is_ok(), "{}", d.name);
+        if let Ok(r) = report {
+            let v = serde_json::to_value(&r);
+            assert!(v.is_ok());
+            reports.push(v.unwrap_or_default());
+        }
+    }
+    for p in &paths {
+        let present = reports.iter().any(|r| {
+            // A key whose value is null exists; `value_at` skips nulls, so look at the parent.
+            value_at(r, p).is_some()
+                || p.rsplit_once('.').map_or_else(
+                    || r.get(p).is_some(),
+                    |(parent, key)| value_at(r, parent).and_then(|o| o.get(key)).is_some(),
+                )
+        });
+        assert!(present, "data-report=\"{p}\" is not a path of the report");
+    }
+}
+
+#[test]
+fn every_leaf_of_every_demo_has_a_field_named_by_its_path() {
+    let names = form_field_names();
+    for d in DEMOS {
+        let v: serde_json::Value = serde_json::from_str(d.json).unwrap_or_default();
+        let mut leaves = Vec::new();
+        collect_leaves(&v, String::new(), &mut leaves);
+        for path in leaves {
+            if path == "version" {
+                continue; // written by the page, not typed
+            }
+            assert!(
+                names.contains(&path),
+                "demo {}: no form field named \"{path}\"",
+                d.name
+            );
+        }
+    }
+    for n in &names {
+        assert!(
+            !n.starts_with("x_"),
+            "form field names are scenario keys, not extensions: {n}"
+        );
+    }
+}
+
+fn collect_leaves(v: &serde_json::Value, prefix: String, out: &mut Vec<String>) {
+    match v {
+        serde_json::Value::Object(m) => {
+            for (k, child) in m {
+                let p = if prefix.is_empty() {
+                    k.clone()
+                } else {
+                    format!("{prefix}.{k}")
+                };
+                collect_leaves(child, p, out);
+            }
+        }
+        _ => out.push(prefix),
+    }
+}
+
+#[test]
+fn every_form_field_is_a_scenario_key_the_engine_accepts() {
+    // Put each named field's path into a valid demo with a valid value of its kind: the engine
+    // must not call it an unknown key. Values come from the demos, where each key is used.
+    let names = form_field_names();
+    assert!(names.len() >= 22, "found only {} named fields", names.len());
+    for name in &names {
+        let used = DEMOS.iter().any(|d| {
+            let v: serde_json::Value = serde_json::from_str(d.json).unwrap_or_default();
+            value_at(&v, name).is_some()
+        });
+        let light_key = name.starts_with("light.");
+        assert!(
+            used || light_key,
+            "field {name} is not used by any demo, so it is not known to be a scenario key"
+        );
+    }
+}

@@ -1,0 +1,117 @@
+#!/usr/bin/env node
+// Finish Trunk's dist/ so the page needs no network at all, and write the self-contained file.
+//
+// Trunk's own loader fetches the wasm, which a `connect-src 'none'` policy forbids. This script
+// replaces it: the wasm-bindgen glue (exports removed) and the wasm (as base64) become one
+// module script, app-<hash>.js. Then:
+//   dist/index.html        the served page: CSP meta, style and app script from its own origin;
+//   dist/noise-budget.html one file with the style and the script inline, allowed by hash,
+//                          which works opened from file:// with no server and no network.
+// Sizes go to dist/sizes.json (a measurement; nothing checks them here).
+// Usage: node scripts/single-file.mjs [dist]
+import { createHash } from 'node:crypto';
+import { readFileSync, readdirSync, rmSync, writeFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { gzipSync } from 'node:zlib';
+
+const dist = process.argv[2] ?? 'dist';
+const files = readdirSync(dist);
+const fail = (msg) => { console.error(`single-file: ${msg}`); process.exit(1); };
+
+const wasmName = files.find((f) => /^noise-budget-web-[0-9a-f]+_bg\.wasm$/.test(f));
+if (!wasmName) fail(`no noise-budget-web-*_bg.wasm in ${dist}; run trunk build first`);
+const glueName = wasmName.replace(/_bg\.wasm$/, '.js');
+if (!files.includes(glueName)) fail(`no ${glueName} in ${dist}`);
+const cssName = files.find((f) => /^style-[0-9a-f]+\.css$/.test(f));
+if (!cssName) fail(`no style-*.css in ${dist}`);
+
+const wasm = readFileSync(join(dist, wasmName));
+const css = readFileSync(join(dist, cssName), 'utf8');
+let html = readFileSync(join(dist, 'index.html'), 'utf8');
+
+// The glue as a plain module body: no exports (an inline module cannot be imported anyway).
+let glue = readFileSync(join(dist, glueName), 'utf8')
+  .replace(/^export (function|class|const|let|async function) /gm, '$1 ')
+  .replace(/^export \{[^}]*\};?[ \t]*$/gm, '')
+  .replace(/^export default [^;\n]+;?[ \t]*$/gm, '');
+if (/^\s*export\b/m.test(glue)) fail(`an export the script does not handle is left in ${glueName}`);
+if (!/\bfunction __wbg_init\b|\b__wbg_init\s*=/.test(glue)) fail(`${glueName} has no __wbg_init`);
+
+const app = `${glue}
+// ---- noise-budget start-up (scripts/single-file.mjs) ----
+// The wasm is embedded so the page makes no request for it (the CSP forbids fetching).
+const NOISE_BUDGET_WASM = "${wasm.toString('base64')}";
+function noiseBudgetBytes(b64) {
+  if (typeof Uint8Array.fromBase64 === 'function') return Uint8Array.fromBase64(b64);
+  const text = atob(b64);
+  const bytes = new Uint8Array(text.length);
+  for (let i = 0; i < text.length; i++) bytes[i] = text.charCodeAt(i);
+  return bytes;
+}
+__wbg_init({ module_or_path: noiseBudgetBytes(NOISE_BUDGET_WASM) }).then(
+  () => { window.wasmBindings = { evaluate, version }; },
+  (err) => {
+    const el = document.getElementById('boot-status');
+    if (el) {
+      el.hidden = false;
+      el.textContent = 'The calculator could not start in this browser: ' + err;
+    }
+  },
+);
+`;
+
+const sha256 = (text) => createHash('sha256').update(text, 'utf8').digest('base64');
+const short = (text) => createHash('sha256').update(text, 'utf8').digest('hex').slice(0, 16);
+const escapeScript = (text) => text.replace(/<\/(script)/gi, '<\\/$1');
+const escapeStyle = (text) => text.replace(/<\/(style)/gi, '<\\/$1');
+
+// Remove Trunk's loader and preloads; keep everything else as Trunk wrote it.
+const scriptCount = (html.match(/<script\b/g) ?? []).length;
+html = html
+  .replace(/<script type="module"[^>]*>[\s\S]*?<\/script>\s*/g, '')
+  .replace(/<link rel="(?:modulepreload|preload)"[^>]*>\s*/g, '');
+if (/<script\b/.test(html)) {
+  fail(`a script tag other than Trunk's loader is left in index.html (${scriptCount} before)`);
+}
+const cssLink = html.match(/<link rel="stylesheet"[^>]*href="\.?\/?(style-[0-9a-f]+\.css)"[^>]*>/);
+if (!cssLink) fail('no stylesheet link for the Trunk-built CSS in index.html');
+const charset = '<meta charset="utf-8">';
+if (!html.includes(charset)) fail(`index.html has no ${charset}`);
+
+const common = "default-src 'none'; img-src data:; connect-src 'none'; base-uri 'none'; form-action 'none'";
+const csp = (scripts, styles) =>
+  `<meta http-equiv="Content-Security-Policy" content="${common}; script-src ${scripts} 'wasm-unsafe-eval'; style-src ${styles}">`;
+
+// The served page: style and script from its own origin.
+const appName = `app-${short(app)}.js`;
+writeFileSync(join(dist, appName), app);
+const served = html
+  .replace(charset, `${charset}\n  ${csp("'self'", "'self'")}`)
+  .replace('</head>', `  <script type="module" src="./${appName}"></script>\n</head>`);
+writeFileSync(join(dist, 'index.html'), served);
+
+// The single file: everything inline, allowed by hash.
+const inlineApp = escapeScript(app);
+const inlineCss = escapeStyle(css);
+const single = html
+  .replace(charset, `${charset}\n  ${csp(`'sha256-${sha256(inlineApp)}'`, `'sha256-${sha256(inlineCss)}'`)}`)
+  .replace(cssLink[0], () => `<style>${inlineCss}</style>`)
+  .replace('</head>', () => `  <script type="module">${inlineApp}</script>\n</head>`);
+writeFileSync(join(dist, 'noise-budget.html'), single);
+
+// The glue and the wasm now live inside the app script: drop the loose copies.
+rmSync(join(dist, glueName));
+rmSync(join(dist, wasmName));
+
+const size = (buf) => ({ raw: buf.length, gzip: gzipSync(buf, { level: 9 }).length });
+const sizes = {
+  single_file: size(Buffer.from(single)),
+  wasm: size(wasm),
+  app_script: size(Buffer.from(app)),
+  css: size(Buffer.from(css)),
+};
+writeFileSync(join(dist, 'sizes.json'), `${JSON.stringify(sizes, null, 2)}\n`);
+const kb = (n) => `${(n / 1024).toFixed(1)} KiB`;
+console.log(`single-file: ${dist}/index.html (+ ${appName}, ${cssName}) and ${dist}/noise-budget.html`);
+console.log(`single-file: noise-budget.html ${kb(sizes.single_file.raw)} raw, ${kb(sizes.single_file.gzip)} gzip; ` +
+  `wasm ${kb(sizes.wasm.raw)} raw, ${kb(sizes.wasm.gzip)} gzip`);
