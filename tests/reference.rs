@@ -385,3 +385,152 @@ fn temperature_doubling_law() {
         }
     }
 }
+
+// ---- §5 photometry and spectra ---------------------------------------------------------------
+
+use engine::spectrum::{self, Spectrum};
+
+/// REFERENCES.md §5 quotes photons per lux to 5 significant digits: half a unit in the 5th.
+const FIVE_DIGITS: f64 = 5e-5;
+/// The band REFERENCES.md §5 uses for both integrals of its photons-per-lux table.
+const VISIBLE: (f64, f64) = (380.0, 780.0);
+
+#[test]
+fn photons_per_lux_for_the_cie_illuminants() {
+    // Source: REFERENCES.md §5 "Photons s⁻¹ µm⁻² per lux", 1 nm trapezoid over 380–780 nm for
+    // both integrals, K_m = 683 lm/W (computed there with numpy from the colour-science tables).
+    for (s, want) in [
+        (Spectrum::CieA, 21005.0),
+        (Spectrum::CieD65, 13887.0),
+        (Spectrum::EqualEnergy, 16003.0),
+    ] {
+        let got = spectrum::photons_per_lux(&s, VISIBLE, VISIBLE).unwrap();
+        assert_rel(got, want, FIVE_DIGITS, s.kind());
+    }
+    // "A as Planck 2856 K, c2 = 1.4388e-2": 21001 (T scaled so that c₂/(λT) matches).
+    let c2 = engine::constants::PLANCK_J_S * engine::constants::SPEED_OF_LIGHT_M_PER_S
+        / engine::constants::BOLTZMANN_J_PER_K;
+    let planck = Spectrum::Blackbody {
+        temperature_k: 2856.0 * c2 / 1.4388e-2,
+    };
+    assert_rel(
+        spectrum::photons_per_lux(&planck, VISIBLE, VISIBLE).unwrap(),
+        21001.0,
+        FIVE_DIGITS,
+        "Planck",
+    );
+}
+
+#[test]
+fn luminous_efficacy_over_the_visible_band() {
+    // Source: REFERENCES.md §5 table, "Luminous efficacy over 380–780 [lm/W]": A 156.20,
+    // D65 205.15, E 182.46 (quoted to 5 digits).
+    for (s, want) in [
+        (Spectrum::CieA, 156.20),
+        (Spectrum::CieD65, 205.15),
+        (Spectrum::EqualEnergy, 182.46),
+    ] {
+        let lm = 683.0 * s.integrate(VISIBLE, spectrum::v_lambda);
+        let w = s.integrate(VISIBLE, |_| 1.0);
+        assert_rel(lm / w, want, FIVE_DIGITS, s.kind());
+    }
+}
+
+#[test]
+fn v_lambda_table_and_its_integral() {
+    // Source: REFERENCES.md §5 V(λ) table (CIE 1924, colour-science 0.4.7 / CVRL) and
+    // "∫V dλ over 360–830 nm (1 nm trapezoid) = 106.8569 nm".
+    for (nm, v) in [
+        (380.0, 0.000039),
+        (470.0, 0.09098),
+        (555.0, 1.0),
+        (550.0, 0.9949501),
+        (650.0, 0.107),
+        (740.0, 0.0002492),
+        (780.0, 0.00001499),
+    ] {
+        assert_rel(spectrum::v_lambda(nm), v, 1e-12, "V(λ)");
+    }
+    let integral =
+        Spectrum::EqualEnergy.integrate(spectrum::PHOTOMETRIC_BAND_NM, spectrum::v_lambda);
+    assert_rel(integral, 106.8569, 5e-7, "∫V dλ"); // 7 digits quoted
+}
+
+#[test]
+fn one_lux_at_555_nm() {
+    // Source: REFERENCES.md §5: 1 lx at 555 nm (V = 1, K_m = 683) is 4090.7 photons s⁻¹ µm⁻².
+    let line = Spectrum::Monochromatic {
+        wavelength_nm: 555.0,
+    };
+    let got = spectrum::photons_per_lux(&line, VISIBLE, spectrum::PHOTOMETRIC_BAND_NM).unwrap();
+    assert_rel(got, 4090.7, 2e-5, "1 lx at 555 nm"); // 5 digits quoted
+                                                     // No visible light: a line at 850 nm has no lux.
+    let nir = Spectrum::Monochromatic {
+        wavelength_nm: 850.0,
+    };
+    assert_eq!(
+        spectrum::photons_per_lux(&nir, (300.0, 1100.0), spectrum::PHOTOMETRIC_BAND_NM),
+        None
+    );
+}
+
+#[test]
+fn d65_table_matches_the_published_values() {
+    // Source: REFERENCES.md §5 D65 10 nm table (colour-science 0.4.7 for 300–780 nm, luxpy for
+    // 790–830 nm); the values are tabulated, so they must agree exactly.
+    for (nm, v) in [
+        (300.0, 0.0341),
+        (450.0, 117.008),
+        (560.0, 100.0),
+        (780.0, 63.3828),
+        (790.0, 64.3040),
+        (830.0, 60.3125),
+    ] {
+        assert_eq!(spectrum::d65(nm), Some(v), "D65 at {nm} nm");
+    }
+    assert_eq!(spectrum::d65(835.0), None);
+    assert_eq!(spectrum::d65(295.0), None);
+    // The 5 nm rows are means of the 10 nm rows (checked at 305 nm in REFERENCES.md §5).
+    let mean = (0.0341 + 3.2945) / 2.0;
+    assert_rel(spectrum::d65(305.0).unwrap(), mean, 1e-12, "D65 at 305 nm");
+}
+
+#[test]
+fn illuminant_a_formula() {
+    // Source: REFERENCES.md §5 "Formula vs Planck" table (colour-science's
+    // sd_CIE_standard_illuminant_A, CIE 15:2004).
+    for (nm, want) in [
+        (380.0, 9.79510),
+        (450.0, 33.08589),
+        (560.0, 100.0),
+        (650.0, 165.02751),
+        (780.0, 241.67539),
+    ] {
+        assert_rel(spectrum::cie_a(nm), want, 1e-6, "S_A");
+    }
+}
+
+#[test]
+fn embedded_tables_equal_their_data_files() {
+    // The data files are compared with colour-science by tests/python/test_cie_tables.py;
+    // here the embedded functions must return every row exactly.
+    let dir = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("data");
+    for (file, f) in [
+        (
+            "cie_1924_photopic_v.csv",
+            (|nm| Some(spectrum::v_lambda(nm))) as fn(f64) -> Option<f64>,
+        ),
+        ("cie_d65.csv", spectrum::d65),
+    ] {
+        let text = std::fs::read_to_string(dir.join(file)).unwrap();
+        let mut n = 0;
+        for line in text.lines().skip(1) {
+            let mut cells = line.split(',');
+            let nm: f64 = cells.next().unwrap().parse().unwrap();
+            let v: f64 = cells.next().unwrap().parse().unwrap();
+            assert_eq!(f(nm), Some(v), "{file} at {nm} nm");
+            n += 1;
+        }
+        assert!(n > 90, "{file}: only {n} rows");
+    }
+}
