@@ -3,6 +3,7 @@
 //! The only crate that touches files and the terminal. It computes nothing itself: every
 //! figure comes from the engine; this file reads input, picks an output form, sets the exit code.
 
+mod characterize;
 mod demos;
 mod table;
 
@@ -60,6 +61,21 @@ enum Command {
         /// The scenario file (JSON); `-` reads standard input.
         file: PathBuf,
     },
+    /// Measure a camera from dark and flat frames (photon transfer method, EMVA 1288 linear
+    /// model) and print the measured `sensor` section with its fit (JSON by default).
+    ///
+    /// MANIFEST is JSON: {"version": 1, "frames": [{"path", "kind": "dark"|"flat",
+    /// "exposure_time_s", optional "level", "photons_per_pixel", "raw": {"width", "height",
+    /// "bits"}}], optional "roi": {"x", "y", "width", "height"}, optional "raw"}; paths are
+    /// relative to the manifest. Exit status: 0 on success, 2 for an invalid manifest, an
+    /// undecodable frame or frames that cannot be analysed, 1 when a file cannot be read.
+    Characterize {
+        /// Print a readable table instead of JSON.
+        #[arg(long)]
+        table: bool,
+        /// The manifest file (JSON).
+        manifest: PathBuf,
+    },
     /// Print an invented demo scenario, valid input for `eval`.
     Example {
         /// Which demo to print (see --list); the first one by default.
@@ -75,6 +91,7 @@ fn main() -> ExitCode {
     match cli.command {
         Command::Eval { table, file } => eval(&file, table),
         Command::Example { name, list } => example(name.as_deref(), list),
+        Command::Characterize { table, manifest } => characterize::run(&manifest, table),
         Command::Sweep {
             vary,
             from,

@@ -136,7 +136,9 @@ pub(super) fn decode(bytes: &[u8]) -> Result<Frame, FrameError> {
         });
     }
     limits.decoding_buffer_size = usize::try_from(decoded_bytes).unwrap_or(usize::MAX);
-    limits.intermediate_buffer_size = limits.decoding_buffer_size;
+    // Compressed strips are read whole before decoding: they cannot exceed the file.
+    limits.intermediate_buffer_size =
+        usize::try_from(decoded_bytes.max(file_bytes)).unwrap_or(usize::MAX);
     let mut d = d.with_limits(limits);
     let pixels = match d.read_image().map_err(|e| corrupt(&e))? {
         DecodingResult::U8(v) => v.into_iter().map(u16::from).collect(),

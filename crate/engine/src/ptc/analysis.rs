@@ -64,6 +64,11 @@ pub enum AnalysisError {
         /// Pixels per frame in a later stack.
         other: u64,
     },
+    /// Fewer than two flat stacks are brighter than their dark.
+    FlatsNotAboveDark {
+        /// Flat stacks whose mean exceeds the dark mean.
+        found: usize,
+    },
     /// Fewer than two flat levels below 70 % of saturation.
     TooFewPointsInRange {
         /// Flat levels in the fit range.
@@ -93,6 +98,11 @@ impl fmt::Display for AnalysisError {
             AnalysisError::SizeMismatch { first, other } => write!(
                 f,
                 "stacks differ in size: {first} pixels per frame in one, {other} in another"
+            ),
+            AnalysisError::FlatsNotAboveDark { found } => write!(
+                f,
+                "only {found} flat stack(s) are brighter than the dark frames: the gain needs \
+                 two or more (check that flats and darks are not swapped)"
             ),
             AnalysisError::TooFewPointsInRange { found } => write!(
                 f,
@@ -258,6 +268,12 @@ pub struct NonUniformityFit {
     /// Its fraction of saturation (of the highest level if saturation was not found).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub flat_fraction_of_saturation: Option<f64>,
+    /// Standard uncertainty of DSNU, e⁻ (when resolved).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub dsnu_uncertainty_e: Option<f64>,
+    /// Standard uncertainty of PRNU, percent (when resolved).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub prnu_uncertainty_percent: Option<f64>,
 }
 
 /// Linearity error.
@@ -341,6 +357,7 @@ struct DarkRef {
     variance_dn2: f64,
     variance_uncertainty_dn2: f64,
     spatial_dn2: f64,
+    spatial_uncertainty_dn2: f64,
     exposure_time_s: f64,
     matched: bool,
 }
@@ -356,6 +373,20 @@ fn variance_uncertainty(s: &StackStats) -> f64 {
     let n = s.pixels as f64 * f64::from(s.pairs.max(1));
     s.temporal_variance_dn2.abs() * (2.0 / n).sqrt()
 }
+
+/// Sampling standard uncertainty of a temporally corrected spatial variance: the raw sample
+/// variance over n pixels carries s²·√(2/(n − 1)), the subtracted σ²/L carries u(σ²)/L
+/// (derived here as for [`variance_uncertainty`]).
+fn spatial_uncertainty(s: &StackStats) -> f64 {
+    let n = (s.pixels as f64 - 1.0).max(1.0);
+    let raw = s.spatial_variance_raw_dn2.abs() * (2.0 / n).sqrt();
+    raw.hypot(variance_uncertainty(s) / f64::from(s.spec.frames.max(1)))
+}
+
+/// A non-uniformity counts as resolved when its spatial variance exceeds this many standard
+/// uncertainties: below that it cannot be told from the sampling noise of the temporal
+/// correction (3σ: common practice, no source).
+const RESOLVED_SIGMAS: f64 = 3.0;
 
 struct Darks<'a> {
     stacks: Vec<&'a StackStats>,
@@ -405,6 +436,12 @@ impl<'a> Darks<'a> {
                 variance_dn2: same.iter().map(|s| s.temporal_variance_dn2).sum::<f64>() / k,
                 variance_uncertainty_dn2: u2.sqrt() / k,
                 spatial_dn2: same.iter().map(|s| s.spatial_variance_dn2).sum::<f64>() / k,
+                spatial_uncertainty_dn2: same
+                    .iter()
+                    .map(|s| spatial_uncertainty(s).powi(2))
+                    .sum::<f64>()
+                    .sqrt()
+                    / k,
                 exposure_time_s: t,
                 matched: true,
             };
@@ -421,6 +458,7 @@ impl<'a> Darks<'a> {
                 variance_dn2: 0.0,
                 variance_uncertainty_dn2: 0.0,
                 spatial_dn2: 0.0,
+                spatial_uncertainty_dn2: 0.0,
                 exposure_time_s: t,
                 matched: false,
             };
@@ -431,6 +469,7 @@ impl<'a> Darks<'a> {
                 variance_dn2: v.intercept + v.slope * t,
                 variance_uncertainty_dn2: variance_uncertainty(nearest),
                 spatial_dn2: nearest.spatial_variance_dn2,
+                spatial_uncertainty_dn2: spatial_uncertainty(nearest),
                 exposure_time_s: t,
                 matched: true,
             },
@@ -439,6 +478,7 @@ impl<'a> Darks<'a> {
                 variance_dn2: nearest.temporal_variance_dn2,
                 variance_uncertainty_dn2: variance_uncertainty(nearest),
                 spatial_dn2: nearest.spatial_variance_dn2,
+                spatial_uncertainty_dn2: spatial_uncertainty(nearest),
                 exposure_time_s: nearest.spec.exposure_time_s,
                 matched: false,
             },
@@ -510,6 +550,20 @@ pub fn analyse(stacks: &[StackStats]) -> Result<Characterization, AnalysisError>
         })
         .collect();
     pts.sort_by(|a, b| a.x.total_cmp(&b.x));
+    let brighter = pts.iter().filter(|p| p.x > 0.0).count();
+    if brighter < 2 {
+        return Err(AnalysisError::FlatsNotAboveDark { found: brighter });
+    }
+    if brighter < pts.len() {
+        diag(
+            &mut diagnostics,
+            "flat_not_above_dark",
+            format!(
+                "{} flat stack(s) are not brighter than the dark and are left out of the fits",
+                pts.len() - brighter
+            ),
+        );
+    }
     if let Some(p) = pts.iter().find(|p| !p.dark.matched) {
         diag(
             &mut diagnostics,
@@ -568,7 +622,7 @@ pub fn analyse(stacks: &[StackStats]) -> Result<Characterization, AnalysisError>
     let in_range: Vec<usize> = pts
         .iter()
         .enumerate()
-        .filter(|(i, p)| p.x <= fit_max && (!found || *i < peak))
+        .filter(|(i, p)| p.x > 0.0 && p.x <= fit_max && (!found || *i < peak))
         .map(|(i, _)| i)
         .collect();
     if in_range.len() < 2 {
@@ -693,6 +747,7 @@ pub fn analyse(stacks: &[StackStats]) -> Result<Characterization, AnalysisError>
     };
 
     // ---- DSNU and PRNU from averaged frames, temporal part removed (EMVA item 11) ----------
+    let mut nonuniformity_u: (Option<f64>, Option<f64>) = (None, None);
     let target = PRNU_FRACTION * reference_x;
     let prnu_point = pts
         .iter()
@@ -709,16 +764,22 @@ pub fn analyse(stacks: &[StackStats]) -> Result<Characterization, AnalysisError>
         _ => d0,
     };
     let dark_s2 = dsnu_dark.spatial_dn2;
-    let dsnu = if dark_s2 > 0.0 {
-        Some(dsnu_e(dark_s2, k))
+    let dark_u2 = dsnu_dark.spatial_uncertainty_dn2;
+    let dsnu = if dark_s2 > RESOLVED_SIGMAS * dark_u2 {
+        let value = dsnu_e(dark_s2, k);
+        // ∂DSNU/∂s² = 1/(2K√s²), ∂DSNU/∂K = −DSNU/K.
+        nonuniformity_u.0 = Some(
+            (dark_u2 / (2.0 * k * dark_s2.sqrt())).hypot(u_k.map_or(0.0, |uk| value * uk / k)),
+        );
+        Some(value)
     } else {
         diag(
             &mut diagnostics,
             "dsnu_not_resolved",
             format!(
-                "the dark spatial variance with the temporal part removed is {dark_s2:.4} DN²: \
-                 DSNU is below what these frames resolve (average more dark frames) and is not \
-                 reported"
+                "the dark spatial variance with the temporal part removed is {dark_s2:.4} ± \
+                 {dark_u2:.4} DN²: DSNU is below what these frames resolve (average more dark \
+                 frames) and is not reported"
             ),
         );
         None
@@ -729,6 +790,8 @@ pub fn analyse(stacks: &[StackStats]) -> Result<Characterization, AnalysisError>
         flat_spatial_variance_dn2: None,
         flat_mean_above_dark_dn: None,
         flat_fraction_of_saturation: None,
+        dsnu_uncertainty_e: nonuniformity_u.0,
+        prnu_uncertainty_percent: None,
     };
     let prnu = match prnu_point {
         None => {
@@ -765,15 +828,23 @@ pub fn analyse(stacks: &[StackStats]) -> Result<Characterization, AnalysisError>
                 );
             }
             let ds2 = p.dark.spatial_dn2;
-            if p.s.spatial_variance_dn2 > ds2 {
-                Some(prnu_percent(p.s.spatial_variance_dn2, ds2, p.x))
+            let excess = p.s.spatial_variance_dn2 - ds2;
+            let u_excess = spatial_uncertainty(p.s).hypot(p.dark.spatial_uncertainty_dn2);
+            if excess > RESOLVED_SIGMAS * u_excess {
+                let value = prnu_percent(p.s.spatial_variance_dn2, ds2, p.x);
+                // ∂PRNU/∂excess = 100/(2x√excess); the mean above dark is known far better.
+                nonuniformity.prnu_uncertainty_percent =
+                    Some(u_excess / (2.0 * p.x * excess.sqrt()) * 100.0);
+                Some(value)
             } else {
                 diag(
                     &mut diagnostics,
                     "prnu_not_resolved",
-                    "the flat spatial variance does not exceed the dark one: PRNU is below what \
-                     these frames resolve and is not reported"
-                        .into(),
+                    format!(
+                        "the flat spatial variance exceeds the dark one by {excess:.4} ± \
+                         {u_excess:.4} DN²: PRNU is below what these frames resolve and is not \
+                         reported"
+                    ),
                 );
                 None
             }
@@ -863,7 +934,8 @@ pub fn analyse(stacks: &[StackStats]) -> Result<Characterization, AnalysisError>
         })
     };
     if let Some(r) = &responsivity {
-        if !(r.quantum_efficiency > 0.0 && r.quantum_efficiency <= 1.0) {
+        let in_range = r.quantum_efficiency > 0.0 && r.quantum_efficiency <= 1.0;
+        if !in_range {
             diag(
                 &mut diagnostics,
                 "quantum_efficiency_out_of_range",

@@ -1,0 +1,447 @@
+//! Frame decoders: round trips of every supported format and variant, and malformed files of
+//! every format refused with a clear error, never a panic (including random bytes, proptest).
+//!
+//! Files are written here with the `png` and `tiff` crates' encoders (the same crates decode
+//! them, so the round trips check this project's wrapping, not the crates). No statistics here.
+
+#![allow(
+    clippy::unwrap_used,
+    clippy::expect_used,
+    clippy::panic,
+    clippy::indexing_slicing
+)] // test code: a failure should panic
+
+use std::io::Cursor;
+
+use engine::frames::{decode, decode_as, Format, FrameError, RawGeometry, MAX_PIXELS};
+use proptest::prelude::*;
+use tiff::encoder::{colortype, Compression, DeflateLevel, TiffEncoder};
+
+/// A 5 × 3 test pattern (chosen): distinct values, including 0 and the top of the range.
+fn pattern(max: u16) -> Vec<u16> {
+    (0..15u32)
+        .map(|i| {
+            if i == 14 {
+                max
+            } else {
+                ((i * 4679) % u32::from(max)) as u16
+            }
+        })
+        .collect()
+}
+
+fn png_bytes(
+    width: u32,
+    height: u32,
+    depth: png::BitDepth,
+    color: png::ColorType,
+    data: &[u8],
+) -> Vec<u8> {
+    let mut out = Vec::new();
+    {
+        let mut e = png::Encoder::new(&mut out, width, height);
+        e.set_depth(depth);
+        e.set_color(color);
+        let mut w = e.write_header().unwrap();
+        w.write_image_data(data).unwrap();
+    }
+    out
+}
+
+fn tiff16(width: u32, height: u32, data: &[u16], compression: Compression) -> Vec<u8> {
+    let mut c = Cursor::new(Vec::new());
+    TiffEncoder::new(&mut c)
+        .unwrap()
+        .with_compression(compression)
+        .write_image::<colortype::Gray16>(width, height, data)
+        .unwrap();
+    c.into_inner()
+}
+
+fn tiff8(width: u32, height: u32, data: &[u8], compression: Compression) -> Vec<u8> {
+    let mut c = Cursor::new(Vec::new());
+    TiffEncoder::new(&mut c)
+        .unwrap()
+        .with_compression(compression)
+        .write_image::<colortype::Gray8>(width, height, data)
+        .unwrap();
+    c.into_inner()
+}
+
+fn message(bytes: &[u8], raw: Option<RawGeometry>) -> String {
+    match decode(bytes, raw) {
+        Ok(f) => panic!("decoded a malformed file as {} × {}", f.width(), f.height()),
+        Err(e) => e.to_string(),
+    }
+}
+
+/// CRC-32 (ISO-HDLC, as PNG uses), bit by bit: for re-signing an edited PNG chunk.
+fn crc32(bytes: &[u8]) -> u32 {
+    let mut c = !0u32;
+    for b in bytes {
+        c ^= u32::from(*b);
+        for _ in 0..8 {
+            c = if c & 1 == 1 {
+                (c >> 1) ^ 0xEDB8_8320
+            } else {
+                c >> 1
+            };
+        }
+    }
+    !c
+}
+
+/// A PNG whose IHDR announces `width` × `height` (CRC fixed so only the size is wrong).
+fn png_with_size(mut bytes: Vec<u8>, width: u32, height: u32) -> Vec<u8> {
+    // Signature (8), IHDR length (4), "IHDR" (4), then width and height.
+    bytes[16..20].copy_from_slice(&width.to_be_bytes());
+    bytes[20..24].copy_from_slice(&height.to_be_bytes());
+    let crc = crc32(&bytes[12..29]);
+    bytes[29..33].copy_from_slice(&crc.to_be_bytes());
+    bytes
+}
+
+// ---- round trips --------------------------------------------------------------------------
+
+#[test]
+fn png_round_trips_8_and_16_bit() {
+    let v16 = pattern(u16::MAX);
+    let be: Vec<u8> = v16.iter().flat_map(|v| v.to_be_bytes()).collect();
+    let f = decode(
+        &png_bytes(5, 3, png::BitDepth::Sixteen, png::ColorType::Grayscale, &be),
+        None,
+    )
+    .unwrap();
+    assert_eq!((f.width(), f.height(), f.sample_bits()), (5, 3, 16));
+    assert_eq!(f.pixels(), &v16[..]);
+    let v8: Vec<u8> = (0..15).map(|i| (i * 17) as u8).collect();
+    let f = decode(
+        &png_bytes(5, 3, png::BitDepth::Eight, png::ColorType::Grayscale, &v8),
+        None,
+    )
+    .unwrap();
+    assert_eq!(
+        f.pixels(),
+        &v8.iter().map(|v| u16::from(*v)).collect::<Vec<_>>()[..]
+    );
+}
+
+#[test]
+fn tiff_round_trips_every_compression() {
+    let v16 = pattern(u16::MAX);
+    let v8: Vec<u8> = (0..15).map(|i| (i * 17) as u8).collect();
+    for c in [
+        Compression::Uncompressed,
+        Compression::Lzw,
+        Compression::Deflate(DeflateLevel::default()),
+        Compression::Packbits,
+    ] {
+        let f = decode(&tiff16(5, 3, &v16, c), None).unwrap();
+        assert_eq!((f.width(), f.height(), f.sample_bits()), (5, 3, 16));
+        assert_eq!(f.pixels(), &v16[..]);
+        let f = decode(&tiff8(5, 3, &v8, c), None).unwrap();
+        assert_eq!(
+            f.pixels(),
+            &v8.iter().map(|v| u16::from(*v)).collect::<Vec<_>>()[..]
+        );
+    }
+}
+
+#[test]
+fn pgm_and_raw_round_trip() {
+    let v = pattern(4095);
+    let mut pgm = b"P5\n5 3\n4095\n".to_vec();
+    pgm.extend(v.iter().flat_map(|x| x.to_be_bytes()));
+    let f = decode(&pgm, None).unwrap();
+    assert_eq!((f.pixels(), f.significant_bits()), (&v[..], Some(12)));
+    let raw: Vec<u8> = v.iter().flat_map(|x| x.to_le_bytes()).collect();
+    let g = RawGeometry {
+        width: 5,
+        height: 3,
+        bits: 12,
+    };
+    let f = decode(&raw, Some(g)).unwrap();
+    assert_eq!(f.pixels(), &v[..]);
+    assert_eq!(
+        decode_as(Format::Raw, &raw, Some(g)).unwrap().pixels(),
+        &v[..]
+    );
+}
+
+// ---- malformed ----------------------------------------------------------------------------
+
+#[test]
+fn malformed_pgm() {
+    for (bytes, start) in [
+        (&b"P2 1 1 255\n1"[..], "not a PGM (P5), PNG or TIFF"), // wrong magic (plain PGM)
+        (b"P5", "bad pgm header: the file ends before the width"),
+        (
+            b"P5 4 4 255\n\x00\x00",
+            "truncated: the image needs 16 bytes",
+        ), // header > data
+        (
+            b"P5 4294967295 4294967295 65535\n",
+            "image size 4294967295 × 4294967295 is more than",
+        ),
+        (b"P5 0 4 255\n", "image size 0 × 4"),
+        (
+            b"P5 1 1 0\n\x00",
+            "bad pgm header: maxval must be from 1 to 65535, got 0",
+        ),
+        (
+            b"P5 1 1 65536\n\x00\x00",
+            "bad pgm header: maxval must be from 1 to 65535",
+        ),
+        (
+            b"P5 1 1 255x\x00",
+            "bad pgm header: maxval must be followed by one whitespace",
+        ),
+    ] {
+        let m = message(bytes, None);
+        assert!(m.starts_with(start), "{m:?} should start with {start:?}");
+    }
+}
+
+#[test]
+fn malformed_raw() {
+    let g = |width, height, bits| {
+        Some(RawGeometry {
+            width,
+            height,
+            bits,
+        })
+    };
+    for (bytes, geometry, start) in [
+        (
+            vec![0u8; 7],
+            g(2, 2, 16),
+            "truncated: the image needs 8 bytes",
+        ),
+        (vec![0u8; 10], g(2, 2, 16), "2 bytes after the image data"),
+        (
+            vec![],
+            g(u32::MAX, u32::MAX, 16),
+            "image size 4294967295 × 4294967295",
+        ),
+        (vec![], g(0, 0, 16), "image size 0 × 0"),
+        (vec![0u8; 8], g(2, 2, 0), "raw bit depth 0 is not supported"),
+        (
+            vec![0u8; 8],
+            g(2, 2, 24),
+            "raw bit depth 24 is not supported",
+        ),
+        (
+            vec![0, 0, 0, 4],
+            g(2, 1, 10),
+            "sample at column 1, row 0 is 1024, above the maximum 1023",
+        ),
+    ] {
+        let m = message(&bytes, geometry);
+        assert!(m.starts_with(start), "{m:?} should start with {start:?}");
+    }
+    assert!(matches!(
+        decode_as(Format::Raw, &[0; 8], None),
+        Err(FrameError::BadHeader { .. })
+    ));
+}
+
+#[test]
+fn malformed_png() {
+    let v8 = vec![7u8; 15];
+    let good = png_bytes(5, 3, png::BitDepth::Eight, png::ColorType::Grayscale, &v8);
+    // Truncated anywhere after the signature and before the image data ends: an error, never a
+    // panic. The last 12 bytes are the empty IEND chunk; without it the image is still whole,
+    // and then it must decode to the same pixels.
+    let iend = good.len() - 12;
+    for cut in 8..good.len() {
+        match decode(&good[..cut], None) {
+            Err(e) => {
+                let m = e.to_string();
+                assert!(
+                    m.starts_with("corrupt png") || m.starts_with("truncated"),
+                    "cut {cut}: {m}"
+                );
+            }
+            Ok(f) => {
+                assert!(cut >= iend, "cut {cut} of {} decoded", good.len());
+                assert_eq!(f.pixels(), &[7u16; 15][..]);
+            }
+        }
+    }
+    // Wrong magic.
+    let mut bad = good.clone();
+    bad[1] = b'Q';
+    assert!(message(&bad, None).starts_with("not a PGM (P5), PNG or TIFF"));
+    assert!(decode_as(Format::Png, &bad, None).is_err());
+    // Header sizes bigger than the data can hold (valid CRC): refused before allocating.
+    let m = message(&png_with_size(good.clone(), 16384, 16384), None);
+    assert!(
+        m.starts_with("png header announces 268435456 bytes of pixels"),
+        "{m}"
+    );
+    // width × height beyond the limit (and beyond 32 bits).
+    let m = message(&png_with_size(good.clone(), 0x7fff_ffff, 0x7fff_ffff), None);
+    assert!(
+        m.contains(&format!("more than {MAX_PIXELS} pixels")) || m.starts_with("corrupt png"),
+        "{m}"
+    );
+    // Zero size.
+    let m = message(&png_with_size(good, 0, 3), None);
+    assert!(
+        m.starts_with("corrupt png") || m.starts_with("image size 0"),
+        "{m}"
+    );
+    // Colour, alpha, palette and low bit depths.
+    let rgb = png_bytes(5, 3, png::BitDepth::Eight, png::ColorType::Rgb, &[0; 45]);
+    assert!(message(&rgb, None).starts_with("png image is rgb"));
+    let ga = png_bytes(
+        5,
+        3,
+        png::BitDepth::Eight,
+        png::ColorType::GrayscaleAlpha,
+        &[0; 30],
+    );
+    assert!(message(&ga, None).starts_with("png image is grayscalealpha"));
+    let g4 = png_bytes(
+        4,
+        2,
+        png::BitDepth::Four,
+        png::ColorType::Grayscale,
+        &[0; 4],
+    );
+    assert!(message(&g4, None).starts_with("png bit depth 4 is not supported"));
+}
+
+#[test]
+fn malformed_tiff() {
+    let v16 = pattern(u16::MAX);
+    for c in [
+        Compression::Uncompressed,
+        Compression::Lzw,
+        Compression::Deflate(DeflateLevel::default()),
+        Compression::Packbits,
+    ] {
+        let good = tiff16(5, 3, &v16, c);
+        for cut in 0..good.len() {
+            let m = message(&good[..cut], None);
+            assert!(
+                m.starts_with("corrupt tiff")
+                    || m.starts_with("truncated")
+                    || m.starts_with("not a PGM")
+                    || m.starts_with("tiff header announces"),
+                "cut {cut}: {m}"
+            );
+        }
+    }
+    // Wrong magic.
+    let mut bad = tiff16(5, 3, &v16, Compression::Uncompressed);
+    bad[2] = 0;
+    assert!(message(&bad, None).starts_with("not a PGM (P5), PNG or TIFF"));
+    assert!(decode_as(Format::Tiff, &bad, None).is_err());
+    // Colour, 32-bit, float and signed samples.
+    let mut c = Cursor::new(Vec::new());
+    TiffEncoder::new(&mut c)
+        .unwrap()
+        .write_image::<colortype::RGB8>(2, 1, &[0; 6])
+        .unwrap();
+    assert!(message(c.get_ref(), None).starts_with("tiff image is rgb"));
+    let mut c = Cursor::new(Vec::new());
+    TiffEncoder::new(&mut c)
+        .unwrap()
+        .write_image::<colortype::Gray32>(2, 1, &[0; 2])
+        .unwrap();
+    assert!(message(c.get_ref(), None).starts_with("tiff bit depth 32 is not supported"));
+    let mut c = Cursor::new(Vec::new());
+    TiffEncoder::new(&mut c)
+        .unwrap()
+        .write_image::<colortype::Gray32Float>(2, 1, &[0.0; 2])
+        .unwrap();
+    assert!(message(c.get_ref(), None).starts_with("tiff"));
+    let mut c = Cursor::new(Vec::new());
+    TiffEncoder::new(&mut c)
+        .unwrap()
+        .write_image::<colortype::GrayI16>(2, 1, &[0; 2])
+        .unwrap();
+    assert!(message(c.get_ref(), None).starts_with("tiff image is sample format 2"));
+}
+
+#[test]
+fn tiff_header_bigger_than_its_data() {
+    // An uncompressed 5 × 3 16-bit TIFF whose ImageWidth/ImageLength tags are rewritten to
+    // 4000 × 4000: 32 MB of pixels announced in a file of about 200 bytes.
+    let good = tiff16(5, 3, &pattern(u16::MAX), Compression::Uncompressed);
+    let mut bad = good.clone();
+    // Little-endian IFD: offset at bytes 4..8, then a 2-byte count and 12-byte entries
+    // (tag, type, count, value). Rewrite the values of tags 256 and 257.
+    let ifd = u32::from_le_bytes(bad[4..8].try_into().unwrap()) as usize;
+    let n = u16::from_le_bytes(bad[ifd..ifd + 2].try_into().unwrap()) as usize;
+    for i in 0..n {
+        let e = ifd + 2 + 12 * i;
+        let tag = u16::from_le_bytes(bad[e..e + 2].try_into().unwrap());
+        let ty = u16::from_le_bytes(bad[e + 2..e + 4].try_into().unwrap());
+        if tag == 256 || tag == 257 {
+            if ty == 3 {
+                bad[e + 8..e + 10].copy_from_slice(&4000u16.to_le_bytes());
+            } else {
+                bad[e + 8..e + 12].copy_from_slice(&4000u32.to_le_bytes());
+            }
+        }
+    }
+    let m = message(&bad, None);
+    assert!(
+        m.starts_with("truncated: the image needs 32000000 bytes"),
+        "{m}"
+    );
+}
+
+// ---- no panic for any input ---------------------------------------------------------------
+
+fn valid_files() -> Vec<Vec<u8>> {
+    let v16 = pattern(u16::MAX);
+    let be: Vec<u8> = v16.iter().flat_map(|v| v.to_be_bytes()).collect();
+    let mut pgm = b"P5 5 3 65535\n".to_vec();
+    pgm.extend(&be);
+    vec![
+        pgm,
+        png_bytes(5, 3, png::BitDepth::Sixteen, png::ColorType::Grayscale, &be),
+        tiff16(5, 3, &v16, Compression::Uncompressed),
+        tiff16(5, 3, &v16, Compression::Lzw),
+        tiff16(5, 3, &v16, Compression::Deflate(DeflateLevel::default())),
+        tiff16(5, 3, &v16, Compression::Packbits),
+    ]
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig::with_cases(512))]
+
+    #[test]
+    fn random_bytes_never_panic(bytes in prop::collection::vec(any::<u8>(), 0..512),
+                                w in 0u32..64, h in 0u32..64, bits in 0u8..20) {
+        let _ = decode(&bytes, None);
+        for f in [Format::Pgm, Format::Png, Format::Tiff] {
+            let _ = decode_as(f, &bytes, None);
+        }
+        let _ = decode(&bytes, Some(RawGeometry { width: w, height: h, bits }));
+    }
+
+    #[test]
+    fn random_bytes_behind_each_signature_never_panic(
+        which in 0usize..4, bytes in prop::collection::vec(any::<u8>(), 0..512)) {
+        let sig: &[u8] = [&b"P5"[..], &[0x89, b'P', b'N', b'G', 0x0d, 0x0a, 0x1a, 0x0a], b"II*\0", b"MM\0*"][which];
+        let mut file = sig.to_vec();
+        file.extend(bytes);
+        let _ = decode(&file, None);
+    }
+
+    #[test]
+    fn damaged_valid_files_never_panic(which in 0usize..6, cut in 0usize..400,
+                                       flips in prop::collection::vec((0usize..400, any::<u8>()), 0..6)) {
+        let mut file = valid_files()[which].clone();
+        for (at, v) in flips {
+            let n = file.len();
+            file[at % n] = v;
+        }
+        file.truncate(cut.max(1));
+        let _ = decode(&file, None);
+    }
+}
