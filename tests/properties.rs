@@ -27,14 +27,73 @@ fn eval(v: &Value) -> Report {
     engine::evaluate_json(&v.to_string()).unwrap_or_else(|e| panic!("refused:\n{e}\n{v}"))
 }
 
-/// Random light of one of the version-1 kinds.
-fn light() -> impl Strategy<Value = Value> {
+/// Random light of one of the version-1 kinds, or of this implementation's spectral kinds.
+fn light() -> BoxedStrategy<Value> {
     prop_oneof![
         (0.0..1e7f64).prop_map(|f| json!({"photon_flux_per_um2_s": f})),
         (0.0..100.0f64, 200.0..1200.0f64)
             .prop_map(|(e, l)| json!({"irradiance_w_per_m2": e, "wavelength_nm": l})),
         (0.0..1e6f64).prop_map(|p| json!({"photons_per_pixel": p})),
+        (0.0..1e5f64, visible_spectrum())
+            .prop_map(|(e, s)| json!({"illuminance_lux": e, "spectrum": s})),
+        (0.0..100.0f64, visible_spectrum())
+            .prop_map(|(e, s)| json!({"irradiance_w_per_m2": e, "spectrum": s})),
+        (
+            0.0..1e5f64,
+            0.0..=1.0f64,
+            visible_spectrum(),
+            0.5..22.0f64,
+            0.05..=1.0f64,
+            0.0..2.0f64,
+            0.0..60.0f64
+        )
+            .prop_map(
+                |(e, rho, s, n, tr, m, th)| json!({"scene_illuminance_lux": e, "reflectance": rho,
+                "spectrum": s, "f_number": n, "lens_transmission": tr, "magnification": m,
+                "field_angle_deg": th})
+            ),
+        (0.0..1e4f64, visible_spectrum(), 0.5..22.0f64, 0.05..=1.0f64).prop_map(
+            |(l, s, n, tr)| json!({"scene_luminance_cd_per_m2": l, "spectrum": s,
+                "f_number": n, "lens_transmission": tr})
+        ),
     ]
+    .boxed()
+}
+
+/// Spectra with visible light inside 400–750 nm (valid with lux and any band used here).
+fn visible_spectrum() -> BoxedStrategy<Value> {
+    prop_oneof![
+        Just(json!({"kind": "cie_a"})),
+        Just(json!({"kind": "cie_d65"})),
+        Just(json!({"kind": "equal_energy"})),
+        (1000.0..20000.0f64).prop_map(|t| json!({"kind": "blackbody", "temperature_k": t})),
+        (420.0..700.0f64).prop_map(|l| json!({"kind": "monochromatic", "wavelength_nm": l})),
+        (450.0..700.0f64, 5.0..100.0f64)
+            .prop_map(|(c, w)| json!({"kind": "gaussian", "centre_nm": c, "fwhm_nm": w})),
+        prop::collection::vec(0.1..10.0f64, 2..20).prop_map(|v| {
+            let step = 300.0 / (v.len() as f64 - 1.0);
+            let points: Vec<Value> = v
+                .iter()
+                .enumerate()
+                .map(|(i, y)| json!([400.0 + step * i as f64, y]))
+                .collect();
+            json!({"kind": "table", "points": points})
+        }),
+    ]
+    .boxed()
+}
+
+/// A QE curve spanning part of 380–780 nm that is non-zero over 400–700 nm.
+fn qe_curve() -> impl Strategy<Value = Value> {
+    prop::collection::vec(0.05..=1.0f64, 3..30).prop_map(|v| {
+        let step = 400.0 / (v.len() as f64 - 1.0);
+        let points: Vec<Value> = v
+            .iter()
+            .enumerate()
+            .map(|(i, y)| json!([380.0 + step * i as f64, y]))
+            .collect();
+        Value::Array(points)
+    })
 }
 
 prop_compose! {
@@ -46,7 +105,8 @@ prop_compose! {
         dark in 0.0..1e4f64, dref in -40.0..60.0f64, dbl in 3.0..12.0f64,
         dsnu in 0.0..20.0f64, prnu in 0.0..5.0f64, bits in 1u32..=32, gain in 0.01..20.0f64,
         black_frac in 0.0..0.5f64,
-        light in light(),
+        light in light(), background in prop::option::of(light()),
+        curve in prop::option::of(qe_curve()),
         t in 1e-6..10.0f64, frames in 1u32..64, binning in 1u32..8,
         mode in prop::sample::select(vec!["charge", "digital"]),
         temp in -60.0..80.0f64, k in 0.1..20.0f64,
@@ -62,13 +122,22 @@ prop_compose! {
             "system_gain_dn_per_e": gain, "black_level_dn": (black_frac * full_scale).floor()
         });
         if let Some(c) = cap { sensor["sense_node_capacitance_ff"] = json!(c); }
+        // A curve over 380–780 nm sees no monochromatic light outside it: keep the curve only
+        // where every line the lights have falls inside it.
+        let lines_inside = [&light, background.as_ref().unwrap_or(&Value::Null)]
+            .iter()
+            .filter_map(|l| l.get("wavelength_nm").and_then(Value::as_f64))
+            .all(|nm| (400.0..=760.0).contains(&nm));
+        if let Some(c) = curve.filter(|_| lines_inside) { sensor["quantum_efficiency_curve"] = c; }
         if let Some(g) = cg { sensor["conversion_gain_uv_per_e"] = json!(g); }
-        json!({
+        let mut v = json!({
             "version": 1, "sensor": sensor, "light": light,
             "exposure": {"time_s": t, "frames_averaged": frames, "binning": binning,
                          "binning_mode": mode},
             "temperature_c": temp, "snr_threshold": k
-        })
+        });
+        if let Some(b) = background { v["background_light"] = b; }
+        v
     }
 }
 
@@ -82,6 +151,15 @@ fn every_number(r: &Report) -> Vec<(&'static str, f64)> {
         ("photons_per_pixel", r.photons_per_pixel),
         ("signal_e", r.signal_e),
         ("dark_e", r.dark_e),
+        ("background_e", r.background_e),
+        (
+            "light.effective_quantum_efficiency",
+            r.light.effective_quantum_efficiency,
+        ),
+        (
+            "variance_share.background_shot",
+            r.variance_share.background_shot,
+        ),
         ("signal_dn", r.signal_dn),
         (
             "dark_current_at_temperature_e_per_s",
@@ -125,6 +203,35 @@ fn every_number(r: &Report) -> Vec<(&'static str, f64)> {
         ("exposure_for_threshold_s", r.exposure_for_threshold_s),
     ];
     v.extend(opts.iter().filter_map(|(k, o)| o.map(|x| (*k, x))));
+    let l = &r.light;
+    for (k, o) in [
+        ("light.photon_flux_per_um2_s", l.photon_flux_per_um2_s),
+        ("light.sensor_illuminance_lux", l.sensor_illuminance_lux),
+        (
+            "light.sensor_irradiance_w_per_m2",
+            l.sensor_irradiance_w_per_m2,
+        ),
+        (
+            "light.sensor_per_scene_luminance",
+            l.sensor_per_scene_luminance,
+        ),
+    ] {
+        if let Some(x) = o {
+            v.push((k, x));
+        }
+    }
+    v.extend(
+        r.min_detectable
+            .light_units
+            .values()
+            .map(|x| ("min_detectable.light_units", *x)),
+    );
+    v.extend(
+        r.saturation
+            .light_units
+            .values()
+            .map(|x| ("saturation.light_units", *x)),
+    );
     for (name, n) in [
         ("noise_e", Some(r.noise_e)),
         ("noise_dn", Some(r.noise_dn)),
@@ -164,7 +271,7 @@ proptest! {
         }
         // Shares of the variance sum to one (they partition the total variance).
         let vs = r.variance_share;
-        let sum = vs.photon_shot + vs.dark_shot + vs.read + vs.reset + vs.quantization + vs.dsnu + vs.prnu;
+        let sum = vs.photon_shot + vs.dark_shot + vs.background_shot + vs.read + vs.reset + vs.quantization + vs.dsnu + vs.prnu;
         prop_assert!(close(sum, 1.0) || (sum - 1.0).abs() < 1e-12, "shares sum {sum}");
     }
 
@@ -214,6 +321,8 @@ proptest! {
 
     #[test]
     fn the_minimum_detectable_signal_reaches_the_threshold(s in scenario()) {
+        // Light given back per pixel uses the single QE; a curve would weight it differently.
+        prop_assume!(s["sensor"].get("quantum_efficiency_curve").is_none());
         let r = eval(&s);
         let k = s["snr_threshold"].as_f64().unwrap_or(1.0);
         let b = s["exposure"]["binning"].as_f64().unwrap_or(1.0);
@@ -263,7 +372,7 @@ proptest! {
                     "exposure_for_threshold_s", "warnings"] {
             prop_assert!(v.get(key).is_some(), "missing {key}");
         }
-        prop_assert_eq!(parts(&eval(&s).noise_e).len(), 9);
+        prop_assert_eq!(parts(&eval(&s).noise_e).len(), 10);
     }
 
     #[test]

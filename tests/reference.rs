@@ -534,3 +534,150 @@ fn embedded_tables_equal_their_data_files() {
         assert!(n > 90, "{file}: only {n} rows");
     }
 }
+
+// ---- §6 the camera equation, and lux through the whole model ------------------------------------
+
+use engine::light::Lens;
+
+fn lens(f_number: f64, magnification: f64, field_angle_deg: f64) -> Lens {
+    Lens {
+        f_number,
+        transmission: 0.9,
+        magnification,
+        field_angle_deg,
+    }
+}
+
+#[test]
+fn camera_equation_worked_values() {
+    // Source: REFERENCES.md §6 worked check values, aplanatic 4N² form (from memory: Ray,
+    // Applied Photographic Optics): scene 1000 lx, ρ = 0.18, T = 0.9; L = 0.18·1000/π.
+    let luminance = 0.18 * 1000.0 / std::f64::consts::PI;
+    assert_rel(luminance, 57.2958, FIVE_DIGITS, "L = ρE/π");
+    for (l, want, what) in [
+        (lens(2.8, 0.0, 0.0), 5.1658, "f/2.8"),
+        (lens(2.0 * 2f64.sqrt(), 0.0, 0.0), 5.0625, "f/2√2"),
+        (lens(2.8, 0.1, 0.0), 4.2693, "f/2.8, m = 0.1"),
+        (lens(2.8, 0.0, 20.0), 4.0279, "f/2.8, 20° off axis"),
+    ] {
+        assert_rel(
+            luminance * l.sensor_per_luminance(),
+            want,
+            FIVE_DIGITS,
+            what,
+        );
+    }
+}
+
+fn lux_scenario(light: serde_json::Value) -> serde_json::Value {
+    json!({
+        "version": 1,
+        "sensor": {"pixel_pitch_um": 2.0, "quantum_efficiency": 0.5, "full_well_e": 1e6,
+            "read_noise_e": 2, "dark_current_e_per_s": 0, "adc_bits": 32, "system_gain_dn_per_e": 1},
+        "light": light, "exposure": {"time_s": 0.01}
+    })
+}
+
+#[test]
+fn lux_at_the_sensor_becomes_photons_as_published() {
+    // Source: REFERENCES.md §5: D65 gives 13887 photons s⁻¹ µm⁻² per lux with both integrals
+    // over 380–780 nm. The model's lux integral runs over V(λ)'s whole table (360–830 nm), which
+    // adds V's tails: computed here with the same function and a 380–780 photometric band
+    // (checked against the reference above), the model's value must match that exactly.
+    let r = eval(&lux_scenario(
+        json!({"illuminance_lux": 100.0, "spectrum": {"kind": "cie_d65"}}),
+    ));
+    let per_lux =
+        spectrum::photons_per_lux(&Spectrum::CieD65, VISIBLE, spectrum::PHOTOMETRIC_BAND_NM)
+            .unwrap();
+    let flux = r.light.photon_flux_per_um2_s.unwrap();
+    assert_rel(flux, 100.0 * per_lux, 1e-12, "flux from 100 lx");
+    // V(λ) outside 380–780 nm is below 4e-5 (REFERENCES.md §5 table): a 1e-4 effect at most.
+    assert_rel(flux, 100.0 * 13887.0, 2e-4, "flux from 100 lx, D65");
+    assert_rel(r.photons_per_pixel, flux * 4.0 * 0.01, 1e-12, "μp = Φ·A·t");
+    assert_rel(
+        r.light.sensor_illuminance_lux.unwrap(),
+        100.0,
+        1e-12,
+        "lux round trip",
+    );
+}
+
+#[test]
+fn round_trips_from_lux_to_photons_and_back() {
+    // Common practice, no source: the minimum detectable signal and the saturation level
+    // expressed back in lux must be the lux that produce exactly those photons.
+    for spectrum in ["cie_a", "cie_d65", "equal_energy"] {
+        let light = json!({"illuminance_lux": 50.0, "spectrum": {"kind": spectrum}});
+        let r = eval(&lux_scenario(light));
+        let min_lux = r.min_detectable.light_units["illuminance_lux"];
+        let again = eval(&lux_scenario(
+            json!({"illuminance_lux": min_lux, "spectrum": {"kind": spectrum}}),
+        ));
+        assert_rel(again.signal_e, r.min_detectable.signal_e, 1e-12, spectrum);
+        assert_rel(again.snr.temporal, 1.0, 1e-9, spectrum);
+        let sat_lux = r.saturation.light_units["illuminance_lux"];
+        let full = eval(&lux_scenario(
+            json!({"illuminance_lux": sat_lux, "spectrum": {"kind": spectrum}}),
+        ));
+        assert_rel(full.saturation.fill_fraction, 1.0, 1e-12, spectrum);
+    }
+}
+
+#[test]
+fn scene_lux_through_the_lens_to_the_sensor() {
+    // Source: REFERENCES.md §6: 1000 lx on a ρ = 0.18 scene through f/2.8, T = 0.9 gives
+    // 5.1658 lx on the sensor; the model must report that sensor illuminance and count the
+    // same photons as 5.1658 lx given at the sensor.
+    let scene = eval(&lux_scenario(
+        json!({"scene_illuminance_lux": 1000.0, "reflectance": 0.18,
+        "spectrum": {"kind": "cie_a"}, "f_number": 2.8, "lens_transmission": 0.9}),
+    ));
+    let lux = scene.light.sensor_illuminance_lux.unwrap();
+    assert_rel(lux, 5.1658, FIVE_DIGITS, "sensor illuminance");
+    let direct = eval(&lux_scenario(
+        json!({"illuminance_lux": lux, "spectrum": {"kind": "cie_a"}}),
+    ));
+    assert_rel(scene.signal_e, direct.signal_e, 1e-12, "same photons");
+    // The faintest detectable scene, in scene lux, scales back by the camera equation.
+    let scene_min = scene.min_detectable.light_units["scene_illuminance_lux"];
+    let sensor_min = scene.min_detectable.light_units["illuminance_lux"];
+    assert_rel(
+        sensor_min / scene_min,
+        5.1658 / 1000.0,
+        FIVE_DIGITS,
+        "scene ↔ sensor",
+    );
+}
+
+#[test]
+fn spectral_qe_weights_the_photons() {
+    // Common practice, no source: with a flat QE curve the effective QE is that value. With a
+    // curve that is 1 up to 550 nm and falls to 0 at 551 nm, an equal-energy spectrum over
+    // 380–780 nm gives the photon-weighted (∝ λ) share of the band below the edge. The 1 nm
+    // trapezoid is exact for the linear λ on 380–550 nm, (550² − 380²)/2 = 79 050, and gives
+    // (550·1 + 551·0)/2 = 275 on the edge step; the whole band is (780² − 380²)/2 = 232 000
+    // (REFERENCES.md §5 quotes the same 232 000 nm²). numpy's trapezoid on the same grid with
+    // np.interp for the curve gives the same 79 325 / 232 000 = 0.3419181.
+    let flat = json!([[300.0, 0.42], [1100.0, 0.42]]);
+    let mut v =
+        lux_scenario(json!({"irradiance_w_per_m2": 1.0, "spectrum": {"kind": "equal_energy"}}));
+    v["sensor"]["quantum_efficiency_curve"] = flat;
+    v["sensor"]["response_from_nm"] = json!(380);
+    v["sensor"]["response_to_nm"] = json!(780);
+    assert_rel(
+        eval(&v).light.effective_quantum_efficiency,
+        0.42,
+        1e-12,
+        "flat curve",
+    );
+    v["sensor"]["quantum_efficiency_curve"] =
+        json!([[380.0, 1.0], [550.0, 1.0], [551.0, 0.0], [780.0, 0.0]]);
+    let want = (79_050.0 + 275.0) / 232_000.0;
+    assert_rel(
+        eval(&v).light.effective_quantum_efficiency,
+        want,
+        1e-12,
+        "step curve",
+    );
+}

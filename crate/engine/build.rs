@@ -3,6 +3,8 @@
 //! Build-time only (this is not the engine's run-time code, which does no I/O). A malformed
 //! table stops the build with a message naming the file and line.
 
+#![allow(clippy::panic, clippy::unwrap_used, clippy::expect_used, clippy::indexing_slicing)] // build time: stopping the build is the error report
+
 use std::fmt::Write as _;
 use std::path::Path;
 
@@ -34,7 +36,11 @@ fn main() {
                 i + 1
             );
             if let Some((prev, _)) = rows.last() {
-                assert!((nm - prev - step).abs() < 1e-9, "{file}:{}: step is not {step} nm", i + 1);
+                assert!(
+                    (nm - prev - step).abs() < 1e-9,
+                    "{file}:{}: step is not {step} nm",
+                    i + 1
+                );
             }
             rows.push((nm, v));
         }
@@ -43,7 +49,10 @@ fn main() {
         let _ = writeln!(out, "pub const {name}_START_NM: f64 = {first:?};");
         let _ = writeln!(out, "/// Step of `{name}`, nm.");
         let _ = writeln!(out, "pub const {name}_STEP_NM: f64 = {step:?};");
-        let _ = writeln!(out, "/// Values of the table in `{file}` (see data/README.md).");
+        let _ = writeln!(
+            out,
+            "/// Values of the table in `{file}` (see data/README.md)."
+        );
         let _ = write!(out, "pub const {name}: [f64; {}] = [", rows.len());
         for (_, v) in &rows {
             let _ = write!(out, "{v:?}, ");

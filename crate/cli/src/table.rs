@@ -12,6 +12,7 @@ use engine::scenario::Scenario;
 const SOURCES: &[(&str, &str)] = &[
     ("photon_shot", "photon shot"),
     ("dark_shot", "dark shot"),
+    ("background_shot", "background"),
     ("read", "read"),
     ("reset", "reset (kTC)"),
     ("quantization", "quantization"),
@@ -33,7 +34,7 @@ pub fn render(scenario: &Scenario, r: &Report) -> String {
         "  {} µm pixel, QE {}, K {} DN/e⁻, {} readout, {} s exposure, {} frame(s) averaged, \
          {b}×{b} {} binning, {} °C",
         num(s.pixel_pitch_um),
-        num(s.quantum_efficiency),
+        num(r.light.effective_quantum_efficiency),
         num(s.system_gain_dn_per_e),
         s.readout.as_str(),
         num(x.time_s),
@@ -51,6 +52,37 @@ pub fn render(scenario: &Scenario, r: &Report) -> String {
         num(r.photons_per_pixel)
     );
     let _ = writeln!(o, "dark charge   {:>10} e⁻", num(r.dark_e));
+    if r.background_e > 0.0 {
+        let _ = writeln!(
+            o,
+            "background    {:>10} e⁻  (not signal)",
+            num(r.background_e)
+        );
+    }
+    let l = &r.light;
+    if let Some(band) = l.band_nm {
+        let _ = writeln!(
+            o,
+            "light         {} spectrum, photons counted over {}–{} nm in steps of at most {} nm",
+            l.spectrum.unwrap_or("—"),
+            num(band[0]),
+            num(band[1]),
+            num(l.step_nm.unwrap_or(1.0))
+        );
+    }
+    if let Some(f) = l.photon_flux_per_um2_s {
+        let mut at_sensor = format!("{} photons/µm²/s", num(f));
+        if let Some(lux) = l.sensor_illuminance_lux {
+            at_sensor.push_str(&format!(", {} lx", num(lux)));
+        }
+        if let Some(w) = l.sensor_irradiance_w_per_m2 {
+            at_sensor.push_str(&format!(", {} W/m²", num(w)));
+        }
+        let _ = writeln!(o, "at the sensor {at_sensor}");
+    }
+    if let Some(eq) = l.camera_equation {
+        let _ = writeln!(o, "camera eq.    {eq}");
+    }
     let _ = writeln!(o);
     let _ = writeln!(o, "noise per output pixel, rms");
     let _ = writeln!(
@@ -63,6 +95,7 @@ pub fn render(scenario: &Scenario, r: &Report) -> String {
     let share = [
         Some(r.variance_share.photon_shot),
         Some(r.variance_share.dark_shot),
+        Some(r.variance_share.background_shot),
         Some(r.variance_share.read),
         Some(r.variance_share.reset),
         Some(r.variance_share.quantization),
@@ -81,6 +114,7 @@ pub fn render(scenario: &Scenario, r: &Report) -> String {
             (None, "temporal") => {
                 let t = r.variance_share.photon_shot
                     + r.variance_share.dark_shot
+                    + r.variance_share.background_shot
                     + r.variance_share.read
                     + r.variance_share.reset
                     + r.variance_share.quantization;
@@ -120,6 +154,9 @@ pub fn render(scenario: &Scenario, r: &Report) -> String {
             .map(|f| format!(", {} photons/µm²/s at the sensor", num(f)))
             .unwrap_or_default()
     );
+    if !md.light_units.is_empty() {
+        let _ = writeln!(o, "              = {}", units_line(&md.light_units));
+    }
     let sat = &r.saturation;
     let _ = writeln!(
         o,
@@ -133,6 +170,13 @@ pub fn render(scenario: &Scenario, r: &Report) -> String {
         sat.fill_fraction * 100.0,
         if sat.saturated { ", SATURATED" } else { "" }
     );
+    if !sat.light_units.is_empty() {
+        let _ = writeln!(
+            o,
+            "              saturates at {}",
+            units_line(&sat.light_units)
+        );
+    }
     let dr = &r.dynamic_range;
     let _ = writeln!(
         o,
@@ -158,6 +202,27 @@ pub fn render(scenario: &Scenario, r: &Report) -> String {
         }
     }
     o
+}
+
+/// Values in the units the light was given in, e.g. "0.8 lx at the scene, 0.02 lx at the sensor".
+fn units_line(units: &std::collections::BTreeMap<&'static str, f64>) -> String {
+    units
+        .iter()
+        .map(|(k, v)| {
+            let (unit, place) = match *k {
+                "illuminance_lux" => ("lx", "at the sensor"),
+                "irradiance_w_per_m2" => ("W/m²", "at the sensor"),
+                "photon_flux_per_um2_s" => ("photons/µm²/s", "at the sensor"),
+                "scene_illuminance_lux" => ("lx", "on the scene"),
+                "scene_irradiance_w_per_m2" => ("W/m²", "on the scene"),
+                "scene_luminance_cd_per_m2" => ("cd/m²", "scene luminance"),
+                "scene_radiance_w_per_m2_sr" => ("W/m²/sr", "scene radiance"),
+                other => (other, ""),
+            };
+            format!("{} {unit} {place}", num(*v))
+        })
+        .collect::<Vec<_>>()
+        .join(", ")
 }
 
 fn db(v: Option<f64>) -> String {

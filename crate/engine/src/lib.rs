@@ -11,6 +11,7 @@
 pub mod constants;
 pub mod dark;
 pub mod frames;
+pub mod light;
 pub mod model;
 pub mod photon;
 pub mod ptc;

@@ -10,8 +10,12 @@ use crate::report::{
     Warning, WarningCode,
 };
 use crate::roots::positive_root;
-use crate::scenario::{BinningMode, Light, Scenario};
-use crate::{dark, photon, quantization, sense_node};
+use std::collections::BTreeMap;
+
+use crate::light::{self, Response};
+use crate::scenario::{BinningMode, Scenario};
+use crate::spectrum::Spectrum;
+use crate::{dark, quantization, sense_node};
 
 /// Read noise below this (e⁻ rms, reset included) is the sub-electron regime where the
 /// Gaussian SNR picture is a poor guide. Common practice ("deep sub-electron read noise",
@@ -42,7 +46,6 @@ pub fn evaluate(sc: &Scenario) -> Report {
     let sensor = &sc.sensor;
     let exposure = &sc.exposure;
     let t = exposure.time_s;
-    let eta = sensor.quantum_efficiency;
     let pitch2 = sensor.pixel_pitch_um * sensor.pixel_pitch_um;
     let b = f64::from(exposure.binning);
     let b2 = b * b;
@@ -56,25 +59,34 @@ pub fn evaluate(sc: &Scenario) -> Report {
     let T = sc.temperature_c + ZERO_CELSIUS_K;
     let p = sensor.prnu_percent / 100.0;
 
-    // Light: photon flux Φ (photons µm⁻² s⁻¹) where the light kind has one, and μp per pixel.
-    let flux = match sc.light {
-        Light::PhotonFlux {
-            photon_flux_per_um2_s,
-        } => Some(photon_flux_per_um2_s),
-        Light::Irradiance {
-            irradiance_w_per_m2,
-            wavelength_nm,
-        } => Some(photon::photon_flux_per_um2_s(
-            irradiance_w_per_m2,
-            wavelength_nm,
-        )),
-        Light::PhotonsPerPixel { .. } => None,
+    // Light: photon flux Φ (photons µm⁻² s⁻¹) where the light kind has one, μp per pixel, and
+    // the photon-weighted QE η (the single QE for light without a spectrum).
+    let response = Response {
+        quantum_efficiency: sensor.quantum_efficiency,
+        curve: sensor.quantum_efficiency_curve.as_ref(),
+        band_nm: sensor.response_band_nm,
     };
-    let mu_p = match (sc.light.clone(), flux) {
-        (Light::PhotonsPerPixel { photons_per_pixel }, _) => photons_per_pixel,
-        (_, Some(phi)) => phi * pitch2 * t,
-        (_, None) => 0.0,
-    };
+    let light = light::resolve(&sc.light, &response);
+    let flux = light.photon_flux_per_um2_s;
+    let eta = light.effective_qe;
+    let mu_p = light
+        .photons_per_pixel
+        .unwrap_or_else(|| flux.unwrap_or(0.0) * pitch2 * t);
+
+    // Background light: photons that are not signal. Its electrons per pixel per second (a
+    // rate, for light given as flux) and per frame (for light given per pixel).
+    let background = sc
+        .background_light
+        .as_ref()
+        .map(|l| light::resolve(l, &response));
+    let (bg_rate, bg_per_frame) = background.as_ref().map_or((0.0, 0.0), |l| {
+        let rate = l
+            .photon_flux_per_um2_s
+            .map_or(0.0, |f| l.effective_qe * f * pitch2);
+        let fixed = l.photons_per_pixel.map_or(0.0, |ppp| l.effective_qe * ppp);
+        (rate, fixed)
+    });
+    let bg = bg_rate * t + bg_per_frame;
 
     // Per physical pixel, one frame.
     let s = eta * mu_p;
@@ -101,19 +113,23 @@ pub fn evaluate(sc: &Scenario) -> Report {
     // Per output pixel: b × b pixels combined, N frames averaged.
     let S = b2 * s;
     let D = b2 * d;
+    let B = b2 * bg;
     let v_shot = S / N;
     let v_dark = D / N;
+    let v_background = B / N;
     let v_read = n * var_read / N;
     let v_reset = n * var_reset / N;
     let v_quant = n * var_quant / N;
-    let v_temporal = v_shot + v_dark + v_read + v_reset + v_quant;
+    let v_temporal = v_shot + v_dark + v_background + v_read + v_reset + v_quant;
     let v_dsnu = b2 * sensor.dsnu_e * sensor.dsnu_e;
-    let v_prnu = (p * S) * (p * S) / b2;
+    // PRNU scales all photo-charge, the background's too (zero without one, as in SCENARIO.md).
+    let v_prnu = (p * (S + B)) * (p * (S + B)) / b2;
     let v_total = v_temporal + v_dsnu + v_prnu;
 
     let noise_e = NoiseParts {
         photon_shot: v_shot.sqrt(),
         dark_shot: v_dark.sqrt(),
+        background_shot: v_background.sqrt(),
         read: v_read.sqrt(),
         reset: v_reset.sqrt(),
         quantization: v_quant.sqrt(),
@@ -125,6 +141,7 @@ pub fn evaluate(sc: &Scenario) -> Report {
     let variance_share = VarianceShare {
         photon_shot: v_shot / v_total,
         dark_shot: v_dark / v_total,
+        background_shot: v_background / v_total,
         read: v_read / v_total,
         reset: v_reset / v_total,
         quantization: v_quant / v_total,
@@ -148,25 +165,42 @@ pub fn evaluate(sc: &Scenario) -> Report {
     } else {
         (adc_level_e, LimitedBy::Adc)
     };
-    let capacity = L - d;
+    // Background charge occupies the well like dark charge (both zero-free in version 1).
+    let capacity = L - d - bg;
+    let per_unit_photons = |unit: f64| unit * pitch2 * t;
+    let in_units = |photons_per_pixel: f64| -> BTreeMap<&'static str, f64> {
+        light
+            .units
+            .iter()
+            .filter(|(_, per)| *per > 0.0)
+            .map(|(k, per)| (*k, photons_per_pixel / per_unit_photons(*per)))
+            .collect()
+    };
     let saturation = Saturation {
         level_e: L,
         capacity_e: capacity,
-        fill_fraction: (s + d) / L,
-        saturated: s + d > L,
+        fill_fraction: (s + d + bg) / L,
+        saturated: s + d + bg > L,
         limited_by,
+        light_units: if capacity > 0.0 {
+            in_units(capacity / eta)
+        } else {
+            BTreeMap::new()
+        },
     };
 
     // Minimum detectable signal per output pixel (one-frame σ0², as SCENARIO.md defines it).
-    let sigma0_sq = D + n * var_per_read;
+    let sigma0_sq = D + B + n * var_per_read;
     let k2 = k * k;
     // σ0² ≥ n/(12K²) > 0, so the temporal root always exists and is positive.
     let min_t = positive_root(N, k2, k2 * sigma0_sq).unwrap_or(f64::INFINITY);
+    // With background B, PRNU acts on S + B: p²(S + B)²/b² adds 2p²B/b² to the linear term
+    // and p²B²/b² to the constant (both zero in version 1).
     let prnu_coefficient = 1.0 - k2 * p * p / b2;
     let min_total = positive_root(
         prnu_coefficient,
-        k2 / N,
-        k2 * (sigma0_sq / N + b2 * sensor.dsnu_e * sensor.dsnu_e),
+        k2 / N + 2.0 * k2 * p * p * B / b2,
+        k2 * (sigma0_sq / N + b2 * sensor.dsnu_e * sensor.dsnu_e + p * p * B * B / b2),
     );
     let min_photons = min_t / (b2 * eta);
     let min_detectable = MinDetectable {
@@ -174,6 +208,7 @@ pub fn evaluate(sc: &Scenario) -> Report {
         signal_e_total: min_total,
         photons_per_pixel: min_photons,
         photon_flux_per_um2_s: flux.map(|_| min_photons / (pitch2 * t)),
+        light_units: in_units(min_photons),
     };
 
     // Dynamic range and maximum SNR at the output pixel's capacity b²(L − d).
@@ -184,17 +219,22 @@ pub fn evaluate(sc: &Scenario) -> Report {
         db: dr.and_then(db),
         stops: dr.map(f64::log2),
     };
-    let max_snr = capacity_out.map(|c| c / ((c + D + n * var_per_read) / N).sqrt());
+    let max_snr = capacity_out.map(|c| c / ((c + D + B + n * var_per_read) / N).sqrt());
 
     // Exposure for the threshold: N·a²·t² − k²(a + r)·t − k²·σ0r² = 0. Solved for the signal
     // u = a·t instead (N·u² − k²(1 + r/a)·u − k²·σ0r² = 0), so that a faint light's a² cannot
     // underflow; t = u / a.
     let rate_signal = flux.map(|phi| b2 * eta * phi * pitch2).filter(|a| *a > 0.0);
-    let rate_dark = b2 * dark_rate;
+    // Background light given as a rate adds to r; given per frame, to the constant term.
+    let rate_dark = b2 * (dark_rate + bg_rate);
     let exposure_for_threshold_s = rate_signal.and_then(|a| {
-        positive_root(N, k2 * (1.0 + rate_dark / a), k2 * n * var_per_read)
-            .map(|u| u / a)
-            .filter(|t| t.is_finite())
+        positive_root(
+            N,
+            k2 * (1.0 + rate_dark / a),
+            k2 * (n * var_per_read + b2 * bg_per_frame),
+        )
+        .map(|u| u / a)
+        .filter(|t| t.is_finite())
     });
 
     let mut warnings = Vec::new();
@@ -222,7 +262,7 @@ pub fn evaluate(sc: &Scenario) -> Report {
                 sig(d), sig(L)));
     }
     if let (Some(a), Some(te)) = (rate_signal, exposure_for_threshold_s) {
-        let per_pixel = (a / b2 + dark_rate) * te;
+        let per_pixel = (a / b2 + dark_rate + bg_rate) * te + bg_per_frame;
         if per_pixel > L {
             warn(w, WarningCode::ThresholdExposureBeyondSaturation, &["exposure_for_threshold_s"],
                 format!(
@@ -336,6 +376,45 @@ pub fn evaluate(sc: &Scenario) -> Report {
             ),
         );
     }
+    let lights = std::iter::once(("light", &sc.light))
+        .chain(sc.background_light.iter().map(|b| ("background_light", b)));
+    for (which, l) in lights {
+        let Some(spectrum) = l.spectrum() else {
+            continue;
+        };
+        if let Some(outside) = share_outside_band(spectrum, sensor.response_band_nm) {
+            if outside > LIGHT_OUTSIDE_BAND_SHARE {
+                warn(
+                    w,
+                    WarningCode::LightOutsideBand,
+                    &["light.photon_flux_per_um2_s", "signal_e"],
+                    format!(
+                        "{} % of the photons of {which}'s {} spectrum between 300 and 1100 nm fall \
+                         outside the sensor's response band {}–{} nm and are not counted. A sensor \
+                         without an IR-cut filter collects them: widen sensor.response_to_nm or \
+                         give a QE curve.",
+                        sig(outside * 100.0), spectrum.kind(), sig(sensor.response_band_nm.0),
+                        sig(sensor.response_band_nm.1)),
+                );
+            }
+        }
+        let line_or_nir = match spectrum {
+            Spectrum::Monochromatic { .. } => true,
+            Spectrum::Gaussian { centre_nm, .. } => *centre_nm > 700.0,
+            _ => false,
+        };
+        if line_or_nir {
+            warn(
+                w,
+                WarningCode::EyeSafety,
+                &["light.photon_flux_per_um2_s"],
+                format!(
+                    "{which} is a line or near-infrared source: such sources can harm eyes without \
+                     looking bright. This calculator does not assess eye safety; check the source \
+                     against IEC 60825-1 (lasers) or IEC 62471 (LEDs and lamps) before use."),
+            );
+        }
+    }
     if let (Some(c), Some(cg)) = (
         sensor.sense_node_capacitance_ff,
         sensor.conversion_gain_uv_per_e,
@@ -355,6 +434,8 @@ pub fn evaluate(sc: &Scenario) -> Report {
         photons_per_pixel: mu_p,
         signal_e: S,
         dark_e: D,
+        background_e: B,
+        light: light.summary.clone(),
         signal_dn: K * S,
         conversion_gain_uv_per_e: conversion_gain,
         sense_node_capacitance_ff: capacitance_ff,
@@ -371,6 +452,30 @@ pub fn evaluate(sc: &Scenario) -> Report {
         exposure_for_threshold_s,
         warnings,
     }
+}
+
+/// Share of photons outside the response band above which `light_outside_band` is raised:
+/// 5 %, an everyday "noticeable" (common practice, no source).
+pub const LIGHT_OUTSIDE_BAND_SHARE: f64 = 0.05;
+
+/// The wavelengths a silicon sensor can respond to at all, nm (common practice, no source).
+const SILICON_RANGE_NM: (f64, f64) = (300.0, 1100.0);
+
+/// Share of the spectrum's photons (within the silicon range and where the spectrum is
+/// defined) that falls outside `band`; `None` for spectra of unbounded extent or a line.
+fn share_outside_band(spectrum: &Spectrum, band: (f64, f64)) -> Option<f64> {
+    let (lo, hi) = match spectrum {
+        Spectrum::Monochromatic { .. } | Spectrum::EqualEnergy => return None,
+        Spectrum::Gaussian { centre_nm, fwhm_nm } => {
+            (centre_nm - 3.0 * fwhm_nm, centre_nm + 3.0 * fwhm_nm)
+        }
+        Spectrum::Table { points } => (points.first()?.0, points.last()?.0),
+        other => other.defined_range_nm().unwrap_or(SILICON_RANGE_NM),
+    };
+    let (lo, hi) = (lo.max(SILICON_RANGE_NM.0), hi.min(SILICON_RANGE_NM.1));
+    let all = crate::spectrum::photons_per_unit(spectrum, (lo, hi));
+    let inside = crate::spectrum::photons_per_unit(spectrum, (band.0.max(lo), band.1.min(hi)));
+    (all > 0.0).then(|| ((all - inside) / all).max(0.0))
 }
 
 fn warn(list: &mut Vec<Warning>, code: WarningCode, concerns: &[&'static str], message: String) {

@@ -3,7 +3,11 @@
 //! Plain data with `serde::Serialize`; a figure that does not exist is `None` (JSON `null`).
 //! Nothing is computed here.
 
+use std::collections::BTreeMap;
+
 use serde::Serialize;
+
+pub use crate::light::LightSummary;
 
 /// The noise budget of one output pixel after averaging, one entry per source, rms.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Default)]
@@ -12,6 +16,8 @@ pub struct NoiseParts {
     pub photon_shot: f64,
     /// Dark-current shot noise.
     pub dark_shot: f64,
+    /// Shot noise of the background light (zero without one).
+    pub background_shot: f64,
     /// Read noise.
     pub read: f64,
     /// Reset (kTC) noise left by the readout.
@@ -35,6 +41,7 @@ impl NoiseParts {
         NoiseParts {
             photon_shot: self.photon_shot * factor,
             dark_shot: self.dark_shot * factor,
+            background_shot: self.background_shot * factor,
             read: self.read * factor,
             reset: self.reset * factor,
             quantization: self.quantization * factor,
@@ -47,10 +54,11 @@ impl NoiseParts {
 
     /// The entries as (report key, value) pairs, sources first, sums last.
     #[must_use]
-    pub fn entries(&self) -> [(&'static str, f64); 9] {
+    pub fn entries(&self) -> [(&'static str, f64); 10] {
         [
             ("photon_shot", self.photon_shot),
             ("dark_shot", self.dark_shot),
+            ("background_shot", self.background_shot),
             ("read", self.read),
             ("reset", self.reset),
             ("quantization", self.quantization),
@@ -62,13 +70,15 @@ impl NoiseParts {
     }
 }
 
-/// Each source's share of the total variance (0..1); the shares of the seven sources sum to 1.
+/// Each source's share of the total variance (0..1); the shares of the eight sources sum to 1.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Default)]
 pub struct VarianceShare {
     /// Photon shot noise.
     pub photon_shot: f64,
     /// Dark shot noise.
     pub dark_shot: f64,
+    /// Background-light shot noise.
+    pub background_shot: f64,
     /// Read noise.
     pub read: f64,
     /// Reset noise.
@@ -105,7 +115,7 @@ pub enum LimitedBy {
 }
 
 /// Saturation of one physical pixel.
-#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Saturation {
     /// Usable level L, e⁻.
     pub level_e: f64,
@@ -117,10 +127,13 @@ pub struct Saturation {
     pub saturated: bool,
     /// What sets L.
     pub limited_by: LimitedBy,
+    /// The light that fills the capacity, in each unit the light was given in; empty when
+    /// the capacity is ≤ 0 or the light is given per pixel.
+    pub light_units: BTreeMap<&'static str, f64>,
 }
 
 /// The smallest signal that reaches the SNR threshold.
-#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct MinDetectable {
     /// Per output pixel, temporal noise only, e⁻.
     pub signal_e: f64,
@@ -130,6 +143,9 @@ pub struct MinDetectable {
     pub photons_per_pixel: f64,
     /// The temporal minimum as photon flux at the sensor; `None` for light given per pixel.
     pub photon_flux_per_um2_s: Option<f64>,
+    /// The temporal minimum in each unit the light was given in (`illuminance_lux`,
+    /// `scene_illuminance_lux`, `irradiance_w_per_m2`, …).
+    pub light_units: BTreeMap<&'static str, f64>,
 }
 
 /// Dynamic range of one output pixel.
@@ -185,6 +201,10 @@ pub enum WarningCode {
     ConversionGainAboveSenseNode,
     /// No light: the signal is zero.
     NoLight,
+    /// A noticeable part of the spectrum's photons falls outside the sensor's response band.
+    LightOutsideBand,
+    /// A line or near-infrared source: eye safety is not assessed here.
+    EyeSafety,
 }
 
 impl WarningCode {
@@ -207,6 +227,8 @@ impl WarningCode {
             WarningCode::BinnedChargeExceedsFullWell => "binned_charge_exceeds_full_well",
             WarningCode::ConversionGainAboveSenseNode => "conversion_gain_above_sense_node",
             WarningCode::NoLight => "no_light",
+            WarningCode::LightOutsideBand => "light_outside_band",
+            WarningCode::EyeSafety => "eye_safety",
         }
     }
 }
@@ -219,7 +241,8 @@ impl From<WarningCode> for &'static str {
 
 /// Every figure of the format-version-1 report. Extra keys beyond the format: `noise_dn`,
 /// `noise_uv`, `variance_share`, `sense_node_capacitance_ff`,
-/// `dark_current_at_temperature_e_per_s`.
+/// `dark_current_at_temperature_e_per_s`, `background_e`, `light`, `noise_*.background_shot`,
+/// `min_detectable.light_units`, `saturation.light_units` (docs/scenario-format.md).
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Report {
     /// Format version, 1.
@@ -230,6 +253,10 @@ pub struct Report {
     pub signal_e: f64,
     /// Dark charge D per output pixel, e⁻.
     pub dark_e: f64,
+    /// Background-light charge per output pixel, e⁻ (not signal; zero without one).
+    pub background_e: f64,
+    /// The light at the sensor: photon flux, effective QE, band, photometric values.
+    pub light: LightSummary,
     /// K·S, DN above the black level.
     pub signal_dn: f64,
     /// Output-referred conversion gain, µV/e⁻ (given, or q/C); `None` when neither is known.

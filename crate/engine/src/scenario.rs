@@ -58,36 +58,20 @@ impl BinningMode {
     }
 }
 
-/// The light reaching the sensor (`light`). Open to new kinds: match with a wildcard arm.
-#[derive(Debug, Clone, PartialEq)]
-#[non_exhaustive]
-pub enum Light {
-    /// Photons per µm² per second at the sensor.
-    PhotonFlux {
-        /// Photon flux density, photons µm⁻² s⁻¹.
-        photon_flux_per_um2_s: f64,
-    },
-    /// Monochromatic irradiance at the sensor.
-    Irradiance {
-        /// Irradiance, W/m².
-        irradiance_w_per_m2: f64,
-        /// Vacuum wavelength, nm.
-        wavelength_nm: f64,
-    },
-    /// Photons per physical pixel per frame, independent of the exposure time.
-    PhotonsPerPixel {
-        /// Mean photons incident on one pixel in one frame.
-        photons_per_pixel: f64,
-    },
-}
+pub use crate::light::Light;
+use crate::spectrum::QeCurve;
 
 /// The sensor and its readout (`sensor`), with defaults applied.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Sensor {
     /// Pixel pitch, µm; the pixel area is pitch².
     pub pixel_pitch_um: f64,
-    /// Effective quantum efficiency η, electrons per incident photon.
-    pub quantum_efficiency: f64,
+    /// Effective quantum efficiency η, electrons per incident photon, when given as one value.
+    pub quantum_efficiency: Option<f64>,
+    /// Quantum efficiency against wavelength, when given (used for light with a spectrum).
+    pub quantum_efficiency_curve: Option<QeCurve>,
+    /// Wavelengths the sensor responds to, nm: photons of spectral light are counted here.
+    pub response_band_nm: (f64, f64),
     /// Full-well capacity of one pixel, e⁻.
     pub full_well_e: f64,
     /// Temporal read noise of one read (no reset, quantization or dark shot noise), e⁻ rms.
@@ -135,6 +119,7 @@ pub struct Scenario {
     pub(crate) title: Option<String>,
     pub(crate) sensor: Sensor,
     pub(crate) light: Light,
+    pub(crate) background_light: Option<Light>,
     pub(crate) exposure: Exposure,
     pub(crate) temperature_c: f64,
     pub(crate) snr_threshold: f64,
@@ -155,6 +140,11 @@ impl Scenario {
     #[must_use]
     pub fn light(&self) -> &Light {
         &self.light
+    }
+    /// Light that adds photons and shot noise but is not signal (ambient, sky, stray), if any.
+    #[must_use]
+    pub fn background_light(&self) -> Option<&Light> {
+        self.background_light.as_ref()
     }
     /// The exposure, with defaults applied.
     #[must_use]

@@ -116,7 +116,11 @@ impl Spectrum {
     pub fn integrate(&self, band: (f64, f64), f: impl Fn(f64) -> f64) -> f64 {
         let (a, b) = band;
         if let Spectrum::Monochromatic { wavelength_nm } = self {
-            return if (a..=b).contains(wavelength_nm) { f(*wavelength_nm) } else { 0.0 };
+            return if (a..=b).contains(wavelength_nm) {
+                f(*wavelength_nm)
+            } else {
+                0.0
+            };
         }
         trapezoid(a, b, |nm| self.power_at(nm) * f(nm))
     }
@@ -124,7 +128,7 @@ impl Spectrum {
 
 /// Trapezoid rule for ∫ g over [a, b] on an even grid of steps no longer than [`STEP_NM`].
 fn trapezoid(a: f64, b: f64, g: impl Fn(f64) -> f64) -> f64 {
-    if !(b > a) {
+    if a.is_nan() || b.is_nan() || b <= a {
         return 0.0;
     }
     let steps = ((b - a) / STEP_NM).ceil().max(1.0);
@@ -153,7 +157,7 @@ pub fn interpolate(points: &[(f64, f64)], x: f64) -> f64 {
 /// Value of a uniformly spaced table at `nm`, linear between rows; `None` outside.
 fn table_at(start: f64, step: f64, values: &[f64], nm: f64) -> Option<f64> {
     let pos = (nm - start) / step;
-    if !(pos >= 0.0) {
+    if pos.is_nan() || pos < 0.0 {
         return None;
     }
     // OK because pos ≥ 0 and is compared with the table length below.

@@ -262,11 +262,15 @@ pub const CSV_COLUMNS: &[(&str, &str, Getter)] = &[
     }),
     ("signal_e", "e-", |r| Some(r.signal_e)),
     ("dark_e", "e-", |r| Some(r.dark_e)),
+    ("background_e", "e-", |r| Some(r.background_e)),
     ("signal_dn", "DN", |r| Some(r.signal_dn)),
     ("noise_e.photon_shot", "e- rms", |r| {
         Some(r.noise_e.photon_shot)
     }),
     ("noise_e.dark_shot", "e- rms", |r| Some(r.noise_e.dark_shot)),
+    ("noise_e.background_shot", "e- rms", |r| {
+        Some(r.noise_e.background_shot)
+    }),
     ("noise_e.read", "e- rms", |r| Some(r.noise_e.read)),
     ("noise_e.reset", "e- rms", |r| Some(r.noise_e.reset)),
     ("noise_e.quantization", "e- rms", |r| {
@@ -419,7 +423,7 @@ fn set(sc: &mut Scenario, key: &str, v: f64) {
     let s = &mut sc.sensor;
     match key {
         "sensor.pixel_pitch_um" => s.pixel_pitch_um = v,
-        "sensor.quantum_efficiency" => s.quantum_efficiency = v,
+        "sensor.quantum_efficiency" => s.quantum_efficiency = Some(v),
         "sensor.full_well_e" => s.full_well_e = v,
         "sensor.read_noise_e" => s.read_noise_e = v,
         "sensor.sense_node_capacitance_ff" => s.sense_node_capacitance_ff = Some(v),

@@ -8,7 +8,9 @@ use std::fmt;
 
 use serde_json::{Map, Value};
 
-use crate::scenario::{BinningMode, Exposure, Light, Readout, Scenario, Sensor};
+use crate::light::{Lens, Light, Response, SceneQuantity};
+use crate::scenario::{BinningMode, Exposure, Readout, Scenario, Sensor};
+use crate::spectrum::{QeCurve, Spectrum};
 
 /// The format version this engine reads and writes.
 pub const FORMAT_VERSION: u64 = 1;
@@ -141,7 +143,10 @@ pub fn scenario_from_value(v: &Value) -> Result<Scenario, ScenarioError> {
         .and_then(|mut f| sensor(&mut p, &mut f));
     let light = top
         .object(&mut p, "light", true)
-        .and_then(|mut f| light(&mut p, &mut f));
+        .and_then(|mut f| read_light(&mut p, &mut f));
+    let background_light = top
+        .object(&mut p, "background_light", false)
+        .and_then(|mut f| read_light(&mut p, &mut f));
     let exposure = top
         .object(&mut p, "exposure", true)
         .and_then(|mut f| exposure(&mut p, &mut f));
@@ -163,6 +168,14 @@ pub fn scenario_from_value(v: &Value) -> Result<Scenario, ScenarioError> {
     top.finish(&mut p);
 
     // Rules that join keys, checked only where both sides were readable.
+    if let Some(s) = &sensor {
+        if let Some(l) = &light {
+            check_light(&mut p, "light", l, s);
+        }
+        if let Some(b) = &background_light {
+            check_light(&mut p, "background_light", b, s);
+        }
+    }
     if let (Some(s), Some(t)) = (&sensor, temperature_c) {
         let doublings = (t - s.dark_current_reference_c) / s.dark_current_doubling_c;
         if doublings.abs() > MAX_DOUBLINGS {
@@ -185,6 +198,7 @@ pub fn scenario_from_value(v: &Value) -> Result<Scenario, ScenarioError> {
                 title,
                 sensor,
                 light,
+                background_light,
                 exposure,
                 temperature_c,
                 snr_threshold: snr,
@@ -202,12 +216,42 @@ fn sensor(p: &mut Problems, f: &mut Fields<'_>) -> Option<Sensor> {
         Need::Required,
         positive().at_least_limit(1e-3).at_most_limit(1e4),
     );
+    // Required unless a QE curve covers the light; checked with the light (`check_light`).
     let quantum_efficiency = f.number(
         p,
         "quantum_efficiency",
-        Need::Required,
+        Need::Optional,
         positive().at_least_limit(1e-6).at_most(1.0),
     );
+    let qe_curve = f.pairs(p, "quantum_efficiency_curve", Some(1.0));
+    let band_default = qe_curve
+        .as_ref()
+        .and_then(|c| Some((c.first()?.0, c.last()?.0)))
+        .unwrap_or(DEFAULT_BAND_NM);
+    let response_from_nm = f.number(
+        p,
+        "response_from_nm",
+        Need::Default(band_default.0),
+        Range::new().above(0.0).at_most_limit(1e6),
+    );
+    let response_to_nm = f.number(
+        p,
+        "response_to_nm",
+        Need::Default(band_default.1),
+        Range::new().above(0.0).at_most_limit(1e6),
+    );
+    if let (Some(a), Some(b)) = (response_from_nm, response_to_nm) {
+        if b <= a {
+            p.push(
+                &f.path_of("response_to_nm"),
+                format!(
+                    "must be above sensor.response_from_nm ({}), got {}",
+                    show(a),
+                    show(b)
+                ),
+            );
+        }
+    }
     let full_well_e = f.number(
         p,
         "full_well_e",
@@ -315,7 +359,9 @@ fn sensor(p: &mut Problems, f: &mut Fields<'_>) -> Option<Sensor> {
 
     Some(Sensor {
         pixel_pitch_um: pixel_pitch_um?,
-        quantum_efficiency: quantum_efficiency?,
+        quantum_efficiency,
+        quantum_efficiency_curve: qe_curve.map(|points| QeCurve { points }),
+        response_band_nm: (response_from_nm?, response_to_nm?),
         full_well_e: full_well_e?,
         read_noise_e: read_noise_e?,
         sense_node_capacitance_ff: capacitance,
@@ -332,22 +378,40 @@ fn sensor(p: &mut Problems, f: &mut Fields<'_>) -> Option<Sensor> {
     })
 }
 
-/// The light kinds of format version 1, each with the keys that mark it.
-const LIGHT_KINDS: &[(&str, &[&str])] = &[
-    ("photon_flux_per_um2_s", &["photon_flux_per_um2_s"]),
-    (
-        "irradiance_w_per_m2",
-        &["irradiance_w_per_m2", "wavelength_nm"],
-    ),
-    ("photons_per_pixel", &["photons_per_pixel"]),
+/// The light kinds, each marked by one key: the three of format version 1, then this
+/// implementation's additions (docs/scenario-format.md).
+const LIGHT_KINDS: &[&str] = &[
+    "photon_flux_per_um2_s",
+    "irradiance_w_per_m2",
+    "photons_per_pixel",
+    "illuminance_lux",
+    "scene_illuminance_lux",
+    "scene_irradiance_w_per_m2",
+    "scene_luminance_cd_per_m2",
+    "scene_radiance_w_per_m2_sr",
 ];
 
-fn light(p: &mut Problems, f: &mut Fields<'_>) -> Option<Light> {
-    let present: Vec<&str> = LIGHT_KINDS
-        .iter()
-        .map(|(k, _)| *k)
-        .filter(|k| f.has(k))
-        .collect();
+/// Keys that go with a kind's marking key.
+const LIGHT_COMPANIONS: &[&str] = &[
+    "wavelength_nm",
+    "spectrum",
+    "reflectance",
+    "f_number",
+    "lens_transmission",
+    "magnification",
+    "field_angle_deg",
+];
+
+/// Smallest effective quantum efficiency accepted: the single value's lower limit, so that
+/// photons per electron stay finite.
+const MIN_EFFECTIVE_QE: f64 = 1e-6;
+
+/// The band photons are counted over when neither it nor a QE curve is given: the visible
+/// band over which REFERENCES.md §5 states photons per lux.
+const DEFAULT_BAND_NM: (f64, f64) = (380.0, 780.0);
+
+fn read_light(p: &mut Problems, f: &mut Fields<'_>) -> Option<Light> {
+    let present: Vec<&str> = LIGHT_KINDS.iter().copied().filter(|k| f.has(k)).collect();
     let kind = match present.as_slice() {
         [one] => Some(*one),
         [] => {
@@ -357,8 +421,9 @@ fn light(p: &mut Problems, f: &mut Fields<'_>) -> Option<Light> {
             } else {
                 p.push(
                     &f.prefix(),
-                    "give exactly one light kind: photon_flux_per_um2_s, \
-                     irradiance_w_per_m2 with wavelength_nm, or photons_per_pixel; got none"
+                    "give exactly one light kind: photon_flux_per_um2_s, irradiance_w_per_m2 \
+                     (with wavelength_nm or a spectrum), photons_per_pixel, illuminance_lux, or a \
+                     scene_… quantity with a lens; got none"
                         .into(),
                 );
                 None
@@ -372,8 +437,6 @@ fn light(p: &mut Problems, f: &mut Fields<'_>) -> Option<Light> {
             None
         }
     };
-    // Read the keys of the chosen kind; the others are then reported as unknown by `finish`,
-    // unless several kinds were given, which was reported above.
     let non_negative = || Range::new().at_least(0.0);
     let light = match kind {
         Some("photon_flux_per_um2_s") => f
@@ -386,28 +449,7 @@ fn light(p: &mut Problems, f: &mut Fields<'_>) -> Option<Light> {
             .map(|v| Light::PhotonFlux {
                 photon_flux_per_um2_s: v,
             }),
-        Some("irradiance_w_per_m2") => {
-            let e = f.number(
-                p,
-                "irradiance_w_per_m2",
-                Need::Required,
-                non_negative().at_most_limit(1e9),
-            );
-            let l = f.number(
-                p,
-                "wavelength_nm",
-                Need::Required,
-                Range::new().above(0.0).at_most_limit(1e6),
-            );
-            match (e, l) {
-                (Some(e), Some(l)) => Some(Light::Irradiance {
-                    irradiance_w_per_m2: e,
-                    wavelength_nm: l,
-                }),
-                _ => None,
-            }
-        }
-        Some(_) => f
+        Some("photons_per_pixel") => f
             .number(
                 p,
                 "photons_per_pixel",
@@ -417,22 +459,338 @@ fn light(p: &mut Problems, f: &mut Fields<'_>) -> Option<Light> {
             .map(|v| Light::PhotonsPerPixel {
                 photons_per_pixel: v,
             }),
+        Some("irradiance_w_per_m2") => {
+            let e = f.number(
+                p,
+                "irradiance_w_per_m2",
+                Need::Required,
+                non_negative().at_most_limit(1e9),
+            );
+            if f.has("spectrum") && f.has("wavelength_nm") {
+                p.push(
+                    &f.path_of("wavelength_nm"),
+                    "give either wavelength_nm (monochromatic) or a spectrum, not both".into(),
+                );
+                f.mark_used("wavelength_nm");
+                f.mark_used("spectrum");
+                None
+            } else if f.has("spectrum") {
+                let s = spectrum(p, f);
+                Some(Light::SpectralIrradiance {
+                    irradiance_w_per_m2: e?,
+                    spectrum: s?,
+                })
+            } else {
+                let l = f.number_with(
+                    p,
+                    "wavelength_nm",
+                    Need::Required,
+                    Range::new().above(0.0).at_most_limit(1e6),
+                    "required, missing: give wavelength_nm for monochromatic light, or a spectrum",
+                );
+                Some(Light::Irradiance {
+                    irradiance_w_per_m2: e?,
+                    wavelength_nm: l?,
+                })
+            }
+        }
+        Some("illuminance_lux") => {
+            let e = f.number(
+                p,
+                "illuminance_lux",
+                Need::Required,
+                non_negative().at_most_limit(1e9),
+            );
+            let s = spectrum(p, f);
+            Some(Light::Illuminance {
+                illuminance_lux: e?,
+                spectrum: s?,
+            })
+        }
+        Some(scene_key) => {
+            let limit = if scene_key == "scene_luminance_cd_per_m2" {
+                1e12
+            } else {
+                1e9
+            };
+            let value = f.number(
+                p,
+                scene_key,
+                Need::Required,
+                non_negative().at_most_limit(limit),
+            );
+            let reflectance = if scene_key == "scene_illuminance_lux"
+                || scene_key == "scene_irradiance_w_per_m2"
+            {
+                f.number(
+                    p,
+                    "reflectance",
+                    Need::Required,
+                    Range::new().at_least(0.0).at_most(1.0),
+                )
+            } else {
+                Some(0.0)
+            };
+            let s = spectrum(p, f);
+            let lens = lens(p, f);
+            let (value, reflectance) = (value?, reflectance?);
+            let quantity = match scene_key {
+                "scene_illuminance_lux" => SceneQuantity::Illuminance {
+                    lux: value,
+                    reflectance,
+                },
+                "scene_irradiance_w_per_m2" => SceneQuantity::Irradiance {
+                    w_per_m2: value,
+                    reflectance,
+                },
+                "scene_luminance_cd_per_m2" => SceneQuantity::Luminance { cd_per_m2: value },
+                _ => SceneQuantity::Radiance { w_per_m2_sr: value },
+            };
+            Some(Light::Scene {
+                quantity,
+                spectrum: s?,
+                lens: lens?,
+            })
+        }
         None => {
-            for k in present {
+            for k in LIGHT_KINDS.iter().chain(LIGHT_COMPANIONS) {
                 f.mark_used(k);
             }
             None
         }
     };
-    if kind.is_none() {
-        for (_, keys) in LIGHT_KINDS {
-            for k in *keys {
-                f.mark_used(k);
-            }
-        }
-    }
     f.finish(p);
     light
+}
+
+fn lens(p: &mut Problems, f: &mut Fields<'_>) -> Option<Lens> {
+    let f_number = f.number_with(
+        p,
+        "f_number",
+        Need::Required,
+        Range::new().at_least(0.5).at_most_limit(1e4),
+        "required with a scene_… light: the lens f-number",
+    );
+    let transmission = f.number_with(
+        p,
+        "lens_transmission",
+        Need::Required,
+        Range::new().above(0.0).at_most(1.0),
+        "required with a scene_… light: the lens transmission, 0 to 1 (typically 0.8 to 0.95)",
+    );
+    let magnification = f.number(
+        p,
+        "magnification",
+        Need::Default(0.0),
+        Range::new().at_least(0.0).at_most_limit(1e3),
+    );
+    let field_angle_deg = f.number(
+        p,
+        "field_angle_deg",
+        Need::Default(0.0),
+        Range::new().at_least(0.0).below(90.0),
+    );
+    Some(Lens {
+        f_number: f_number?,
+        transmission: transmission?,
+        magnification: magnification?,
+        field_angle_deg: field_angle_deg?,
+    })
+}
+
+const SPECTRUM_KINDS: &[&str] = &[
+    "cie_a",
+    "cie_d65",
+    "equal_energy",
+    "blackbody",
+    "monochromatic",
+    "gaussian",
+    "table",
+];
+
+/// The `spectrum` object of a light (required where this is called).
+fn spectrum(p: &mut Problems, f: &mut Fields<'_>) -> Option<Spectrum> {
+    let mut s = f.object(p, "spectrum", true)?;
+    let kind = s.choice(p, "kind", SPECTRUM_KINDS, None);
+    let spectrum = match kind? {
+        "cie_a" => Some(Spectrum::CieA),
+        "cie_d65" => Some(Spectrum::CieD65),
+        "equal_energy" => Some(Spectrum::EqualEnergy),
+        "blackbody" => s
+            .number(
+                p,
+                "temperature_k",
+                Need::Required,
+                Range::new()
+                    .above(0.0)
+                    .at_least_limit(100.0)
+                    .at_most_limit(1e5),
+            )
+            .map(|t| Spectrum::Blackbody { temperature_k: t }),
+        "monochromatic" => s
+            .number(
+                p,
+                "wavelength_nm",
+                Need::Required,
+                Range::new().above(0.0).at_most_limit(1e6),
+            )
+            .map(|l| Spectrum::Monochromatic { wavelength_nm: l }),
+        "gaussian" => {
+            let c = s.number(
+                p,
+                "centre_nm",
+                Need::Required,
+                Range::new().above(0.0).at_most_limit(1e6),
+            );
+            // Below 2 nm the 1 nm integration grid no longer resolves the band: use a line.
+            let w = s.number_with(
+                p,
+                "fwhm_nm",
+                Need::Required,
+                Range::new()
+                    .above(0.0)
+                    .at_least_limit(2.0)
+                    .at_most_limit(1e5),
+                "required, missing: the band's full width at half maximum",
+            );
+            Some(Spectrum::Gaussian {
+                centre_nm: c?,
+                fwhm_nm: w?,
+            })
+        }
+        _ => s
+            .pairs(p, "points", None)
+            .map(|points| Spectrum::Table { points })
+            .or_else(|| {
+                if !s.had_problem_at(p, "points") {
+                    p.push(
+                        &s.path_of("points"),
+                        "required, missing: [[wavelength_nm, value], …]".into(),
+                    );
+                }
+                None
+            }),
+    };
+    s.finish(p);
+    spectrum
+}
+
+/// Rules joining the light (or background light, at `prefix`) with the sensor's response.
+fn check_light(p: &mut Problems, prefix: &str, light: &Light, sensor: &Sensor) {
+    let band = sensor.response_band_nm;
+    let spectrum = match light {
+        Light::SpectralIrradiance { spectrum, .. }
+        | Light::Illuminance { spectrum, .. }
+        | Light::Scene { spectrum, .. } => Some(spectrum),
+        _ => None,
+    };
+    let has_curve = sensor.quantum_efficiency_curve.is_some();
+    if let (Some(curve), Light::Irradiance { wavelength_nm, .. }) =
+        (&sensor.quantum_efficiency_curve, light)
+    {
+        if curve.at(*wavelength_nm) < MIN_EFFECTIVE_QE {
+            p.push(
+                &format!("{prefix}.wavelength_nm"),
+                format!(
+                    "sensor.quantum_efficiency_curve is zero at {} nm: this sensor does not see this light",
+                    show(*wavelength_nm)
+                ),
+            );
+        }
+    }
+    let curve_usable =
+        has_curve && (spectrum.is_some() || matches!(light, Light::Irradiance { .. }));
+    if sensor.quantum_efficiency.is_none() && !curve_usable {
+        let why = if has_curve {
+            format!(
+                "required: {prefix} has no spectrum or wavelength to weight sensor.quantum_efficiency_curve with"
+            )
+        } else {
+            "required, missing: give it, or sensor.quantum_efficiency_curve".to_string()
+        };
+        if !p.0.iter().any(|q| q.path == "sensor.quantum_efficiency") {
+            p.push("sensor.quantum_efficiency", why);
+        }
+    }
+    let Some(spectrum) = spectrum else { return };
+    if let Some((lo, hi)) = spectrum.defined_range_nm() {
+        if band.0 < lo || band.1 > hi {
+            p.push(
+                "sensor.response_to_nm",
+                format!(
+                    "{prefix}.spectrum {} is tabulated from {} to {} nm, but the sensor's response band \
+                     {}–{} nm goes beyond it; narrow sensor.response_from_nm/response_to_nm",
+                    spectrum.kind(),
+                    show(lo),
+                    show(hi),
+                    show(band.0),
+                    show(band.1)
+                ),
+            );
+            return;
+        }
+    }
+    if let Spectrum::Monochromatic { wavelength_nm } = spectrum {
+        if !(band.0..=band.1).contains(wavelength_nm) {
+            p.push(
+                &format!("{prefix}.spectrum.wavelength_nm"),
+                format!(
+                    "{} nm is outside the sensor's response band {}–{} nm \
+                     (sensor.response_from_nm, sensor.response_to_nm)",
+                    show(*wavelength_nm),
+                    show(band.0),
+                    show(band.1)
+                ),
+            );
+            return;
+        }
+    }
+    let photometric = matches!(
+        light,
+        Light::Illuminance { .. }
+            | Light::Scene {
+                quantity: SceneQuantity::Illuminance { .. } | SceneQuantity::Luminance { .. },
+                ..
+            }
+    );
+    if let Some(curve) = &sensor.quantum_efficiency_curve {
+        let response = Response {
+            quantum_efficiency: None,
+            curve: Some(curve),
+            band_nm: band,
+        };
+        let photons = crate::spectrum::photons_per_unit(spectrum, band);
+        let electrons =
+            crate::spectrum::electrons_per_unit(spectrum, band, |nm| response.qe_at(nm));
+        if photons > 0.0 && electrons / photons < MIN_EFFECTIVE_QE {
+            p.push(
+                "sensor.quantum_efficiency_curve",
+                format!(
+                    "is zero (below {}) wherever {prefix}.spectrum has photons within the response band: \
+                     this sensor does not see this light",
+                    show(MIN_EFFECTIVE_QE)
+                ),
+            );
+            return;
+        }
+    }
+    if photometric && crate::spectrum::lux_per_unit(spectrum) <= 0.0 {
+        p.push(
+            &format!("{prefix}.spectrum"),
+            "has no visible light (it is zero wherever V(λ) is not, 360–830 nm), so the light cannot \
+             be given in lux or cd/m²; give it in W/m² instead"
+                .into(),
+        );
+    } else if !photometric && spectrum.integrate(band, |_| 1.0) <= 0.0 {
+        p.push(
+            &format!("{prefix}.spectrum"),
+            format!(
+                "has no power within the sensor's response band {}–{} nm, so its W/m² cannot be placed",
+                show(band.0),
+                show(band.1)
+            ),
+        );
+    }
 }
 
 fn exposure(p: &mut Problems, f: &mut Fields<'_>) -> Option<Exposure> {
@@ -508,6 +866,14 @@ impl Range {
     }
     fn above(mut self, v: f64) -> Self {
         self.min = Some((v, false));
+        self
+    }
+    fn at_most(mut self, v: f64) -> Self {
+        self.max = Some((v, true));
+        self
+    }
+    fn below(mut self, v: f64) -> Self {
+        self.max = Some((v, false));
         self
     }
     fn at_least(mut self, v: f64) -> Self {
@@ -640,7 +1006,12 @@ impl<'v> Fields<'v> {
 
     fn had_problem_at(&self, p: &Problems, key: &str) -> bool {
         let path = self.path_of(key);
-        p.0.iter().any(|q| q.path == path)
+        p.0.iter().any(|q| {
+            q.path == path
+                || q.path
+                    .strip_prefix(path.as_str())
+                    .is_some_and(|rest| rest.starts_with(['[', '.']))
+        })
     }
 
     /// The value of `key`, marking it read; `null` counts as absent.
@@ -677,6 +1048,110 @@ impl<'v> Fields<'v> {
             }
             None => Some(x),
         }
+    }
+
+    /// As [`Fields::number`], with a message of its own for a missing required key.
+    fn number_with(
+        &mut self,
+        p: &mut Problems,
+        key: &str,
+        need: Need,
+        range: impl Into<RangeWithLimit>,
+        missing: &str,
+    ) -> Option<f64> {
+        if matches!(need, Need::Required) && !self.has(key) {
+            self.mark_used(key);
+            p.push(&self.path_of(key), missing.to_string());
+            return None;
+        }
+        self.number(p, key, need, range)
+    }
+
+    /// An optional list of `[wavelength_nm, value]` pairs: at least 2, at most 10 000, with
+    /// wavelengths > 0 strictly increasing, values finite, ≥ 0, at most `max_value`, not all 0.
+    fn pairs(
+        &mut self,
+        p: &mut Problems,
+        key: &str,
+        max_value: Option<f64>,
+    ) -> Option<Vec<(f64, f64)>> {
+        let path = self.path_of(key);
+        let v = self.get(key)?;
+        let Some(items) = v.as_array() else {
+            p.push(
+                &path,
+                format!(
+                    "must be a list of [wavelength_nm, value] pairs, got {}",
+                    show_value(v)
+                ),
+            );
+            return None;
+        };
+        if items.len() < 2 || items.len() > 10_000 {
+            p.push(
+                &path,
+                format!("must have from 2 to 10000 points, got {}", items.len()),
+            );
+            return None;
+        }
+        let before = p.0.len();
+        let mut out: Vec<(f64, f64)> = Vec::with_capacity(items.len());
+        for (i, item) in items.iter().enumerate() {
+            let here = format!("{path}[{i}]");
+            let pair = item.as_array().filter(|a| a.len() == 2).and_then(|a| {
+                let x = a.first()?.as_f64()?;
+                let y = a.get(1)?.as_f64()?;
+                Some((x, y))
+            });
+            let Some((nm, y)) = pair else {
+                p.push(
+                    &here,
+                    format!(
+                        "must be a pair [wavelength_nm, value] of numbers, got {}",
+                        show_value(item)
+                    ),
+                );
+                continue;
+            };
+            if !(nm > 0.0 && nm <= 1e6) {
+                p.push(
+                    &here,
+                    format!(
+                        "wavelength must be > 0 nm and at most 1e6, got {}",
+                        show(nm)
+                    ),
+                );
+                continue;
+            }
+            if let Some(&(prev, _)) = out.last() {
+                if nm <= prev {
+                    p.push(
+                        &here,
+                        format!(
+                            "wavelengths must increase, got {} nm after {} nm",
+                            show(nm),
+                            show(prev)
+                        ),
+                    );
+                    continue;
+                }
+            }
+            if y < 0.0 || max_value.is_some_and(|m| y > m) {
+                let rule =
+                    max_value.map_or("≥ 0".to_string(), |m| format!("from 0 to {}", show(m)));
+                p.push(&here, format!("value must be {rule}, got {}", show(y)));
+                continue;
+            }
+            out.push((nm, y));
+        }
+        if p.0.len() > before {
+            return None;
+        }
+        if out.iter().all(|(_, y)| *y == 0.0) {
+            p.push(&path, "every value is 0".into());
+            return None;
+        }
+        Some(out)
     }
 
     fn integer(
@@ -1015,7 +1490,7 @@ mod tests {
     fn light_needs_exactly_one_kind() {
         check(
             |v| v["light"] = json!({}),
-            &["light: give exactly one light kind: photon_flux_per_um2_s, irradiance_w_per_m2 with wavelength_nm, or photons_per_pixel; got none"],
+            &["light: give exactly one light kind: photon_flux_per_um2_s, irradiance_w_per_m2 (with wavelength_nm or a spectrum), photons_per_pixel, illuminance_lux, or a scene_… quantity with a lens; got none"],
         );
         check(
             |v| v["light"] = json!({"photon_flux_per_um2_s": 1, "photons_per_pixel": 5}),
@@ -1023,7 +1498,7 @@ mod tests {
         );
         check(
             |v| v["light"] = json!({"irradiance_w_per_m2": 1}),
-            &["light.wavelength_nm: required, missing"],
+            &["light.wavelength_nm: required, missing: give wavelength_nm for monochromatic light, or a spectrum"],
         );
         check(
             |v| v["light"] = json!({"wavelength_nm": 550}),
@@ -1083,6 +1558,118 @@ mod tests {
         check(
             |v| v["sensor"]["read_noise_e"] = Value::Null,
             &["sensor.read_noise_e: required, missing"],
+        );
+    }
+
+    fn scene() -> Value {
+        json!({"scene_illuminance_lux": 300, "reflectance": 0.2, "spectrum": {"kind": "cie_d65"},
+               "f_number": 2.8, "lens_transmission": 0.9})
+    }
+
+    #[test]
+    fn light_as_engineers_state_it() {
+        check(|v| v["light"] = scene(), &[]);
+        check(
+            |v| v["light"] = json!({"illuminance_lux": 300, "spectrum": {"kind": "cie_a"}}),
+            &[],
+        );
+        check(
+            |v| v["light"] = json!({"irradiance_w_per_m2": 2, "spectrum": {"kind": "gaussian", "centre_nm": 530, "fwhm_nm": 30}}),
+            &[],
+        );
+        check(
+            |v| v["background_light"] = json!({"photon_flux_per_um2_s": 100}),
+            &[],
+        );
+    }
+
+    #[test]
+    fn bad_light_names_the_field() {
+        check(
+            |v| {
+                v["light"] = scene();
+                v["light"]["reflectance"] = json!(1.3);
+                v["light"]["f_number"] = json!(0.4);
+            },
+            &[
+                "light.reflectance: must be ≤ 1, got 1.3",
+                "light.f_number: must be ≥ 0.5, got 0.4",
+            ],
+        );
+        check(
+            |v| v["light"] = json!({"illuminance_lux": 10, "spectrum": {"kind": "monochromatic", "wavelength_nm": 900}}),
+            &["light.spectrum.wavelength_nm: 900 nm is outside the sensor's response band 380–780 nm (sensor.response_from_nm, sensor.response_to_nm)"],
+        );
+        check(
+            |v| {
+                v["sensor"]["response_to_nm"] = json!(1000);
+                v["light"] = json!({"illuminance_lux": 10, "spectrum": {"kind": "monochromatic", "wavelength_nm": 900}});
+            },
+            &["light.spectrum: has no visible light (it is zero wherever V(λ) is not, 360–830 nm), so the light cannot be given in lux or cd/m²; give it in W/m² instead"],
+        );
+        check(
+            |v| {
+                v["sensor"]["response_to_nm"] = json!(1000);
+                v["light"] = scene();
+            },
+            &["sensor.response_to_nm: light.spectrum cie_d65 is tabulated from 300 to 830 nm, but the sensor's response band 380–1000 nm goes beyond it; narrow sensor.response_from_nm/response_to_nm"],
+        );
+        check(
+            |v| v["light"] = json!({"illuminance_lux": 10, "spectrum": {"kind": "table", "points": [[400, 1], [390, 2], [500, -1], [600, "x"]]}}),
+            &[
+                "light.spectrum.points[1]: wavelengths must increase, got 390 nm after 400 nm",
+                "light.spectrum.points[2]: value must be ≥ 0, got -1",
+                "light.spectrum.points[3]: must be a pair [wavelength_nm, value] of numbers, got a list",
+            ],
+        );
+        check(
+            |v| v["light"] = json!({"illuminance_lux": 10, "spectrum": {"kind": "rainbow"}}),
+            &["light.spectrum.kind: must be one of \"cie_a\", \"cie_d65\", \"equal_energy\", \"blackbody\", \"monochromatic\", \"gaussian\", \"table\", got \"rainbow\""],
+        );
+        check(
+            |v| v["light"] = json!({"illuminance_lux": 10}),
+            &["light.spectrum: required, missing"],
+        );
+        check(
+            |v| {
+                v["light"] = scene();
+                v["light"].as_object_mut().unwrap().remove("lens_transmission");
+            },
+            &["light.lens_transmission: required with a scene_… light: the lens transmission, 0 to 1 (typically 0.8 to 0.95)"],
+        );
+    }
+
+    #[test]
+    fn qe_curves() {
+        check(
+            |v| {
+                v["sensor"].as_object_mut().unwrap().remove("quantum_efficiency");
+                v["sensor"]["quantum_efficiency_curve"] = json!([[400, 0.5], [700, 0.5]]);
+            },
+            &["sensor.quantum_efficiency: required: light has no spectrum or wavelength to weight sensor.quantum_efficiency_curve with"],
+        );
+        check(
+            |v| {
+                v["sensor"]["quantum_efficiency_curve"] = json!([[400, 0.5], [700, 1.5]]);
+            },
+            &["sensor.quantum_efficiency_curve[1]: value must be from 0 to 1, got 1.5"],
+        );
+        check(
+            |v| {
+                v["sensor"]["quantum_efficiency_curve"] = json!([[400, 0.5], [500, 0.0], [700, 0.0]]);
+                v["light"] = json!({"irradiance_w_per_m2": 1, "wavelength_nm": 600});
+            },
+            &["light.wavelength_nm: sensor.quantum_efficiency_curve is zero at 600 nm: this sensor does not see this light"],
+        );
+    }
+
+    #[test]
+    fn numbers_beyond_double_precision_are_refused_as_json() {
+        let e = super::scenario_from_json(r#"{"version": 1, "temperature_c": 1e999}"#).unwrap_err();
+        assert!(
+            e.to_string()
+                .starts_with("scenario: not valid JSON: number out of range"),
+            "{e}"
         );
     }
 }
