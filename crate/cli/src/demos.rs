@@ -34,4 +34,14 @@ pub const DEMOS: &[Demo] = &[
         summary: "3T pixel with delta double sampling: reset noise dominates",
         json: include_str!("../../../www/demos/three-transistor-no-cds.json"),
     },
+    Demo {
+        name: "conveyor-lux-and-lens",
+        summary: "300 lx white-LED conveyor seen through an f/2.8 lens: the answer in scene lux",
+        json: include_str!("../../../www/demos/conveyor-lux-and-lens.json"),
+    },
+    Demo {
+        name: "nir-illuminator-daylight",
+        summary: "850 nm illuminator with daylight as background light, QE curve",
+        json: include_str!("../../../www/demos/nir-illuminator-daylight.json"),
+    },
 ];

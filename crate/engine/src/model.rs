@@ -250,9 +250,10 @@ pub fn evaluate(sc: &Scenario) -> Report {
     if saturation.saturated {
         warn(w, WarningCode::Saturated, &["saturation.fill_fraction", "snr.temporal", "snr.total"],
             format!(
-                "The pixel saturates: signal plus dark charge is {} e⁻, above the usable level of {} e⁻ \
-                 (set by the {}). The figures assume a linear response; the real frame clips.",
-                sig(s + d), sig(L), limited_by_words(limited_by)));
+                "The pixel saturates: signal{} and dark charge add up to {} e⁻, above the usable level \
+                 of {} e⁻ (set by the {}). The figures assume a linear response; the real frame clips.",
+                if bg > 0.0 { ", background" } else { "" }, sig(s + d + bg), sig(L),
+                limited_by_words(limited_by)));
     }
     if capacity <= 0.0 {
         warn(w, WarningCode::DarkFillsPixel, &["saturation.capacity_e", "dynamic_range.ratio", "max_snr"],

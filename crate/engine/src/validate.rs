@@ -719,7 +719,8 @@ fn check_light(p: &mut Problems, prefix: &str, light: &Light, sensor: &Sensor) {
                 "sensor.response_to_nm",
                 format!(
                     "{prefix}.spectrum {} is tabulated from {} to {} nm, but the sensor's response band \
-                     {}–{} nm goes beyond it; narrow sensor.response_from_nm/response_to_nm",
+                     {}–{} nm goes beyond it; narrow sensor.response_from_nm/response_to_nm, or for daylight \
+                     in the near infrared use a blackbody near 5800 K as a stand-in",
                     spectrum.kind(),
                     show(lo),
                     show(hi),
@@ -1612,7 +1613,7 @@ mod tests {
                 v["sensor"]["response_to_nm"] = json!(1000);
                 v["light"] = scene();
             },
-            &["sensor.response_to_nm: light.spectrum cie_d65 is tabulated from 300 to 830 nm, but the sensor's response band 380–1000 nm goes beyond it; narrow sensor.response_from_nm/response_to_nm"],
+            &["sensor.response_to_nm: light.spectrum cie_d65 is tabulated from 300 to 830 nm, but the sensor's response band 380–1000 nm goes beyond it; narrow sensor.response_from_nm/response_to_nm, or for daylight in the near infrared use a blackbody near 5800 K as a stand-in"],
         );
         check(
             |v| v["light"] = json!({"illuminance_lux": 10, "spectrum": {"kind": "table", "points": [[400, 1], [390, 2], [500, -1], [600, "x"]]}}),
