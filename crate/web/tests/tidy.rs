@@ -3,6 +3,8 @@
 //!
 //! They read files and the engine's output only; they drive no browser (the page tests do).
 
+#![cfg(not(target_arch = "wasm32"))]
+
 use std::fs;
 use std::path::{Path, PathBuf};
 

@@ -1,0 +1,114 @@
+#!/usr/bin/env node
+// Measure the built page (a measurement for the issue's closing note, not a test: nothing here
+// passes or fails). Reports the single file's and the wasm's sizes (dist/sizes.json), the time
+// from navigation to the first result shown next to an empty static page's load in the same
+// browser run, and the time an edit takes to update the results, over 200 edits.
+// Usage: node scripts/measure-page.mjs [dist]   (after scripts/build-page)
+import { mkdtempSync, readFileSync, writeFileSync, mkdirSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join, resolve } from 'node:path';
+import { pathToFileURL } from 'node:url';
+import { chromium } from 'playwright-core';
+import { serveStatic } from './static-server.mjs';
+
+const dist = resolve(process.argv[2] ?? 'dist');
+const RUNS = 15;
+const EDITS = 200;
+const sizes = JSON.parse(readFileSync(join(dist, 'sizes.json'), 'utf8'));
+
+const emptyDir = mkdtempSync(join(tmpdir(), 'noise-budget-empty-'));
+writeFileSync(join(emptyDir, 'index.html'),
+  '<!doctype html><html lang="en"><head><meta charset="utf-8"><link rel="icon" href="data:,"><title>empty</title></head><body><p>empty</p></body></html>');
+
+const page$ = await serveStatic(dist, 0);
+const empty$ = await serveStatic(emptyDir, 0);
+const browser = await chromium.launch({
+  executablePath: '/usr/bin/chromium', headless: true,
+  args: ['--no-sandbox', '--disable-gpu', '--disable-background-networking', '--disable-component-update',
+    '--disable-sync', '--no-first-run', '--disable-dev-shm-usage'],
+});
+
+const median = (xs) => { const s = [...xs].sort((a, b) => a - b); const m = s.length >> 1; return s.length % 2 ? s[m] : (s[m - 1] + s[m]) / 2; };
+const pct = (xs, p) => { const s = [...xs].sort((a, b) => a - b); return s[Math.min(s.length - 1, Math.floor(p * s.length))]; };
+
+async function loadTimes(url, firstResult) {
+  const out = [];
+  for (let i = 0; i < RUNS; i++) {
+    const ctx = await browser.newContext();
+    const page = await ctx.newPage();
+    await page.goto(url);
+    if (firstResult) await page.waitForSelector('html[data-ready]');
+    else await page.waitForLoadState('load');
+    out.push(await page.evaluate((fr) => {
+      if (fr) return performance.getEntriesByName('noise-budget:first-result')[0]?.startTime ?? NaN;
+      return performance.getEntriesByType('navigation')[0].loadEventEnd;
+    }, firstResult));
+    await ctx.close();
+  }
+  return out;
+}
+
+// Alternate between targets so that machine load affects each alike.
+const empty = [];
+const served = [];
+const single = [];
+for (let round = 0; round < 3; round++) {
+  empty.push(...await loadTimes(`${empty$.origin}/`, false));
+  served.push(...await loadTimes(`${page$.origin}/`, true));
+  single.push(...await loadTimes(pathToFileURL(join(dist, 'noise-budget.html')).href, true));
+}
+
+// Edits: type a new value in a field, as the input event does; time until the results are
+// written (the handler is synchronous), and until a forced style and layout of the page.
+const ctx = await browser.newContext();
+const page = await ctx.newPage();
+await page.goto(`${page$.origin}/`);
+await page.waitForSelector('html[data-ready]');
+const edits = await page.evaluate(async (n) => {
+  const input = document.querySelector('[name="sensor.read_noise_e"]');
+  const figure = document.querySelector('[data-report="noise_e.read"]');
+  const script = [];
+  const layout = [];
+  let changed = 0;
+  for (let i = 0; i < n; i++) {
+    const value = String(1 + (i % 50) / 10);
+    const t0 = performance.now();
+    input.value = value;
+    input.dispatchEvent(new Event('input', { bubbles: true }));
+    const t1 = performance.now();
+    void document.body.offsetHeight; // force style and layout now
+    const t2 = performance.now();
+    if (figure.dataset.value === value) changed++;
+    script.push(t1 - t0);
+    layout.push(t2 - t0);
+    await new Promise((r) => requestAnimationFrame(() => setTimeout(r, 0)));
+  }
+  return { script, layout, changed };
+}, EDITS);
+await ctx.close();
+await browser.close();
+page$.server.close();
+empty$.server.close();
+
+const ms = (x) => `${x.toFixed(1)} ms`;
+const kb = (n) => `${(n / 1024).toFixed(1)} KiB (${n} B)`;
+const result = {
+  sizes,
+  navigation_to_first_result_ms: { served_median: median(served), single_file_median: median(single), runs: served.length },
+  empty_static_page_load_ms: { median: median(empty), runs: empty.length },
+  edit_to_updated_results_ms: {
+    edits: EDITS, results_followed: edits.changed,
+    script_median: median(edits.script), script_p95: pct(edits.script, 0.95),
+    with_layout_median: median(edits.layout), with_layout_p95: pct(edits.layout, 0.95),
+  },
+  frame_budget_ms: 1000 / 60,
+};
+const out = resolve('tests/artifacts');
+mkdirSync(out, { recursive: true });
+writeFileSync(join(out, 'measurements.json'), `${JSON.stringify(result, null, 2)}\n`);
+console.log(`single file   ${kb(sizes.single_file.raw)} raw, ${kb(sizes.single_file.gzip)} gzip (budget 250 KB gzip)`);
+console.log(`wasm          ${kb(sizes.wasm.raw)} raw, ${kb(sizes.wasm.gzip)} gzip`);
+console.log(`first result  served ${ms(median(served))}, single file ${ms(median(single))} (median of ${served.length}); ` +
+  `empty static page load ${ms(median(empty))} (median of ${empty.length})`);
+console.log(`edit→results  median ${ms(median(edits.script))} script, ${ms(median(edits.layout))} with layout ` +
+  `(p95 ${ms(pct(edits.layout, 0.95))}) over ${EDITS} edits, ${edits.changed} followed; one frame is ${ms(1000 / 60)}`);

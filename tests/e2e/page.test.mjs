@@ -1,0 +1,391 @@
+// End-to-end tests of the built page (served from 127.0.0.1) and of the single file (file://),
+// in Debian's Chromium: figures equal the command-line tool's, links round-trip, bad input and
+// bad links give messages, no request leaves the page's own files, no serious accessibility
+// violations. Run by scripts/test after the page is built (node --test tests/e2e/).
+import assert from 'node:assert/strict';
+import { readFileSync, writeFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { createRequire } from 'node:module';
+import { after, before, describe, test } from 'node:test';
+import {
+  ARTIFACTS, DEMO_NAMES, cli, cliReport, compareWithReport, demoJson, demoText, launch, linkFor,
+  openPage, scenarioFromUrl, settledUrl, shownValues, singleFileUrl, startServer,
+} from './helpers.mjs';
+
+const axeSource = readFileSync(createRequire(import.meta.url).resolve('axe-core/axe.min.js'), 'utf8');
+
+let browser;
+let server;
+before(async () => {
+  cli(); // build the reference tool before any timing-sensitive step
+  browser = await launch();
+  server = await startServer();
+});
+after(async () => {
+  await browser?.close();
+  server?.server.close();
+});
+
+const TARGETS = [
+  { slug: 'served', name: 'the served page', url: () => `${server.origin}/` },
+  { slug: 'file', name: 'the single file from file://', url: () => singleFileUrl() },
+];
+
+/** Every request stayed within the page's own files (for the single file: the file only). */
+function assertOwnRequests(target, requests, errors) {
+  assert.deepEqual(errors, [], 'no page errors or console errors');
+  if (target.slug === 'file') {
+    const file = singleFileUrl();
+    const others = requests.filter((u) => u.split('#')[0] !== file);
+    assert.deepEqual(others, [], 'the single file requests nothing but itself');
+  } else {
+    const others = requests.filter((u) => !u.startsWith(`${server.origin}/`) && !u.startsWith(`blob:${server.origin}/`));
+    assert.deepEqual(others, [], 'the page requests only its own files');
+  }
+}
+
+/** The text of every scenario control, by name (plus the light kind); `shownOnly` leaves out
+ * the fields of the light kinds not chosen (which a loaded scenario does not fill). */
+const formState = (page, shownOnly = false) => page.$$eval('#scenario-form input, #scenario-form select',
+  (els, only) => Object.fromEntries(els.filter((e) => !only || e.offsetParent !== null).map((e) => [e.name || e.id, e.value])), shownOnly);
+
+async function axeSeriousViolations(page) {
+  await page.evaluate(axeSource);
+  const result = await page.evaluate(() => window.axe.run(document, { resultTypes: ['violations'] }));
+  return result.violations
+    .filter((v) => v.impact === 'serious' || v.impact === 'critical')
+    .map((v) => `${v.id} (${v.impact}): ${v.nodes.map((n) => n.target.join(' ')).join(', ')}`);
+}
+
+async function loadDemo(page, name) {
+  await page.click(`button[data-demo="${name}"]`);
+  await page.waitForFunction((t) => document.querySelector('[name="title"]').value === t, demoJson(name).title);
+}
+
+for (const target of TARGETS) {
+  describe(target.name, () => {
+    test('each demo loads with one action and shows the tool’s figures and warnings', async () => {
+      const { ctx, page, requests, errors } = await openPage(browser, target.url());
+      for (const name of DEMO_NAMES) {
+        await loadDemo(page, name);
+        const report = cliReport(demoText(name));
+        assert.deepEqual(compareWithReport(await shownValues(page), report), [], name);
+        // Each warning of the tool is shown as its sentence, in a group holding a figure it concerns.
+        const shown = await page.$$eval('[data-warning]', (els) => els.map((e) => ({
+          code: e.dataset.warning,
+          text: e.textContent,
+          figures: [...e.closest('[data-warn-host], #results').querySelectorAll('[data-report]')].map((f) => f.dataset.report),
+        })));
+        for (const w of report.warnings) {
+          const places = shown.filter((s) => s.code === w.code && s.text === w.message);
+          assert.ok(places.length > 0, `${name}: warning ${w.code} shown`);
+          const onPage = w.concerns.filter((c) => places.some((p) => p.figures.includes(c)));
+          assert.ok(onPage.length > 0 || w.concerns.length === 0, `${name}: ${w.code} beside ${w.concerns}`);
+        }
+        assert.equal(shown.filter((s) => !report.warnings.some((w) => w.code === s.code)).length, 0,
+          `${name}: no warning the tool does not give`);
+        if (target.slug === 'served') {
+          await page.screenshot({ path: join(ARTIFACTS, `demo-${name}.png`), fullPage: true });
+        }
+      }
+      assertOwnRequests(target, requests, errors);
+      await ctx.close();
+    });
+
+    test('fields filled by name give the tool’s figures for the same scenario; the link round-trips', async () => {
+      const { ctx, page, requests, errors } = await openPage(browser, target.url());
+      await loadDemo(page, 'global-shutter-machine-vision');
+      await page.fill('[name="title"]', 'Edited by the page test');
+      await page.fill('[name="sensor.read_noise_e"]', '3.1');
+      await page.selectOption('[name="sensor.readout"]', 'single');
+      await page.fill('[name="sensor.sense_node_capacitance_ff"]', '');
+      await page.selectOption('#light-kind', 'photons_per_pixel');
+      await page.fill('[name="light.photons_per_pixel"]', '1500');
+      await page.fill('[name="exposure.binning"]', '2');
+      await page.selectOption('[name="exposure.binning_mode"]', 'charge');
+      await page.fill('[name="exposure.frames_averaged"]', '3');
+      await page.fill('[name="temperature_c"]', '55');
+      await page.fill('[name="snr_threshold"]', '10');
+
+      const expected = demoJson('global-shutter-machine-vision');
+      expected.title = 'Edited by the page test';
+      expected.sensor.read_noise_e = 3.1;
+      expected.sensor.readout = 'single';
+      delete expected.sensor.sense_node_capacitance_ff;
+      expected.light = { photons_per_pixel: 1500 };
+      Object.assign(expected.exposure, { binning: 2, binning_mode: 'charge', frames_averaged: 3 });
+      expected.temperature_c = 55;
+      expected.snr_threshold = 10;
+
+      const shown = await shownValues(page);
+      const report = cliReport(expected);
+      assert.deepEqual(compareWithReport(shown, report), []);
+      // The capacitance left empty is shown as derived from the conversion gain.
+      assert.ok(await page.isVisible('#d-cap'), 'derived capacitance visible');
+      assert.equal(Number(shown.sense_node_capacitance_ff), report.sense_node_capacitance_ff);
+
+      // The address carries exactly this scenario, and opening it shows the same.
+      const url = await settledUrl(page);
+      assert.deepEqual(scenarioFromUrl(url), expected);
+      const before = await formState(page, true);
+      const second = await openPage(browser, url);
+      assert.deepEqual(await shownValues(second.page), shown);
+      assert.deepEqual(await formState(second.page, true), before);
+      assertOwnRequests(target, second.requests, second.errors);
+      await second.ctx.close();
+      assertOwnRequests(target, requests, errors);
+      await ctx.close();
+    });
+
+    test('malformed, newer-version and unknown-key links are refused with a message; the scenario stays', async () => {
+      const demo = demoJson('cooled-scientific');
+      const { ctx, page, requests, errors } = await openPage(browser, target.url() + linkFor(demo));
+      const values = await shownValues(page);
+      const fields = await formState(page);
+      assert.deepEqual(compareWithReport(values, cliReport(demo)), []);
+      const cases = [
+        ['#scenario=%%%', /not base64url/],
+        ['#scenario=__4', /UTF-8/],
+        [linkFor('{"version":1,'), /scenario: not valid JSON/],
+        [linkFor([1, 2]), /must be a JSON object/],
+        [linkFor({ ...demo, version: 2 }), /version: this scenario is format version 2, newer than this calculator reads/],
+        [linkFor({ ...demo, sensor: { ...demo.sensor, colour_depth: 8 } }), /sensor\.colour_depth: unknown key/],
+        [linkFor({ ...demo, sensor: { ...demo.sensor, full_well_e: -5 } }), /sensor\.full_well_e: must be > 0, got -5/],
+      ];
+      for (const [hash, message] of cases) {
+        await page.evaluate((h) => { location.hash = h; }, hash);
+        await page.waitForSelector('#load-problems:not([hidden])');
+        const text = await page.textContent('#load-problems');
+        assert.match(text, message, hash);
+        assert.match(text, /scenario on screen is unchanged/);
+        assert.deepEqual(await shownValues(page), values, `${hash}: figures unchanged`);
+        assert.deepEqual(await formState(page), fields, `${hash}: fields unchanged`);
+        // The address is put back to the scenario on screen.
+        assert.deepEqual(scenarioFromUrl(await settledUrl(page)), demo);
+        await page.evaluate(() => document.getElementById('load-problems').setAttribute('hidden', ''));
+      }
+      // A bad link on arrival: a message, and the page still shows a valid scenario.
+      const fresh = await openPage(browser, `${target.url()}#scenario=%%%`);
+      assert.match(await fresh.page.textContent('#load-problems'), /not base64url/);
+      const first = demoJson(DEMO_NAMES[0]);
+      assert.deepEqual(compareWithReport(await shownValues(fresh.page), cliReport(first)), []);
+      assertOwnRequests(target, fresh.requests, fresh.errors);
+      await fresh.ctx.close();
+      assertOwnRequests(target, requests, errors);
+      await ctx.close();
+    });
+
+    test('an invalid field is marked with the engine’s message; results stay, marked stale; typing is kept', async () => {
+      const { ctx, page, requests, errors } = await openPage(browser, target.url());
+      await loadDemo(page, 'three-transistor-no-cds');
+      const before = await shownValues(page);
+      const problemOf = (name) => page.$eval(`[name="${name}"]`, (e) => e.closest('.field').querySelector('.problem').textContent);
+      const invalid = (name) => page.getAttribute(`[name="${name}"]`, 'aria-invalid');
+
+      await page.fill('[name="sensor.full_well_e"]', '-5');
+      assert.equal(await invalid('sensor.full_well_e'), 'true');
+      assert.equal(await problemOf('sensor.full_well_e'), 'must be > 0, got -5');
+      assert.ok(await page.$eval('#results', (e) => e.classList.contains('stale')));
+      assert.ok(await page.isVisible('#stale-note'));
+      assert.deepEqual(await shownValues(page), before, 'last valid figures stay');
+
+      await page.fill('[name="sensor.adc_bits"]', '12.5');
+      await page.fill('[name="sensor.quantum_efficiency"]', 'abc');
+      await page.fill('[name="sensor.read_noise_e"]', '');
+      assert.match(await problemOf('sensor.adc_bits'), /must be a whole number/);
+      assert.match(await problemOf('sensor.quantum_efficiency'), /must be a number, got "abc"/);
+      assert.match(await problemOf('sensor.read_noise_e'), /required/);
+      assert.equal(await invalid('sensor.full_well_e'), 'true', 'earlier problem still marked');
+      assert.equal(await page.inputValue('[name="sensor.quantum_efficiency"]'), 'abc', 'typed text kept');
+      assert.equal(await page.inputValue('[name="sensor.full_well_e"]'), '-5', 'typed text kept');
+      assert.deepEqual(await shownValues(page), before);
+      // The description of an invalid field includes its message.
+      const described = await page.$eval('[name="sensor.full_well_e"]', (e) =>
+        e.getAttribute('aria-describedby').split(' ').map((id) => document.getElementById(id)?.textContent ?? '').join(' '));
+      assert.match(described, /must be > 0/);
+      assert.deepEqual(await axeSeriousViolations(page), [], 'accessible while invalid');
+
+      // A reset readout without a capacitance or conversion gain: the rule is named at the field.
+      await page.fill('[name="sensor.sense_node_capacitance_ff"]', '');
+      assert.match(await problemOf('sensor.sense_node_capacitance_ff'), /required when sensor\.readout is "dds"/);
+
+      // Fixing every field brings live, matching results back.
+      await page.fill('[name="sensor.full_well_e"]', '20000');
+      await page.fill('[name="sensor.adc_bits"]', '12');
+      await page.fill('[name="sensor.quantum_efficiency"]', '0.45');
+      await page.fill('[name="sensor.read_noise_e"]', '6.0');
+      await page.fill('[name="sensor.sense_node_capacitance_ff"]', '4.5');
+      assert.equal(await page.$$eval('[aria-invalid]', (els) => els.length), 0);
+      assert.ok(!(await page.$eval('#results', (e) => e.classList.contains('stale'))));
+      const fixed = demoJson('three-transistor-no-cds');
+      fixed.sensor.full_well_e = 20000;
+      assert.deepEqual(compareWithReport(await shownValues(page), cliReport(fixed)), []);
+      assertOwnRequests(target, requests, errors);
+      await ctx.close();
+    });
+
+    test('nonsense in every field never breaks the page', async () => {
+      const { ctx, page, requests, errors } = await openPage(browser, target.url());
+      const names = await page.$$eval('#scenario-form input[name]', (els) => els.filter((e) => e.offsetParent !== null).map((e) => e.name));
+      for (const junk of ['1e999', '-', '💥', '0x10', '1,5', 'NaN', '9'.repeat(400), '-0', '1e-400']) {
+        for (const name of names) await page.fill(`[name="${name}"]`, junk);
+        assert.ok(await page.isVisible('[data-report="snr.temporal"]'));
+      }
+      assert.ok(await page.$eval('#results', (e) => e.classList.contains('stale')));
+      await loadDemo(page, 'small-pixel-rolling-shutter');
+      assert.deepEqual(compareWithReport(await shownValues(page), cliReport(demoText('small-pixel-rolling-shutter'))), []);
+      assertOwnRequests(target, requests, errors);
+      await ctx.close();
+    });
+
+    test('no serious or critical accessibility violations (axe-core), for each demo', async () => {
+      const { ctx, page, requests, errors } = await openPage(browser, target.url());
+      for (const name of DEMO_NAMES) {
+        await loadDemo(page, name);
+        assert.deepEqual(await axeSeriousViolations(page), [], name);
+      }
+      assertOwnRequests(target, requests, errors);
+      await ctx.close();
+    });
+  });
+}
+
+describe('the served page: keeping, sharing, keyboard, print, narrow column', () => {
+  test('save as file, then open it again; the file is what the command-line tool reads', async () => {
+    const { ctx, page, requests, errors } = await openPage(browser, `${server.origin}/`);
+    await loadDemo(page, 'cooled-scientific');
+    await page.fill('[name="exposure.time_s"]', '0.75');
+    const shown = await shownValues(page);
+    const [download] = await Promise.all([page.waitForEvent('download'), page.click('#save-file')]);
+    assert.match(download.suggestedFilename(), /^cooled-large-pixel-scientific-class.*\.json$/);
+    const text = readFileSync(await download.path(), 'utf8');
+    assert.deepEqual(JSON.parse(text), scenarioFromUrl(await settledUrl(page)));
+    assert.deepEqual(compareWithReport(shown, cliReport(text)), []);
+
+    await loadDemo(page, 'small-pixel-rolling-shutter');
+    await page.setInputFiles('#open-file', { name: 'saved.json', mimeType: 'application/json', buffer: Buffer.from(text) });
+    await page.waitForFunction(() => document.getElementById('status').textContent.includes('saved.json'));
+    assert.deepEqual(await shownValues(page), shown);
+
+    // A malformed file and a newer one: messages, nothing changes.
+    const fields = await formState(page);
+    for (const [name, body, message] of [
+      ['bad.json', '{"version": 1, "sensor": ', /not valid JSON/],
+      ['newer.json', JSON.stringify({ ...JSON.parse(text), version: 3 }), /newer than this calculator reads/],
+      ['typo.json', JSON.stringify({ ...JSON.parse(text), temprature_c: 20 }), /temprature_c: unknown key \(did you mean "temperature_c"\?\)/],
+    ]) {
+      await page.setInputFiles('#open-file', { name, mimeType: 'application/json', buffer: Buffer.from(body) });
+      await page.waitForSelector('#load-problems:not([hidden])');
+      const problems = await page.textContent('#load-problems');
+      assert.match(problems, message, name);
+      assert.ok(problems.includes(`the file “${name}”`), name);
+      assert.deepEqual(await formState(page), fields, name);
+      assert.deepEqual(await shownValues(page), shown, name);
+    }
+    assertOwnRequests(TARGETS[0], requests, errors);
+    await ctx.close();
+  });
+
+  test('the last scenario survives a reload, and scenarios kept by name come back', async () => {
+    const { ctx, page, requests, errors } = await openPage(browser, `${server.origin}/`);
+    await loadDemo(page, 'small-pixel-rolling-shutter');
+    await page.fill('[name="sensor.read_noise_e"]', '0.42');
+    await settledUrl(page);
+    const shown = await shownValues(page);
+    await page.goto(`${server.origin}/`); // no link: the browser's store decides
+    await page.waitForSelector('html[data-ready]');
+    assert.equal(await page.inputValue('[name="sensor.read_noise_e"]'), '0.42');
+    assert.deepEqual(await shownValues(page), shown);
+
+    await page.fill('#saved-name', 'bench A');
+    await page.click('#keep-scenario');
+    assert.match(await page.textContent('#status'), /Kept as “bench A”/);
+    await loadDemo(page, 'cooled-scientific');
+    await page.selectOption('#saved-list', 'bench A');
+    await page.click('#load-saved');
+    assert.deepEqual(await shownValues(page), shown);
+    await page.click('#forget-saved');
+    assert.deepEqual(await page.$$eval('#saved-list option', (o) => o.map((x) => x.value)), ['']);
+    assertOwnRequests(TARGETS[0], requests, errors);
+    await ctx.close();
+  });
+
+  test('copy link puts the address of the scenario on the clipboard', async () => {
+    const context = await browser.newContext();
+    await context.grantPermissions(['clipboard-read', 'clipboard-write'], { origin: server.origin });
+    const { page, requests, errors } = await openPage(browser, `${server.origin}/`, { context });
+    await page.fill('[name="exposure.time_s"]', '0.004');
+    await page.click('#copy-link');
+    await page.waitForFunction(() => document.getElementById('status').textContent === 'Link copied.');
+    const copied = await page.evaluate(() => navigator.clipboard.readText());
+    assert.equal(copied, await settledUrl(page));
+    assert.equal(scenarioFromUrl(copied).exposure.time_s, 0.004);
+    // With an invalid field there is no valid scenario to share: say so.
+    await page.fill('[name="exposure.time_s"]', '0');
+    await page.click('#copy-link');
+    assert.match(await page.textContent('#status'), /fix them first/);
+    assertOwnRequests(TARGETS[0], requests, errors);
+    await context.close();
+  });
+
+  test('works by keyboard alone: load a demo, edit a field', async () => {
+    const { ctx, page, requests, errors } = await openPage(browser, `${server.origin}/`);
+    const want = demoJson('cooled-scientific');
+    let found = false;
+    for (let i = 0; i < 40 && !found; i++) {
+      await page.keyboard.press('Tab');
+      found = await page.evaluate(() => document.activeElement?.dataset?.demo === 'cooled-scientific');
+    }
+    assert.ok(found, 'the demo button is reachable with Tab');
+    await page.keyboard.press('Enter');
+    assert.equal(await page.inputValue('[name="title"]'), want.title);
+    found = false;
+    for (let i = 0; i < 60 && !found; i++) {
+      await page.keyboard.press('Tab');
+      found = await page.evaluate(() => document.activeElement?.name === 'sensor.read_noise_e');
+    }
+    assert.ok(found, 'the read noise field is reachable with Tab');
+    // Its explanation shows while it has focus.
+    assert.ok(await page.isVisible('#h-read'));
+    await page.keyboard.press('Control+A');
+    await page.keyboard.type('2.5');
+    want.sensor.read_noise_e = 2.5;
+    assert.deepEqual(compareWithReport(await shownValues(page), cliReport(want)), []);
+    assertOwnRequests(TARGETS[0], requests, errors);
+    await ctx.close();
+  });
+
+  test('prints as one page with inputs, results, warnings, version and date', async () => {
+    const { ctx, page, requests, errors } = await openPage(browser, `${server.origin}/`);
+    for (const name of DEMO_NAMES) {
+      await loadDemo(page, name);
+      await page.emulateMedia({ media: 'print' });
+      assert.ok(!(await page.isVisible('.tools')), 'tools hidden in print');
+      assert.match(await page.textContent('.stamp'), /noise-budget \d+\.\d+\.\d+ · printed \d{4}-\d{2}-\d{2}/);
+      assert.ok(await page.isVisible('[name="sensor.full_well_e"]'), 'inputs printed');
+      const warnings = await page.$$('[data-warning]');
+      for (const w of warnings) assert.ok(await w.isVisible(), 'warnings printed');
+      await page.screenshot({ path: join(ARTIFACTS, `print-${name}.png`), fullPage: true });
+      const pdf = await page.pdf({ format: 'A4', printBackground: true });
+      writeFileSync(join(ARTIFACTS, `print-${name}.pdf`), pdf);
+      const pages = (pdf.toString('latin1').match(/\/Type\s*\/Page(?!s)/g) ?? []).length;
+      assert.equal(pages, 1, `${name} prints on ${pages} pages`);
+      await page.emulateMedia({ media: 'screen' });
+    }
+    assertOwnRequests(TARGETS[0], requests, errors);
+    await ctx.close();
+  });
+
+  test('readable in a narrow wiki column (400 px): no sideways scrolling', async () => {
+    const { ctx, page, requests, errors } = await openPage(browser, `${server.origin}/`, { viewport: { width: 400, height: 900 } });
+    for (const name of ['three-transistor-no-cds', 'cooled-scientific']) {
+      await loadDemo(page, name);
+      const overflow = await page.evaluate(() => document.documentElement.scrollWidth - document.documentElement.clientWidth);
+      assert.ok(overflow <= 0, `${name}: page is ${overflow}px wider than the column`);
+      await page.screenshot({ path: join(ARTIFACTS, `narrow-${name}.png`), fullPage: true });
+    }
+    assert.deepEqual(await axeSeriousViolations(page), []);
+    assertOwnRequests(TARGETS[0], requests, errors);
+    await ctx.close();
+  });
+});
