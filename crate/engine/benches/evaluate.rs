@@ -12,6 +12,7 @@
 use criterion::{black_box, criterion_group, criterion_main, Criterion};
 
 const DEMO: &str = include_str!("../../../www/demos/global-shutter-machine-vision.json");
+const SCENE: &str = include_str!("../../../www/demos/conveyor-lux-and-lens.json");
 
 fn bench(c: &mut Criterion) {
     let scenario = match engine::validate::scenario_from_json(DEMO) {
@@ -33,6 +34,33 @@ fn bench(c: &mut Criterion) {
     g.bench_function("parse + validate + evaluate + serialize report", |b| {
         b.iter(|| engine::evaluate_json(black_box(DEMO)).map(|r| serde_json::to_string(&r)))
     });
+    let scene: serde_json::Value = serde_json::from_str(SCENE).unwrap_or_default();
+    let scene_checked = match engine::validate::scenario_from_value(&scene) {
+        Ok(s) => s,
+        Err(e) => panic!("the scene demo is invalid:\n{e}"),
+    };
+    g.bench_function("evaluate a spectral scene (lux through a lens)", |b| {
+        b.iter(|| engine::evaluate(black_box(&scene_checked)))
+    });
+    g.finish();
+
+    let mut g = c.benchmark_group("sweep");
+    g.sample_size(20);
+    for (key, from, to) in [
+        ("exposure.time_s", 1e-4, 1.0),
+        ("light.scene_illuminance_lux", 1.0, 1e5),
+    ] {
+        let request = engine::sweep::SweepRequest {
+            key: key.into(),
+            from,
+            to,
+            points: 1000,
+            spacing: engine::sweep::Spacing::Log,
+        };
+        g.bench_function(format!("1000 points of {key}, scene demo"), |b| {
+            b.iter(|| engine::sweep::sweep(black_box(&scene), &request))
+        });
+    }
     g.finish();
 }
 

@@ -175,6 +175,74 @@ pub struct ResolvedLight {
     pub summary: LightSummary,
     /// For each unit the user gave the light in: (report key, photons µm⁻² s⁻¹ per unit).
     pub units: Vec<(&'static str, f64)>,
+    /// Share of the spectrum's photons (300–1100 nm) outside the response band, where it can
+    /// be computed (see `model`'s `light_outside_band` warning).
+    pub outside_band_share: Option<f64>,
+    /// What the figures are made of (for [`ResolvedLight::at_amount`]).
+    basis: Basis,
+}
+
+impl ResolvedLight {
+    /// The same light at another amount, in the unit its kind is given in (lux, W/m², scene
+    /// lux, photons, …). The light is linear in its amount, so a sweep of the amount need not
+    /// redo the spectral integrals; the arithmetic is the same as [`resolve`]'s, so the result
+    /// is identical to resolving the changed light.
+    #[must_use]
+    pub fn at_amount(&self, amount: f64) -> ResolvedLight {
+        let mut r = self.clone();
+        match self.basis {
+            Basis::Flux => {
+                r.photon_flux_per_um2_s = Some(amount);
+                r.summary.photon_flux_per_um2_s = Some(amount);
+            }
+            Basis::PerPixel => r.photons_per_pixel = Some(amount),
+            Basis::Monochromatic { photons_per_watt } => {
+                let flux = amount * photons_per_watt;
+                r.photon_flux_per_um2_s = Some(flux);
+                r.summary.photon_flux_per_um2_s = Some(flux);
+                r.summary.sensor_irradiance_w_per_m2 = Some(amount);
+            }
+            Basis::Spectral {
+                photons,
+                lux,
+                watts,
+                unit_per_scale,
+                sensor_per_user_unit,
+            } => {
+                let sensor_amount = match sensor_per_user_unit {
+                    Some(per) => amount * per,
+                    None => amount,
+                };
+                let k = sensor_amount / unit_per_scale;
+                r.photon_flux_per_um2_s = Some(k * photons);
+                r.summary.photon_flux_per_um2_s = Some(k * photons);
+                r.summary.sensor_illuminance_lux = Some(k * lux);
+                r.summary.sensor_irradiance_w_per_m2 = Some(k * watts);
+            }
+        }
+        r
+    }
+}
+
+/// What a resolved light's figures are made of, so that [`ResolvedLight::at_amount`] can
+/// redo the last, linear step alone.
+#[derive(Debug, Clone, Copy, PartialEq)]
+enum Basis {
+    /// Photon flux given directly.
+    Flux,
+    /// Photons per pixel given directly.
+    PerPixel,
+    /// Monochromatic irradiance: photons µm⁻² s⁻¹ per W/m².
+    Monochromatic { photons_per_watt: f64 },
+    /// A spectrum's integrals per unit of its scale, the integral the amount is stated in, and
+    /// for scene light the sensor-plane value per scene unit.
+    Spectral {
+        photons: f64,
+        lux: f64,
+        watts: f64,
+        unit_per_scale: f64,
+        sensor_per_user_unit: Option<f64>,
+    },
 }
 
 /// What the report says about the light (the `light` section).
@@ -224,6 +292,8 @@ pub fn resolve(light: &Light, response: &Response<'_>) -> ResolvedLight {
                 ..LightSummary::default()
             },
             units: vec![("photon_flux_per_um2_s", 1.0)],
+            outside_band_share: None,
+            basis: Basis::Flux,
         },
         Light::PhotonsPerPixel { photons_per_pixel } => ResolvedLight {
             photon_flux_per_um2_s: None,
@@ -234,6 +304,8 @@ pub fn resolve(light: &Light, response: &Response<'_>) -> ResolvedLight {
                 ..LightSummary::default()
             },
             units: vec![],
+            outside_band_share: None,
+            basis: Basis::PerPixel,
         },
         Light::Irradiance {
             irradiance_w_per_m2,
@@ -258,36 +330,20 @@ pub fn resolve(light: &Light, response: &Response<'_>) -> ResolvedLight {
                     ..LightSummary::default()
                 },
                 units: vec![("irradiance_w_per_m2", per_w)],
+                outside_band_share: None,
+                basis: Basis::Monochromatic {
+                    photons_per_watt: per_w,
+                },
             }
         }
         Light::SpectralIrradiance {
             irradiance_w_per_m2,
             spectrum,
-        } => {
-            let watts_per_unit = spectrum.integrate(response.band_nm, |_| 1.0);
-            spectral(
-                spectrum,
-                response,
-                *irradiance_w_per_m2 / watts_per_unit,
-                None,
-                "irradiance_w_per_m2",
-                watts_per_unit,
-            )
-        }
+        } => spectral(spectrum, response, *irradiance_w_per_m2, None, false, None),
         Light::Illuminance {
             illuminance_lux,
             spectrum,
-        } => {
-            let lux_per_unit = spectrum::lux_per_unit(spectrum);
-            spectral(
-                spectrum,
-                response,
-                *illuminance_lux / lux_per_unit,
-                None,
-                "illuminance_lux",
-                lux_per_unit,
-            )
-        }
+        } => spectral(spectrum, response, *illuminance_lux, None, true, None),
         Light::Scene {
             quantity,
             spectrum,
@@ -322,22 +378,13 @@ pub fn resolve(light: &Light, response: &Response<'_>) -> ResolvedLight {
                     "scene_radiance_w_per_m2_sr",
                 ),
             };
-            let sensor_value = scene_value * per_scene_unit;
-            let (sensor_key, per_unit) = if photometric {
-                ("illuminance_lux", spectrum::lux_per_unit(spectrum))
-            } else {
-                (
-                    "irradiance_w_per_m2",
-                    spectrum.integrate(response.band_nm, |_| 1.0),
-                )
-            };
             let mut r = spectral(
                 spectrum,
                 response,
-                sensor_value / per_unit,
+                scene_value,
+                Some(per_scene_unit),
+                photometric,
                 Some(per_luminance),
-                sensor_key,
-                per_unit,
             );
             // Photons per scene unit = per sensor unit × sensor units per scene unit.
             let per_sensor_unit = r.units.first().map_or(0.0, |u| u.1);
@@ -347,21 +394,54 @@ pub fn resolve(light: &Light, response: &Response<'_>) -> ResolvedLight {
     }
 }
 
-/// A spectral light of scale `k` (the spectrum times k is W m⁻² nm⁻¹ at the sensor).
+/// The four integrals of a spectrum (per unit of its scale) that a spectral light needs.
+struct Integrals {
+    /// Photons µm⁻² s⁻¹ over the band.
+    photons: f64,
+    /// Photo-electrons µm⁻² s⁻¹ over the band.
+    electrons: f64,
+    /// Lux (over V(λ)'s table).
+    lux: f64,
+    /// W/m² over the band.
+    watts: f64,
+}
+
+fn integrals(spectrum: &Spectrum, response: &Response<'_>) -> Integrals {
+    let band = response.band_nm;
+    Integrals {
+        photons: spectrum::photons_per_unit(spectrum, band),
+        electrons: spectrum::electrons_per_unit(spectrum, band, |nm| response.qe_at(nm)),
+        lux: spectrum::lux_per_unit(spectrum),
+        watts: spectrum.integrate(band, |_| 1.0),
+    }
+}
+
+/// A spectral light given as `amount` of a photometric (lux) or radiometric (W/m² in the band)
+/// quantity at the sensor.
 fn spectral(
     spectrum: &Spectrum,
     response: &Response<'_>,
-    k: f64,
+    user_amount: f64,
+    sensor_per_user_unit: Option<f64>,
+    photometric: bool,
     sensor_per_scene_luminance: Option<f64>,
-    unit_key: &'static str,
-    unit_per_scale: f64,
 ) -> ResolvedLight {
     let band = response.band_nm;
-    let photons_per_scale = spectrum::photons_per_unit(spectrum, band);
-    let electrons_per_scale = spectrum::electrons_per_unit(spectrum, band, |nm| response.qe_at(nm));
-    let flux = k * photons_per_scale;
-    let qe = if photons_per_scale > 0.0 {
-        electrons_per_scale / photons_per_scale
+    let i = integrals(spectrum, response);
+    let amount = match sensor_per_user_unit {
+        Some(per) => user_amount * per,
+        None => user_amount,
+    };
+    let (unit_key, unit_per_scale) = if photometric {
+        ("illuminance_lux", i.lux)
+    } else {
+        ("irradiance_w_per_m2", i.watts)
+    };
+    // Scale of the spectrum that gives `amount` (validation made unit_per_scale > 0).
+    let k = amount / unit_per_scale;
+    let flux = k * i.photons;
+    let qe = if i.photons > 0.0 {
+        i.electrons / i.photons
     } else {
         response.quantum_efficiency.unwrap_or(0.0)
     };
@@ -375,11 +455,39 @@ fn spectral(
             band_nm: Some([band.0, band.1]),
             step_nm: Some(spectrum::STEP_NM),
             spectrum: Some(spectrum.kind()),
-            sensor_illuminance_lux: Some(k * spectrum::lux_per_unit(spectrum)),
-            sensor_irradiance_w_per_m2: Some(k * spectrum.integrate(band, |_| 1.0)),
+            sensor_illuminance_lux: Some(k * i.lux),
+            sensor_irradiance_w_per_m2: Some(k * i.watts),
             sensor_per_scene_luminance,
             camera_equation: sensor_per_scene_luminance.map(|_| CAMERA_EQUATION),
         },
-        units: vec![(unit_key, photons_per_scale / unit_per_scale)],
+        units: vec![(unit_key, i.photons / unit_per_scale)],
+        outside_band_share: share_outside_band(spectrum, band),
+        basis: Basis::Spectral {
+            photons: i.photons,
+            lux: i.lux,
+            watts: i.watts,
+            unit_per_scale,
+            sensor_per_user_unit,
+        },
     }
+}
+
+/// The wavelengths a silicon sensor can respond to at all, nm (common practice, no source).
+const SILICON_RANGE_NM: (f64, f64) = (300.0, 1100.0);
+
+/// Share of the spectrum's photons (within the silicon range and where the spectrum is
+/// defined) that falls outside `band`; `None` for spectra of unbounded extent or a line.
+fn share_outside_band(spectrum: &Spectrum, band: (f64, f64)) -> Option<f64> {
+    let (lo, hi) = match spectrum {
+        Spectrum::Monochromatic { .. } | Spectrum::EqualEnergy => return None,
+        Spectrum::Gaussian { centre_nm, fwhm_nm } => {
+            (centre_nm - 3.0 * fwhm_nm, centre_nm + 3.0 * fwhm_nm)
+        }
+        Spectrum::Table { points } => (points.first()?.0, points.last()?.0),
+        other => other.defined_range_nm().unwrap_or(SILICON_RANGE_NM),
+    };
+    let (lo, hi) = (lo.max(SILICON_RANGE_NM.0), hi.min(SILICON_RANGE_NM.1));
+    let all = spectrum::photons_per_unit(spectrum, (lo, hi));
+    let inside = spectrum::photons_per_unit(spectrum, (band.0.max(lo), band.1.min(hi)));
+    (all > 0.0).then(|| ((all - inside) / all).max(0.0))
 }

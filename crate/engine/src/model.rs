@@ -12,7 +12,7 @@ use crate::report::{
 use crate::roots::positive_root;
 use std::collections::BTreeMap;
 
-use crate::light::{self, Response};
+use crate::light::{self, ResolvedLight, Response};
 use crate::scenario::{BinningMode, Scenario};
 use crate::spectrum::Spectrum;
 use crate::{dark, quantization, sense_node};
@@ -41,8 +41,53 @@ pub const EMVA_MIN_DARK_VARIANCE_DN2: f64 = 0.24;
 /// assert!((report.snr.temporal - 24.34).abs() < 0.005);
 /// ```
 #[must_use]
-#[allow(non_snake_case)] // symbols as in SCENARIO.md
 pub fn evaluate(sc: &Scenario) -> Report {
+    evaluate_with(sc, &resolve_lights(sc))
+}
+
+/// The scenario's light and background light resolved to photons at the sensor: the spectral
+/// integrals, which do not depend on the exposure, the pixel or the readout. A sweep that
+/// varies none of the light's keys resolves once and reuses them.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Lights {
+    light: ResolvedLight,
+    background: Option<ResolvedLight>,
+}
+
+impl Lights {
+    /// The same lights with the (signal) light at another amount (see
+    /// [`ResolvedLight::at_amount`]).
+    #[must_use]
+    pub fn with_light_amount(&self, amount: f64) -> Lights {
+        Lights {
+            light: self.light.at_amount(amount),
+            background: self.background.clone(),
+        }
+    }
+}
+
+/// Resolve the scenario's lights (see [`Lights`]).
+#[must_use]
+pub fn resolve_lights(sc: &Scenario) -> Lights {
+    let sensor = &sc.sensor;
+    let response = Response {
+        quantum_efficiency: sensor.quantum_efficiency,
+        curve: sensor.quantum_efficiency_curve.as_ref(),
+        band_nm: sensor.response_band_nm,
+    };
+    Lights {
+        light: light::resolve(&sc.light, &response),
+        background: sc
+            .background_light
+            .as_ref()
+            .map(|l| light::resolve(l, &response)),
+    }
+}
+
+/// [`evaluate`] with the lights already resolved for this scenario.
+#[must_use]
+#[allow(non_snake_case)] // symbols as in SCENARIO.md
+pub fn evaluate_with(sc: &Scenario, lights: &Lights) -> Report {
     let sensor = &sc.sensor;
     let exposure = &sc.exposure;
     let t = exposure.time_s;
@@ -61,12 +106,7 @@ pub fn evaluate(sc: &Scenario) -> Report {
 
     // Light: photon flux Φ (photons µm⁻² s⁻¹) where the light kind has one, μp per pixel, and
     // the photon-weighted QE η (the single QE for light without a spectrum).
-    let response = Response {
-        quantum_efficiency: sensor.quantum_efficiency,
-        curve: sensor.quantum_efficiency_curve.as_ref(),
-        band_nm: sensor.response_band_nm,
-    };
-    let light = light::resolve(&sc.light, &response);
+    let light = &lights.light;
     let flux = light.photon_flux_per_um2_s;
     let eta = light.effective_qe;
     let mu_p = light
@@ -75,11 +115,8 @@ pub fn evaluate(sc: &Scenario) -> Report {
 
     // Background light: photons that are not signal. Its electrons per pixel per second (a
     // rate, for light given as flux) and per frame (for light given per pixel).
-    let background = sc
-        .background_light
-        .as_ref()
-        .map(|l| light::resolve(l, &response));
-    let (bg_rate, bg_per_frame) = background.as_ref().map_or((0.0, 0.0), |l| {
+    let background = lights.background.as_ref();
+    let (bg_rate, bg_per_frame) = background.map_or((0.0, 0.0), |l| {
         let rate = l
             .photon_flux_per_um2_s
             .map_or(0.0, |f| l.effective_qe * f * pitch2);
@@ -377,13 +414,16 @@ pub fn evaluate(sc: &Scenario) -> Report {
             ),
         );
     }
-    let lights = std::iter::once(("light", &sc.light))
-        .chain(sc.background_light.iter().map(|b| ("background_light", b)));
-    for (which, l) in lights {
+    let all_lights = std::iter::once(("light", &sc.light, Some(light))).chain(
+        sc.background_light
+            .iter()
+            .map(|b| ("background_light", b, background)),
+    );
+    for (which, l, resolved) in all_lights {
         let Some(spectrum) = l.spectrum() else {
             continue;
         };
-        if let Some(outside) = share_outside_band(spectrum, sensor.response_band_nm) {
+        if let Some(outside) = resolved.and_then(|r| r.outside_band_share) {
             if outside > LIGHT_OUTSIDE_BAND_SHARE {
                 warn(
                     w,
@@ -458,26 +498,6 @@ pub fn evaluate(sc: &Scenario) -> Report {
 /// Share of photons outside the response band above which `light_outside_band` is raised:
 /// 5 %, an everyday "noticeable" (common practice, no source).
 pub const LIGHT_OUTSIDE_BAND_SHARE: f64 = 0.05;
-
-/// The wavelengths a silicon sensor can respond to at all, nm (common practice, no source).
-const SILICON_RANGE_NM: (f64, f64) = (300.0, 1100.0);
-
-/// Share of the spectrum's photons (within the silicon range and where the spectrum is
-/// defined) that falls outside `band`; `None` for spectra of unbounded extent or a line.
-fn share_outside_band(spectrum: &Spectrum, band: (f64, f64)) -> Option<f64> {
-    let (lo, hi) = match spectrum {
-        Spectrum::Monochromatic { .. } | Spectrum::EqualEnergy => return None,
-        Spectrum::Gaussian { centre_nm, fwhm_nm } => {
-            (centre_nm - 3.0 * fwhm_nm, centre_nm + 3.0 * fwhm_nm)
-        }
-        Spectrum::Table { points } => (points.first()?.0, points.last()?.0),
-        other => other.defined_range_nm().unwrap_or(SILICON_RANGE_NM),
-    };
-    let (lo, hi) = (lo.max(SILICON_RANGE_NM.0), hi.min(SILICON_RANGE_NM.1));
-    let all = crate::spectrum::photons_per_unit(spectrum, (lo, hi));
-    let inside = crate::spectrum::photons_per_unit(spectrum, (band.0.max(lo), band.1.min(hi)));
-    (all > 0.0).then(|| ((all - inside) / all).max(0.0))
-}
 
 fn warn(list: &mut Vec<Warning>, code: WarningCode, concerns: &[&'static str], message: String) {
     list.push(Warning {

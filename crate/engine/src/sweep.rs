@@ -10,6 +10,7 @@ use serde::Serialize;
 use serde_json::Value;
 
 use crate::evaluate;
+use crate::model::{evaluate_with, resolve_lights};
 use crate::report::Report;
 use crate::scenario::{Light, Scenario};
 use crate::validate::{scenario_from_value, Problem, ScenarioError};
@@ -37,6 +38,12 @@ pub const SWEEPABLE: &[(&str, &str, bool)] = &[
     ("light.irradiance_w_per_m2", "W/m²", false),
     ("light.wavelength_nm", "nm", false),
     ("light.photons_per_pixel", "photons", false),
+    ("light.illuminance_lux", "lx", false),
+    ("light.scene_illuminance_lux", "lx", false),
+    ("light.scene_irradiance_w_per_m2", "W/m²", false),
+    ("light.scene_luminance_cd_per_m2", "cd/m²", false),
+    ("light.scene_radiance_w_per_m2_sr", "W/m²/sr", false),
+    ("light.f_number", "1", false),
     ("exposure.time_s", "s", false),
     ("exposure.frames_averaged", "frames", true),
     ("exposure.binning", "pixels", true),
@@ -188,6 +195,11 @@ pub fn sweep(base: &Value, request: &SweepRequest) -> Result<Sweep, ScenarioErro
     let n = request.points;
     let mut points = Vec::with_capacity(usize::try_from(n).unwrap_or(0));
     let mut at = scenario.clone();
+    // The light's spectral integrals depend only on the light and the sensor's QE and band,
+    // and the light is linear in its amount: a sweep of the amount scales them.
+    let base_lights = resolve_lights(&scenario);
+    let amount_varies = AMOUNT_KEYS.contains(&key);
+    let light_changes = key.starts_with("light.") || key == "sensor.quantum_efficiency";
     for i in 0..n {
         let f = f64::from(i) / f64::from(n - 1);
         let raw = match request.spacing {
@@ -208,10 +220,14 @@ pub fn sweep(base: &Value, request: &SweepRequest) -> Result<Sweep, ScenarioErro
         };
         let value = if whole { raw.round() } else { raw };
         set(&mut at, key, value);
-        points.push(SweepPoint {
-            value,
-            report: evaluate(&at),
-        });
+        let report = if amount_varies {
+            evaluate_with(&at, &base_lights.with_light_amount(value))
+        } else if light_changes {
+            evaluate_with(&at, &resolve_lights(&at))
+        } else {
+            evaluate_with(&at, &base_lights)
+        };
+        points.push(SweepPoint { value, report });
     }
     Ok(Sweep {
         key: key.to_string(),
@@ -385,16 +401,36 @@ fn problem(path: &str, message: String) -> Problem {
     }
 }
 
+/// Keys that set how much light there is (the photons scale with them, nothing else changes).
+const AMOUNT_KEYS: &[&str] = &[
+    "light.photon_flux_per_um2_s",
+    "light.irradiance_w_per_m2",
+    "light.photons_per_pixel",
+    "light.illuminance_lux",
+    "light.scene_illuminance_lux",
+    "light.scene_irradiance_w_per_m2",
+    "light.scene_luminance_cd_per_m2",
+    "light.scene_radiance_w_per_m2_sr",
+];
+
 fn light_has(light: &Light, key: &str) -> bool {
-    matches!(
-        (light, key),
+    use crate::light::SceneQuantity as Q;
+    match (light, key) {
         (Light::PhotonFlux { .. }, "light.photon_flux_per_um2_s")
-            | (
-                Light::Irradiance { .. },
-                "light.irradiance_w_per_m2" | "light.wavelength_nm"
-            )
-            | (Light::PhotonsPerPixel { .. }, "light.photons_per_pixel")
-    )
+        | (Light::Irradiance { .. }, "light.irradiance_w_per_m2" | "light.wavelength_nm")
+        | (Light::SpectralIrradiance { .. }, "light.irradiance_w_per_m2")
+        | (Light::PhotonsPerPixel { .. }, "light.photons_per_pixel")
+        | (Light::Illuminance { .. }, "light.illuminance_lux")
+        | (Light::Scene { .. }, "light.f_number") => true,
+        (Light::Scene { quantity, .. }, _) => matches!(
+            (quantity, key),
+            (Q::Illuminance { .. }, "light.scene_illuminance_lux")
+                | (Q::Irradiance { .. }, "light.scene_irradiance_w_per_m2")
+                | (Q::Luminance { .. }, "light.scene_luminance_cd_per_m2")
+                | (Q::Radiance { .. }, "light.scene_radiance_w_per_m2_sr")
+        ),
+        _ => false,
+    }
 }
 
 /// A copy of the scenario JSON with `key` (a dot path) set to `value`.
@@ -446,29 +482,41 @@ fn set(sc: &mut Scenario, key: &str, v: f64) {
 }
 
 fn set_light(light: &mut Light, key: &str, v: f64) {
-    match (light, key) {
-        (
-            Light::PhotonFlux {
-                photon_flux_per_um2_s,
-            },
-            "light.photon_flux_per_um2_s",
-        ) => {
-            *photon_flux_per_um2_s = v;
+    use crate::light::SceneQuantity as Q;
+    match light {
+        Light::PhotonFlux {
+            photon_flux_per_um2_s,
+        } => *photon_flux_per_um2_s = v,
+        Light::Irradiance {
+            irradiance_w_per_m2,
+            wavelength_nm,
+        } => {
+            if key == "light.wavelength_nm" {
+                *wavelength_nm = v;
+            } else {
+                *irradiance_w_per_m2 = v;
+            }
         }
-        (
-            Light::Irradiance {
-                irradiance_w_per_m2,
-                ..
-            },
-            "light.irradiance_w_per_m2",
-        ) => {
-            *irradiance_w_per_m2 = v;
+        Light::SpectralIrradiance {
+            irradiance_w_per_m2,
+            ..
+        } => *irradiance_w_per_m2 = v,
+        Light::PhotonsPerPixel { photons_per_pixel } => *photons_per_pixel = v,
+        Light::Illuminance {
+            illuminance_lux, ..
+        } => *illuminance_lux = v,
+        Light::Scene { quantity, lens, .. } => {
+            if key == "light.f_number" {
+                lens.f_number = v;
+            } else {
+                match quantity {
+                    Q::Illuminance { lux, .. } => *lux = v,
+                    Q::Irradiance { w_per_m2, .. } => *w_per_m2 = v,
+                    Q::Luminance { cd_per_m2 } => *cd_per_m2 = v,
+                    Q::Radiance { w_per_m2_sr } => *w_per_m2_sr = v,
+                }
+            }
         }
-        (Light::Irradiance { wavelength_nm, .. }, "light.wavelength_nm") => *wavelength_nm = v,
-        (Light::PhotonsPerPixel { photons_per_pixel }, "light.photons_per_pixel") => {
-            *photons_per_pixel = v;
-        }
-        _ => {}
     }
 }
 
@@ -574,6 +622,50 @@ mod tests {
                 }
             }
         }
+    }
+
+    #[test]
+    fn sweeping_scene_light_equals_single_evaluations() {
+        // The spectral integrals are re-done at each point only when a light key varies; both
+        // paths must agree with a fresh evaluation.
+        let mut b = base();
+        b["light"] = json!({"scene_illuminance_lux": 300, "reflectance": 0.2,
+            "spectrum": {"kind": "cie_a"}, "f_number": 2.8, "lens_transmission": 0.9});
+        b["background_light"] = json!({"illuminance_lux": 0.5, "spectrum": {"kind": "cie_d65"}});
+        for (key, from, to) in [
+            ("light.scene_illuminance_lux", 1.0, 1e4),
+            ("light.f_number", 1.4, 16.0),
+            ("exposure.time_s", 1e-4, 1.0),
+            ("temperature_c", -20.0, 60.0),
+        ] {
+            let s = sweep(
+                &b,
+                &request(
+                    key,
+                    from,
+                    to,
+                    6,
+                    if from <= 0.0 {
+                        Spacing::Linear
+                    } else {
+                        Spacing::Log
+                    },
+                ),
+            )
+            .unwrap();
+            for p in &s.points {
+                let single = evaluate_json(&set(b.clone(), key, p.value).to_string()).unwrap();
+                assert_eq!(p.report, single, "{key} = {}", p.value);
+            }
+        }
+        let e = sweep(
+            &b,
+            &request("light.illuminance_lux", 1.0, 2.0, 3, Spacing::Linear),
+        )
+        .unwrap_err();
+        assert!(e
+            .to_string()
+            .starts_with("sweep.key: light.illuminance_lux is not part of this scenario's light"));
     }
 
     #[test]
