@@ -157,8 +157,16 @@ pub fn recompute() {
     let Some(form_el) = dom::by_id("scenario-form") else {
         return;
     };
-    let scenario = form::read(&form_el);
     form::clear_problems(&form_el);
+    let scenario = match form::read(&form_el) {
+        Ok(s) => s,
+        Err(problems) => {
+            form::show_problems(&form_el, &problems);
+            results::set_stale(true);
+            FORM_VALID.with(|v| v.set(false));
+            return;
+        }
+    };
     match engine::validate::scenario_from_value(&scenario) {
         Ok(valid) => {
             let report = engine::evaluate(&valid);

@@ -35,6 +35,16 @@ pub const DEMOS: &[Demo] = &[
         label: "5.6 µm 3T pixel, no CDS",
         json: include_str!("../../../www/demos/three-transistor-no-cds.json"),
     },
+    Demo {
+        name: "conveyor-lux-and-lens",
+        label: "300 lx scene through an f/2.8 lens",
+        json: include_str!("../../../www/demos/conveyor-lux-and-lens.json"),
+    },
+    Demo {
+        name: "nir-illuminator-daylight",
+        label: "850 nm illuminator with daylight",
+        json: include_str!("../../../www/demos/nir-illuminator-daylight.json"),
+    },
 ];
 
 /// The demo with this name.

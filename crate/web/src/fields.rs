@@ -122,6 +122,50 @@ pub fn light_kind_of(scenario: &Value) -> Option<&'static str> {
         .map(|(name, _)| *name)
 }
 
+/// What of a scenario has no field in the form: a copy without `version` and without every
+/// leaf whose dot path is in `fields`, with emptied objects dropped; `None` when nothing is left.
+/// Lists (spectra, curves) are leaves.
+#[must_use]
+pub fn without_fields(scenario: &Value, fields: &[String]) -> Option<Value> {
+    fn strip(v: &Value, prefix: &str, fields: &[String]) -> Option<Value> {
+        match v {
+            Value::Object(m) => {
+                let mut out = Map::new();
+                for (k, child) in m {
+                    let path = if prefix.is_empty() {
+                        k.clone()
+                    } else {
+                        format!("{prefix}.{k}")
+                    };
+                    if path == "version" || fields.contains(&path) {
+                        continue;
+                    }
+                    if let Some(c) = strip(child, &path, fields) {
+                        out.insert(k.clone(), c);
+                    }
+                }
+                (!out.is_empty()).then_some(Value::Object(out))
+            }
+            other => Some(other.clone()),
+        }
+    }
+    strip(scenario, "", fields)
+}
+
+/// Add the keys of `extra` to `base`, object by object; where both have a key, `base` keeps its
+/// value (a field on the form wins over the same key typed in the extra keys).
+pub fn merge_missing(base: &mut Map<String, Value>, extra: &Map<String, Value>) {
+    for (k, v) in extra {
+        match (base.get_mut(k), v) {
+            (Some(Value::Object(b)), Value::Object(e)) => merge_missing(b, e),
+            (Some(_), _) => {}
+            (None, _) => {
+                base.insert(k.clone(), v.clone());
+            }
+        }
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -193,6 +237,64 @@ mod tests {
             let t = text_for(Some(&json!(x)));
             assert_eq!(value_for(&t, Kind::Number), Some(json!(x)), "{t}");
         }
+    }
+
+    #[test]
+    fn keys_without_fields_are_split_off_and_merged_back() {
+        let scenario = json!({
+            "version": 1,
+            "sensor": {"full_well_e": 10, "quantum_efficiency_curve": [[400, 0.5], [700, 0.4]]},
+            "light": {"irradiance_w_per_m2": 2, "spectrum": {"kind": "cie_a"}},
+            "background_light": {"illuminance_lux": 3, "spectrum": {"kind": "cie_d65"}},
+            "temperature_c": 20
+        });
+        let fields: Vec<String> = [
+            "sensor.full_well_e",
+            "light.irradiance_w_per_m2",
+            "temperature_c",
+        ]
+        .iter()
+        .map(|s| (*s).to_string())
+        .collect();
+        let rest = without_fields(&scenario, &fields);
+        assert_eq!(
+            rest,
+            Some(json!({
+                "sensor": {"quantum_efficiency_curve": [[400, 0.5], [700, 0.4]]},
+                "light": {"spectrum": {"kind": "cie_a"}},
+                "background_light": {"illuminance_lux": 3, "spectrum": {"kind": "cie_d65"}}
+            }))
+        );
+        // The form's part plus the rest is the scenario again.
+        let mut base = Map::new();
+        for f in &fields {
+            if let Some(v) = value_at(&scenario, f) {
+                insert_at(&mut base, f, v.clone());
+            }
+        }
+        base.insert("version".into(), json!(1));
+        if let Some(Value::Object(rest)) = rest {
+            merge_missing(&mut base, &rest);
+        }
+        assert_eq!(Value::Object(base), scenario);
+        assert_eq!(
+            without_fields(&json!({"version": 1, "temperature_c": 2}), &fields),
+            None
+        );
+    }
+
+    #[test]
+    fn a_field_wins_over_the_same_key_in_the_extra_keys() {
+        let mut base = Map::new();
+        insert_at(&mut base, "sensor.full_well_e", json!(10));
+        let extra = json!({"sensor": {"full_well_e": 99, "x_note": "a"}});
+        if let Value::Object(e) = extra {
+            merge_missing(&mut base, &e);
+        }
+        assert_eq!(
+            Value::Object(base),
+            json!({"sensor": {"full_well_e": 10, "x_note": "a"}})
+        );
     }
 
     #[test]

@@ -8,7 +8,7 @@ use engine::validate::FORMAT_VERSION;
 use engine::Problem;
 use serde_json::{Map, Value};
 use wasm_bindgen::JsCast;
-use web_sys::{Element, HtmlInputElement, HtmlSelectElement};
+use web_sys::{Element, HtmlInputElement, HtmlSelectElement, HtmlTextAreaElement};
 
 use crate::dom;
 use crate::fields::{self, Kind};
@@ -63,9 +63,51 @@ fn in_other_light_kind(el: &Element, kind: &str) -> bool {
         .is_some_and(|k| k != kind)
 }
 
-/// The scenario the form describes now, as JSON (possibly invalid: the engine judges it).
-#[must_use]
-pub fn read(form: &Element) -> Value {
+/// The box for scenario keys the form has no field for (other light kinds, spectra, background
+/// light, QE curves, `x_` keys), as JSON text.
+fn extra_box() -> Option<HtmlTextAreaElement> {
+    dom::by_id_as::<HtmlTextAreaElement>("extra-json")
+}
+
+/// The scenario the form describes now, as JSON (possibly invalid: the engine judges it), or
+/// the problem with the extra keys' JSON text, in the engine's words.
+pub fn read(form: &Element) -> Result<Value, Vec<Problem>> {
+    let mut root = read_fields(form);
+    let extra_text = extra_box().map(|t| t.value()).unwrap_or_default();
+    if !extra_text.trim().is_empty() {
+        match serde_json::from_str::<Value>(&extra_text) {
+            Ok(Value::Object(extra)) => fields::merge_missing(&mut root, &extra),
+            Ok(_) => {
+                return Err(vec![Problem {
+                    path: EXTRA_PATH.into(),
+                    message:
+                        "must be a JSON object of scenario keys, like {\"background_light\": {…}}"
+                            .into(),
+                }])
+            }
+            Err(_) => {
+                // Let the engine word the JSON error, as for a file.
+                let problems = engine::validate::scenario_from_json(&extra_text)
+                    .err()
+                    .map(|e| e.problems().to_vec())
+                    .unwrap_or_default();
+                return Err(problems
+                    .into_iter()
+                    .map(|p| Problem {
+                        path: EXTRA_PATH.into(),
+                        message: p.message,
+                    })
+                    .collect());
+            }
+        }
+    }
+    Ok(Value::Object(root))
+}
+
+/// `data-path` of the extra keys' field.
+const EXTRA_PATH: &str = "extra";
+
+fn read_fields(form: &Element) -> Map<String, Value> {
     let kind = current_light_kind();
     let mut root = Map::new();
     root.insert("version".into(), Value::from(FORMAT_VERSION));
@@ -88,16 +130,26 @@ pub fn read(form: &Element) -> Value {
     // names the light rather than a missing object.
     root.entry("light")
         .or_insert_with(|| Value::Object(Map::new()));
-    Value::Object(root)
+    root
 }
 
-/// Fill every field from a scenario that the engine has accepted.
+/// Fill every field from a scenario that the engine has accepted; keys without a field go,
+/// as JSON, into the extra keys' box.
 pub fn fill(form: &Element, scenario: &Value) {
-    for (path, el) in named_controls(form) {
-        set_control_text(&el, &fields::text_for(fields::value_at(scenario, &path)));
+    let controls = named_controls(form);
+    for (path, el) in &controls {
+        set_control_text(el, &fields::text_for(fields::value_at(scenario, path)));
     }
-    if let (Some(select), Some(kind)) = (light_kind_select(), fields::light_kind_of(scenario)) {
-        select.set_value(kind);
+    if let Some(select) = light_kind_select() {
+        // An empty choice: the light is of a kind given in the extra keys.
+        select.set_value(fields::light_kind_of(scenario).unwrap_or(""));
+    }
+    let names: Vec<String> = controls.into_iter().map(|(p, _)| p).collect();
+    if let Some(b) = extra_box() {
+        let rest = fields::without_fields(scenario, &names)
+            .and_then(|v| serde_json::to_string_pretty(&v).ok())
+            .unwrap_or_default();
+        b.set_value(&rest);
     }
     show_light_kind(form);
 }
@@ -128,23 +180,42 @@ pub fn clear_problems(form: &Element) {
 /// field (the scenario as a whole) go in the list at the top of the form.
 pub fn show_problems(form: &Element, problems: &[Problem]) {
     let general = dom::by_id("form-problems");
+    let has_extra = extra_box().is_some_and(|b| !b.value().trim().is_empty());
+    let fields = dom::all(form, ".field[data-path]");
+    let field_at = |path: &str| {
+        fields
+            .iter()
+            .find(|f| f.get_attribute("data-path").as_deref() == Some(path))
+            .cloned()
+    };
     for p in problems {
-        let field = dom::all(form, ".field[data-path]")
-            .into_iter()
-            .find(|f| f.get_attribute("data-path").as_deref() == Some(p.path.as_str()));
+        // A key with no field of its own was typed in the extra keys, if there are any.
+        let field = field_at(&p.path).or_else(|| {
+            if has_extra && p.path != "scenario" {
+                field_at(EXTRA_PATH)
+            } else {
+                None
+            }
+        });
         let slot = field
             .as_ref()
             .and_then(|f| f.query_selector(".problem").ok().flatten());
         match (field, slot) {
             (Some(field), Some(slot)) => {
-                for control in dom::all(&field, "input, select") {
+                for control in dom::all(&field, "input, select, textarea") {
                     dom::set_attr(&control, "aria-invalid", "true");
                 }
                 let before = slot.text_content().unwrap_or_default();
-                let text = if before.is_empty() {
+                let own = field.get_attribute("data-path").as_deref() == Some(p.path.as_str());
+                let message = if own {
                     p.message.clone()
                 } else {
-                    format!("{before}; {}", p.message)
+                    p.to_string()
+                };
+                let text = if before.is_empty() {
+                    message
+                } else {
+                    format!("{before}; {message}")
                 };
                 slot.set_text_content(Some(&text));
             }

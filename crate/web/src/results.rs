@@ -23,6 +23,9 @@ pub fn show(report: &engine::Report) {
     let Ok(value) = serde_json::to_value(report) else {
         return;
     };
+    for list in dom::all_in_document("[data-units-of]") {
+        show_light_units(&list, &value);
+    }
     for el in dom::all_in_document("[data-report]") {
         let path = el.get_attribute("data-report").unwrap_or_default();
         write_figure(&el, value_at(&value, &path));
@@ -67,6 +70,51 @@ fn write_figure(el: &Element, v: Option<&Value>) {
     };
     dom::set_attr(el, "data-value", &data);
     el.set_text_content(Some(&text));
+}
+
+/// Label and unit for a key of a report's `light_units`, named after the light given.
+fn light_unit(key: &str) -> (&'static str, &'static str) {
+    match key {
+        "illuminance_lux" => ("at the sensor", " lx"),
+        "irradiance_w_per_m2" => ("at the sensor", " W/m²"),
+        "photon_flux_per_um2_s" => ("at the sensor", " photons/(µm²·s)"),
+        "photons_per_pixel" => ("per pixel", " photons"),
+        "scene_illuminance_lux" => ("on the scene", " lx"),
+        "scene_irradiance_w_per_m2" => ("on the scene", " W/m²"),
+        "scene_luminance_cd_per_m2" => ("scene luminance", " cd/m²"),
+        "scene_radiance_w_per_m2_sr" => ("scene radiance", " W/(m²·sr)"),
+        _ => ("", ""),
+    }
+}
+
+/// Rebuild a list of figures from a report object whose keys depend on the light given
+/// (`min_detectable.light_units`, `saturation.light_units`): one row per key present.
+fn show_light_units(list: &Element, report: &Value) {
+    dom::clear(list);
+    let path = list.get_attribute("data-units-of").unwrap_or_default();
+    let label = list.get_attribute("data-label").unwrap_or_default();
+    let Some(Value::Object(units)) = value_at(report, &path) else {
+        return;
+    };
+    for (key, v) in units {
+        let (place, unit) = light_unit(key);
+        let place = if place.is_empty() {
+            key.as_str()
+        } else {
+            place
+        };
+        let row = dom::new_element("div", "");
+        let dt = dom::new_element("dt", &format!("{label}, {place}"));
+        let dd = dom::new_element("dd", "");
+        if let (Some(row), Some(dt), Some(dd)) = (row, dt, dd) {
+            dom::set_attr(&dd, "data-report", &format!("{path}.{key}"));
+            dom::set_attr(&dd, "data-unit", unit);
+            write_figure(&dd, Some(v));
+            let _ = row.append_child(&dt);
+            let _ = row.append_child(&dd);
+            let _ = list.append_child(&row);
+        }
+    }
 }
 
 /// A report word (`full_well`, `adc`) as plain words.
