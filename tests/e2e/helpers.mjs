@@ -1,7 +1,7 @@
 // Shared helpers for the page tests: the browser (Debian's Chromium through playwright-core),
 // the static server, the command-line tool as the reference, and reading the page's figures.
 import { execFileSync } from 'node:child_process';
-import { mkdirSync, mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
+import { mkdirSync, mkdtempSync, readFileSync, readdirSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { dirname, join, resolve } from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';
@@ -13,12 +13,10 @@ export const DIST = resolve(ROOT, process.env.NOISE_BUDGET_DIST ?? 'dist');
 export const ARTIFACTS = join(ROOT, 'tests/artifacts');
 mkdirSync(ARTIFACTS, { recursive: true });
 
-export const DEMO_NAMES = [
-  'global-shutter-machine-vision',
-  'small-pixel-rolling-shutter',
-  'cooled-scientific',
-  'three-transistor-no-cds',
-];
+// Every demo in www/demos/, the first-visit one first (as the page lists them).
+const FIRST_DEMO = 'global-shutter-machine-vision';
+export const DEMO_NAMES = [FIRST_DEMO, ...readdirSync(join(ROOT, 'www/demos'))
+  .filter((f) => f.endsWith('.json')).map((f) => f.slice(0, -5)).filter((n) => n !== FIRST_DEMO).sort()];
 export const demoText = (name) => readFileSync(join(ROOT, 'www/demos', `${name}.json`), 'utf8');
 export const demoJson = (name) => JSON.parse(demoText(name));
 

@@ -152,6 +152,30 @@ pub fn without_fields(scenario: &Value, fields: &[String]) -> Option<Value> {
     strip(scenario, "", fields)
 }
 
+/// The text for the extra keys' box: one line per top-level key, each value as compact JSON,
+/// so a long spectrum stays one line instead of hundreds.
+///
+/// ```
+/// let v = serde_json::json!({"light": {"spectrum": {"kind": "cie_a"}}, "x_note": "a"});
+/// assert_eq!(
+///     noise_budget_web::fields::extra_text(&v),
+///     "{\n  \"light\": {\"spectrum\":{\"kind\":\"cie_a\"}},\n  \"x_note\": \"a\"\n}"
+/// );
+/// ```
+#[must_use]
+pub fn extra_text(extra: &Value) -> String {
+    match extra {
+        Value::Object(m) => {
+            let lines: Vec<String> = m
+                .iter()
+                .map(|(k, v)| format!("  {}: {v}", Value::String(k.clone())))
+                .collect();
+            format!("{{\n{}\n}}", lines.join(",\n"))
+        }
+        other => other.to_string(),
+    }
+}
+
 /// Add the keys of `extra` to `base`, object by object; where both have a key, `base` keeps its
 /// value (a field on the form wins over the same key typed in the extra keys).
 pub fn merge_missing(base: &mut Map<String, Value>, extra: &Map<String, Value>) {

@@ -147,7 +147,7 @@ pub fn fill(form: &Element, scenario: &Value) {
     let names: Vec<String> = controls.into_iter().map(|(p, _)| p).collect();
     if let Some(b) = extra_box() {
         let rest = fields::without_fields(scenario, &names)
-            .and_then(|v| serde_json::to_string_pretty(&v).ok())
+            .map(|v| fields::extra_text(&v))
             .unwrap_or_default();
         b.set_value(&rest);
     }
