@@ -3,7 +3,12 @@
 //! Build-time only (this is not the engine's run-time code, which does no I/O). A malformed
 //! table stops the build with a message naming the file and line.
 
-#![allow(clippy::panic, clippy::unwrap_used, clippy::expect_used, clippy::indexing_slicing)] // build time: stopping the build is the error report
+#![allow(
+    clippy::panic,
+    clippy::unwrap_used,
+    clippy::expect_used,
+    clippy::indexing_slicing
+)] // build time: stopping the build is the error report
 
 use std::fmt::Write as _;
 use std::path::Path;
