@@ -87,7 +87,7 @@ const appName = `app-${short(app)}.js`;
 writeFileSync(join(dist, appName), app);
 const served = html
   .replace(charset, `${charset}\n  ${csp("'self'", "'self'")}`)
-  .replace('</head>', `  <script type="module" src="./${appName}"></script>\n</head>`);
+  .replace('</head>', `  <script type="module" src="./${appName}" integrity="sha384-${createHash('sha384').update(app, 'utf8').digest('base64')}"></script>\n</head>`);
 writeFileSync(join(dist, 'index.html'), served);
 
 // The single file: everything inline, allowed by hash.

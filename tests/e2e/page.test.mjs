@@ -238,6 +238,31 @@ for (const target of TARGETS) {
       await ctx.close();
     });
 
+    test('a strict Content-Security-Policy is in force: no fetch, no unhashed script', async () => {
+      const { ctx, page, requests, errors } = await openPage(browser, target.url());
+      const csp = await page.getAttribute('meta[http-equiv="Content-Security-Policy"]', 'content');
+      assert.match(csp, /default-src 'none'/);
+      assert.match(csp, /connect-src 'none'/);
+      assert.doesNotMatch(csp, /'unsafe-inline'|'unsafe-eval'/);
+      // The policy is enforced, not only written: a fetch of the page's own file and an inline
+      // script without the page's hash are refused. (The test's own page.evaluate is exempt,
+      // as the browser's developer protocol is.)
+      const fetched = await page.evaluate(() => fetch(location.href.split('#')[0]).then(() => 'allowed', () => 'refused'));
+      assert.equal(fetched, 'refused');
+      const injected = await page.evaluate(async () => {
+        const s = document.createElement('script');
+        s.textContent = 'window.injectedScriptRan = true;';
+        document.head.appendChild(s);
+        await new Promise((r) => setTimeout(r, 50));
+        return window.injectedScriptRan ? 'allowed' : 'refused';
+      });
+      assert.equal(injected, 'refused');
+      // Those refusals are the only errors, and the refused fetch made no request.
+      assert.ok(errors.every((e) => /Content Security Policy/.test(e)), errors.join('\n'));
+      assertOwnRequests(target, requests, []);
+      await ctx.close();
+    });
+
     test('no serious or critical accessibility violations (axe-core), for each demo', async () => {
       const { ctx, page, requests, errors } = await openPage(browser, target.url());
       for (const name of DEMO_NAMES) {
