@@ -43,6 +43,7 @@ pub fn mount() {
     let Some(form_el) = dom::by_id("scenario-form") else {
         return;
     };
+    results::reset();
     dom::set_text_of("tool-version", env!("CARGO_PKG_VERSION"));
     stamp_date();
     build_demo_buttons();

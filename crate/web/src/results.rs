@@ -4,6 +4,8 @@
 //! Presentation only: figures are copied from the engine's report (serialized to JSON values)
 //! and formatted for display; nothing is computed from them here.
 
+use std::cell::RefCell;
+
 use engine::report::Warning;
 use serde_json::Value;
 use wasm_bindgen::JsCast;
@@ -13,10 +15,21 @@ use crate::display::{self, Style};
 use crate::dom;
 use crate::fields::value_at;
 
+thread_local! {
+    /// The warnings on the page now (messages and concerns), to leave them alone when an edit
+    /// does not change them.
+    static SHOWN_WARNINGS: RefCell<Option<String>> = const { RefCell::new(None) };
+}
+
 /// Written on the page for a figure that does not exist in this scenario (a report `null`).
 const NO_FIGURE: &str = "—";
 /// `data-value` of a figure that does not exist, as in the report's JSON.
 const NULL_VALUE: &str = "null";
+
+/// Forget what was shown (the page's elements were made anew).
+pub fn reset() {
+    SHOWN_WARNINGS.with(|s| *s.borrow_mut() = None);
+}
 
 /// Show a report: figures, bar, warnings, and lift the stale mark.
 pub fn show(report: &engine::Report) {
@@ -35,10 +48,15 @@ pub fn show(report: &engine::Report) {
         let share = value_at(&value, &path)
             .and_then(Value::as_f64)
             .unwrap_or(0.0);
+        let weight = display::full(share);
+        if el.get_attribute("data-weight").as_deref() == Some(weight.as_str()) {
+            continue;
+        }
         if let Some(h) = el.dyn_ref::<HtmlElement>() {
             // The share itself is the flex weight: no arithmetic on it here.
-            let _ = h.style().set_property("flex-grow", &display::full(share));
+            let _ = h.style().set_property("flex-grow", &weight);
         }
+        dom::set_attr(&el, "data-weight", &weight);
         dom::set_attr(&el, "title", &display::rounded(share, Style::Percent));
     }
     show_warnings(&report.warnings);
@@ -46,6 +64,16 @@ pub fn show(report: &engine::Report) {
 }
 
 fn write_figure(el: &Element, v: Option<&Value>) {
+    // Unchanged figures are not rewritten, so an edit restyles only what it changed.
+    let wanted = match v {
+        Some(Value::Number(n)) => n.as_f64().map(display::full),
+        Some(Value::Bool(b)) => Some(b.to_string()),
+        Some(Value::String(s)) => Some(s.clone()),
+        _ => Some(NULL_VALUE.to_string()),
+    };
+    if wanted.is_some() && el.get_attribute("data-value") == wanted {
+        return;
+    }
     let unit = el.get_attribute("data-unit").unwrap_or_default();
     let fmt = el.get_attribute("data-fmt").unwrap_or_default();
     let (data, text) = match v {
@@ -90,13 +118,23 @@ fn light_unit(key: &str) -> (&'static str, &'static str) {
 /// Rebuild a list of figures from a report object whose keys depend on the light given
 /// (`min_detectable.light_units`, `saturation.light_units`): one row per key present.
 fn show_light_units(list: &Element, report: &Value) {
-    dom::clear(list);
     let path = list.get_attribute("data-units-of").unwrap_or_default();
     let label = list.get_attribute("data-label").unwrap_or_default();
-    let Some(Value::Object(units)) = value_at(report, &path) else {
-        return;
+    let units = match value_at(report, &path) {
+        Some(Value::Object(units)) => units.clone(),
+        _ => serde_json::Map::new(),
     };
-    for (key, v) in units {
+    // The same keys as shown: the values are written by the figures' pass; otherwise rebuild.
+    let shown: Vec<String> = dom::all(list, "[data-report]")
+        .iter()
+        .filter_map(|e| e.get_attribute("data-report"))
+        .collect();
+    let wanted: Vec<String> = units.keys().map(|k| format!("{path}.{k}")).collect();
+    if shown == wanted {
+        return;
+    }
+    dom::clear(list);
+    for (key, v) in &units {
         let (place, unit) = light_unit(key);
         let place = if place.is_empty() {
             key.as_str()
@@ -129,6 +167,14 @@ fn words(s: &str) -> String {
 /// Put each warning's sentence in the warning list of every result group holding a figure it
 /// concerns, and mark those figures; a warning about no shown figure goes in the general list.
 fn show_warnings(warnings: &[Warning]) {
+    let signature: String = warnings
+        .iter()
+        .map(|w| format!("{}\u{1f}{}\n", w.message, w.concerns.join(",")))
+        .collect();
+    if SHOWN_WARNINGS.with(|s| *s.borrow() == Some(signature.clone())) {
+        return;
+    }
+    SHOWN_WARNINGS.with(|s| *s.borrow_mut() = Some(signature));
     for list in dom::all_in_document("[data-warn-host] > .warnings") {
         dom::clear(&list);
     }
