@@ -16,6 +16,7 @@ try {
   console.error(`serve: cannot listen on 127.0.0.1:${port} (${e.code ?? e}); try PORT=0 scripts/serve`);
   process.exit(1);
 }
-console.log(`noise-budget page: ${served.origin}/#scenario=${link}`);
+console.log(`noise-budget page: ${served.origin}/`);
+console.log(`  with the demo scenario in the address: ${served.origin}/#scenario=${link}`);
 console.log(`(the same page as one file, no server needed: ${dist}/noise-budget.html)`);
 console.log('Press Ctrl+C to stop.');
