@@ -10,6 +10,7 @@
 
 pub mod constants;
 pub mod dark;
+pub mod demos;
 pub mod frames;
 pub mod light;
 pub mod model;

@@ -1,57 +1,9 @@
 //! The invented demo scenarios, embedded in the wasm at build time so the single file has them.
 //!
-//! Only the list: loading one goes through the same validation as a link or a file. The data
-//! lives in `www/demos/*.json` (owned with the command-line tool's demos); nothing is computed here.
+//! Only the list, shared with the command-line tool through `engine::demos`: loading one goes
+//! through the same validation as a link or a file. Nothing is computed here.
 
-/// One demo: a stable name (the file's stem), a short label for its button, and the scenario.
-pub struct Demo {
-    /// The file stem in `www/demos/`.
-    pub name: &'static str,
-    /// Button text.
-    pub label: &'static str,
-    /// The scenario, JSON text.
-    pub json: &'static str,
-}
-
-/// The demos, in the order the page shows them. The first is loaded on a first visit.
-pub const DEMOS: &[Demo] = &[
-    Demo {
-        name: "global-shutter-machine-vision",
-        label: "3.45 µm global shutter, machine vision",
-        json: include_str!("../../../www/demos/global-shutter-machine-vision.json"),
-    },
-    Demo {
-        name: "small-pixel-rolling-shutter",
-        label: "1.0 µm rolling shutter, small pixel",
-        json: include_str!("../../../www/demos/small-pixel-rolling-shutter.json"),
-    },
-    Demo {
-        name: "cooled-scientific",
-        label: "6.5 µm cooled scientific",
-        json: include_str!("../../../www/demos/cooled-scientific.json"),
-    },
-    Demo {
-        name: "three-transistor-no-cds",
-        label: "5.6 µm 3T pixel, no CDS",
-        json: include_str!("../../../www/demos/three-transistor-no-cds.json"),
-    },
-    Demo {
-        name: "conveyor-lux-and-lens",
-        label: "300 lx scene through an f/2.8 lens",
-        json: include_str!("../../../www/demos/conveyor-lux-and-lens.json"),
-    },
-    Demo {
-        name: "nir-illuminator-daylight",
-        label: "850 nm illuminator with daylight",
-        json: include_str!("../../../www/demos/nir-illuminator-daylight.json"),
-    },
-];
-
-/// The demo with this name.
-#[must_use]
-pub fn by_name(name: &str) -> Option<&'static Demo> {
-    DEMOS.iter().find(|d| d.name == name)
-}
+pub use engine::demos::{by_name, DEMOS};
 
 #[cfg(test)]
 mod tests {
