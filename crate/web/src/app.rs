@@ -17,7 +17,7 @@ use web_sys::{
     HtmlInputElement, HtmlSelectElement, Url,
 };
 
-use crate::{address, demos, dom, form, results, store};
+use crate::{address, demos, dom, form, plot, results, store};
 
 /// Delay before the address bar and the browser's store follow an edit: edits in quick
 /// succession are written once (browsers throttle frequent `history.replaceState` calls).
@@ -70,13 +70,13 @@ fn on_id(id: &'static str, kind: &str, handler: impl FnMut(Event) + 'static) {
 
 fn wire(form_el: &Element) {
     on(form_el, "input", |e: Event| {
-        let is_light_kind = e
+        let is_choice = e
             .target()
             .and_then(|t| t.dyn_into::<Element>().ok())
-            .is_some_and(|t| t.id() == "light-kind");
-        if is_light_kind {
+            .is_some_and(|t| t.tag_name().eq_ignore_ascii_case("select"));
+        if is_choice {
             if let Some(f) = dom::by_id("scenario-form") {
-                form::show_light_kind(&f);
+                form::show_chosen(&f);
             }
         }
         recompute();
@@ -159,7 +159,7 @@ pub fn recompute() {
         return;
     };
     form::clear_problems(&form_el);
-    let scenario = match form::read(&form_el) {
+    let read = match form::read(&form_el) {
         Ok(s) => s,
         Err(problems) => {
             form::show_problems(&form_el, &problems);
@@ -168,12 +168,13 @@ pub fn recompute() {
             return;
         }
     };
-    match engine::validate::scenario_from_value(&scenario) {
-        Ok(valid) => {
+    match engine::validate::scenario_from_value(&read.value) {
+        Ok(valid) if read.own_problems.is_empty() => {
             let report = engine::evaluate(&valid);
             results::show(&report);
+            plot::show(&valid);
             FORM_VALID.with(|v| v.set(true));
-            LAST_GOOD.with(|g| *g.borrow_mut() = Some(scenario));
+            LAST_GOOD.with(|g| *g.borrow_mut() = Some(read.value));
             update_share_link();
             schedule_follow();
             if !FIRST_SHOWN.with(Cell::get) {
@@ -183,8 +184,14 @@ pub fn recompute() {
                 }
             }
         }
-        Err(e) => {
-            form::show_problems(&form_el, e.problems());
+        outcome => {
+            // Lines of a pasted list that are not two numbers, then the engine's problems
+            // with the other points named by their lines.
+            let mut problems = read.own_problems.clone();
+            if let Err(e) = outcome {
+                problems.extend(read.at_lines(e.problems()));
+            }
+            form::show_problems(&form_el, &problems);
             results::set_stale(true);
             FORM_VALID.with(|v| v.set(false));
         }

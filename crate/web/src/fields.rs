@@ -6,15 +6,26 @@
 
 use serde_json::{Map, Value};
 
-/// The light kinds of format version 1, each named by its first key, with all its keys.
-/// Order matches the page's light-kind choice.
+/// The light kinds the page's light choices offer, each named by the choice's value, with the
+/// keys that mark a light object as that kind (the first kind with one present wins).
+/// Order matters: the irradiance with a spectrum is told from the monochromatic one by its
+/// `spectrum`, so it comes first.
 pub const LIGHT_KINDS: &[(&str, &[&str])] = &[
     ("photon_flux_per_um2_s", &["photon_flux_per_um2_s"]),
+    ("irradiance_spectrum", &["irradiance_w_per_m2+spectrum"]),
     (
         "irradiance_w_per_m2",
         &["irradiance_w_per_m2", "wavelength_nm"],
     ),
     ("photons_per_pixel", &["photons_per_pixel"]),
+    ("illuminance_lux", &["illuminance_lux"]),
+    ("scene_illuminance_lux", &["scene_illuminance_lux"]),
+    ("scene_irradiance_w_per_m2", &["scene_irradiance_w_per_m2"]),
+    ("scene_luminance_cd_per_m2", &["scene_luminance_cd_per_m2"]),
+    (
+        "scene_radiance_w_per_m2_sr",
+        &["scene_radiance_w_per_m2_sr"],
+    ),
 ];
 
 /// How a field's text becomes a JSON value.
@@ -112,14 +123,121 @@ pub fn text_for(value: Option<&Value>) -> String {
     }
 }
 
-/// Which light kind a scenario's `light` object gives: the first kind with a key present.
+/// Which light kind the light object at `path` (`light`, `background_light`) of a scenario
+/// gives: the first kind with a marking key present (`a+b`: both present).
 #[must_use]
-pub fn light_kind_of(scenario: &Value) -> Option<&'static str> {
-    let light = value_at(scenario, "light")?;
+pub fn light_kind_of(scenario: &Value, path: &str) -> Option<&'static str> {
+    let light = value_at(scenario, path)?;
+    let has = |mark: &str| mark.split('+').all(|k| value_at(light, k).is_some());
     LIGHT_KINDS
         .iter()
-        .find(|(_, keys)| keys.iter().any(|k| value_at(light, k).is_some()))
+        .find(|(_, marks)| marks.iter().any(|m| has(m)))
         .map(|(name, _)| *name)
+}
+
+/// A line of pasted wavelength/value pairs that is not two numbers.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct PairLineProblem {
+    /// The line's number, counting from 1.
+    pub line: usize,
+    /// What was wrong, in words.
+    pub message: String,
+}
+
+/// Pairs read from pasted text: the JSON list `[[nm, value], …]` and, for each pair, the line
+/// it came from (counting from 1), so that the engine's `…points[i]` messages can name the line.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct Pairs {
+    /// `[[a, b], …]`, the numbers as JSON reads them.
+    pub list: Vec<Value>,
+    /// `lines[i]` is the line of `list[i]`.
+    pub lines: Vec<usize>,
+    /// Lines that were not two numbers (left out of `list`).
+    pub problems: Vec<PairLineProblem>,
+}
+
+/// Split pasted text into wavelength/value pairs: one pair a line, the two numbers separated by
+/// a tab, comma, semicolon or spaces; empty lines are skipped. Judges nothing else (order,
+/// signs and ranges are the engine's rules).
+///
+/// ```
+/// let p = noise_budget_web::fields::parse_pairs("400\t0.5\n\n500, 0.25\nabc");
+/// assert_eq!(serde_json::Value::Array(p.list), serde_json::json!([[400, 0.5], [500, 0.25]]));
+/// assert_eq!(p.lines, vec![1, 3]);
+/// assert_eq!(p.problems[0].to_string(), "line 4: expected two numbers, got 'abc'");
+/// ```
+#[must_use]
+pub fn parse_pairs(text: &str) -> Pairs {
+    let mut out = Pairs::default();
+    for (i, raw) in text.lines().enumerate() {
+        let line = i + 1;
+        let t = raw.trim();
+        if t.is_empty() {
+            continue;
+        }
+        let parts: Vec<&str> = t
+            .split(|c: char| c == ',' || c == ';' || c.is_whitespace())
+            .filter(|p| !p.is_empty())
+            .collect();
+        let numbers: Vec<Value> = parts
+            .iter()
+            .filter_map(|p| value_for(p, Kind::Number).filter(Value::is_number))
+            .collect();
+        if parts.len() == 2 && numbers.len() == 2 {
+            out.list.push(Value::Array(numbers));
+            out.lines.push(line);
+        } else {
+            out.problems.push(PairLineProblem {
+                line,
+                message: format!("expected two numbers, got '{t}'"),
+            });
+        }
+    }
+    out
+}
+
+impl std::fmt::Display for PairLineProblem {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        write!(f, "line {}: {}", self.line, self.message)
+    }
+}
+
+/// The text a pairs field shows for a list `[[a, b], …]`: one pair a line, tab-separated
+/// (as a spreadsheet pastes); anything else as compact JSON (the engine will name it).
+///
+/// ```
+/// let v = serde_json::json!([[400, 0.05], [440, 0.6]]);
+/// assert_eq!(noise_budget_web::fields::pairs_text(Some(&v)), "400\t0.05\n440\t0.6");
+/// ```
+#[must_use]
+pub fn pairs_text(value: Option<&Value>) -> String {
+    let Some(Value::Array(items)) = value else {
+        return text_for(value);
+    };
+    let mut lines = Vec::new();
+    for item in items {
+        match item.as_array().map(Vec::as_slice) {
+            Some([a @ Value::Number(_), b @ Value::Number(_)]) => lines.push(format!("{a}\t{b}")),
+            _ => return Value::Array(items.clone()).to_string(),
+        }
+    }
+    lines.join("\n")
+}
+
+/// The engine's path for one point of a list (`light.spectrum.points[3]`, possibly with more
+/// after it) split into the list's path and the index.
+///
+/// ```
+/// use noise_budget_web::fields::split_index;
+/// assert_eq!(split_index("light.spectrum.points[3]"), Some(("light.spectrum.points", 3)));
+/// assert_eq!(split_index("sensor.quantum_efficiency_curve[0][1]"), Some(("sensor.quantum_efficiency_curve", 0)));
+/// assert_eq!(split_index("light.f_number"), None);
+/// ```
+#[must_use]
+pub fn split_index(path: &str) -> Option<(&str, usize)> {
+    let (list, rest) = path.split_once('[')?;
+    let (digits, _) = rest.split_once(']')?;
+    Some((list, digits.parse().ok()?))
 }
 
 /// What of a scenario has no field in the form: a copy without `version` and without every
@@ -323,19 +441,73 @@ mod tests {
 
     #[test]
     fn light_kinds() {
+        let kind = |v: Value| light_kind_of(&v, "light");
         assert_eq!(
-            light_kind_of(&json!({"light": {"irradiance_w_per_m2": 1, "wavelength_nm": 500}})),
+            kind(json!({"light": {"irradiance_w_per_m2": 1, "wavelength_nm": 500}})),
             Some("irradiance_w_per_m2")
         );
         assert_eq!(
-            light_kind_of(&json!({"light": {"wavelength_nm": 500}})),
+            kind(json!({"light": {"wavelength_nm": 500}})),
             Some("irradiance_w_per_m2")
         );
         assert_eq!(
-            light_kind_of(&json!({"light": {"photons_per_pixel": 3}})),
+            kind(json!({"light": {"irradiance_w_per_m2": 1, "spectrum": {"kind": "cie_a"}}})),
+            Some("irradiance_spectrum")
+        );
+        assert_eq!(
+            kind(json!({"light": {"photons_per_pixel": 3}})),
             Some("photons_per_pixel")
         );
-        assert_eq!(light_kind_of(&json!({"light": {}})), None);
-        assert_eq!(light_kind_of(&json!({})), None);
+        assert_eq!(
+            kind(json!({"light": {"scene_luminance_cd_per_m2": 3, "f_number": 2}})),
+            Some("scene_luminance_cd_per_m2")
+        );
+        assert_eq!(kind(json!({"light": {}})), None);
+        assert_eq!(kind(json!({})), None);
+        assert_eq!(
+            light_kind_of(
+                &json!({"background_light": {"illuminance_lux": 3}}),
+                "background_light"
+            ),
+            Some("illuminance_lux")
+        );
+    }
+
+    #[test]
+    fn pairs_split_on_tabs_commas_semicolons_and_spaces() {
+        let p = parse_pairs("400\t0.05\r\n 440 , 0.6\n455;1\n470   4.5e-1\n\n");
+        assert_eq!(
+            Value::Array(p.list),
+            json!([[400, 0.05], [440, 0.6], [455, 1], [470, 0.45]])
+        );
+        assert_eq!(p.lines, vec![1, 2, 3, 4]);
+        assert!(p.problems.is_empty());
+    }
+
+    #[test]
+    fn a_line_that_is_not_two_numbers_is_named() {
+        let p = parse_pairs("400 0.1\n\n500\n600 0.2 7\nabc\n700 x\n1e400 1\n800 0.3");
+        let lines: Vec<String> = p.problems.iter().map(ToString::to_string).collect();
+        assert_eq!(
+            lines,
+            [
+                "line 3: expected two numbers, got '500'",
+                "line 4: expected two numbers, got '600 0.2 7'",
+                "line 5: expected two numbers, got 'abc'",
+                "line 6: expected two numbers, got '700 x'",
+                "line 7: expected two numbers, got '1e400 1'",
+            ]
+        );
+        assert_eq!(Value::Array(p.list), json!([[400, 0.1], [800, 0.3]]));
+        assert_eq!(p.lines, vec![1, 8]);
+    }
+
+    #[test]
+    fn pairs_round_trip_through_their_text() {
+        let v = json!([[350, 0.05], [400, 0.35], [1100, 0.0], [555.5, 1e-3]]);
+        let p = parse_pairs(&pairs_text(Some(&v)));
+        assert_eq!(Value::Array(p.list), v);
+        assert_eq!(pairs_text(None), "");
+        assert_eq!(pairs_text(Some(&json!([[1, 2, 3]]))), "[[1,2,3]]");
     }
 }

@@ -1,8 +1,10 @@
 //! The scenario form: read it into scenario JSON, fill it from a scenario, mark refused fields.
 //!
-//! Fields are found by their `name` (the key's dot path, SCENARIO.md). This file does not judge
-//! values (the engine does, and its messages are shown as they are) and never changes what the
-//! user typed except when asked to load a whole scenario.
+//! Fields are found by their `name` (the key's dot path, SCENARIO.md). Boxes of fields that
+//! belong to one choice (`data-if` = the id of a choice, `data-in` = its values) are read only
+//! while that choice is made. This file does not judge values (the engine does, and its
+//! messages are shown as they are; pasted pairs are only split into lines) and never changes
+//! what the user typed except when asked to load a whole scenario.
 
 use engine::validate::FORMAT_VERSION;
 use engine::Problem;
@@ -13,14 +15,21 @@ use web_sys::{Element, HtmlInputElement, HtmlSelectElement, HtmlTextAreaElement}
 use crate::dom;
 use crate::fields::{self, Kind};
 
-/// The light-kind choice of the form, which decides which light fields belong to the scenario.
-fn light_kind_select() -> Option<HtmlSelectElement> {
-    dom::by_id_as::<HtmlSelectElement>("light-kind")
+/// The light-kind choices of the form (not scenario keys: they decide which fields are read),
+/// with the light object each one is for.
+fn light_kind_selects() -> [(Option<HtmlSelectElement>, &'static str); 2] {
+    [
+        (dom::by_id_as::<HtmlSelectElement>("light-kind"), "light"),
+        (
+            dom::by_id_as::<HtmlSelectElement>("bg-kind"),
+            "background_light",
+        ),
+    ]
 }
 
 /// The form's named controls: (dot path, element).
 fn named_controls(form: &Element) -> Vec<(String, Element)> {
-    dom::all(form, "input[name], select[name]")
+    dom::all(form, "input[name], select[name], textarea[name]")
         .into_iter()
         .filter_map(|el| el.get_attribute("name").map(|n| (n, el)))
         .collect()
@@ -31,6 +40,8 @@ fn control_text(el: &Element) -> String {
         i.value()
     } else if let Some(s) = el.dyn_ref::<HtmlSelectElement>() {
         s.value()
+    } else if let Some(t) = el.dyn_ref::<HtmlTextAreaElement>() {
+        t.value()
     } else {
         String::new()
     }
@@ -46,21 +57,38 @@ fn set_control_text(el: &Element, text: &str) {
         } else {
             s.set_value(text);
         }
+    } else if let Some(t) = el.dyn_ref::<HtmlTextAreaElement>() {
+        t.set_value(text);
     }
 }
 
-/// The light kind the form shows now.
-fn current_light_kind() -> String {
-    light_kind_select().map_or_else(String::new, |s| s.value())
+/// Whether a box of fields belongs to the choice made now: its `data-if` names a choice's id,
+/// its `data-in` the values (space-separated) for which it belongs.
+fn box_active(box_: &Element) -> bool {
+    let choice = box_.get_attribute("data-if").unwrap_or_default();
+    let value = dom::document()
+        .and_then(|d| d.get_element_by_id(&choice))
+        .map(|el| control_text(&el))
+        .unwrap_or_default();
+    box_.get_attribute("data-in")
+        .unwrap_or_default()
+        .split_whitespace()
+        .any(|v| v == value)
 }
 
-/// Whether a control belongs to a light kind other than the chosen one.
-fn in_other_light_kind(el: &Element, kind: &str) -> bool {
-    el.closest("[data-light-kind]")
-        .ok()
-        .flatten()
-        .and_then(|box_| box_.get_attribute("data-light-kind"))
-        .is_some_and(|k| k != kind)
+/// Whether a control sits in a box (or a box within a box) of a choice not made now.
+fn in_inactive_box(el: &Element) -> bool {
+    let mut here = el.parent_element();
+    while let Some(node) = here {
+        let Some(box_) = node.closest("[data-if]").ok().flatten() else {
+            return false;
+        };
+        if !box_active(&box_) {
+            return true;
+        }
+        here = box_.parent_element();
+    }
+    false
 }
 
 /// The box for scenario keys the form has no field for (other light kinds, spectra, background
@@ -69,20 +97,61 @@ fn extra_box() -> Option<HtmlTextAreaElement> {
     dom::by_id_as::<HtmlTextAreaElement>("extra-json")
 }
 
-/// The scenario the form describes now, as JSON (possibly invalid: the engine judges it), or
-/// the problem with the extra keys' JSON text, in the engine's words.
-pub fn read(form: &Element) -> Result<Value, Vec<Problem>> {
-    let mut root = read_fields(form);
+/// The scenario the form describes, with the problems of pasted lists that the form found
+/// itself (lines that are not two numbers), and for each pasted list the line of each point.
+pub struct FormScenario {
+    /// The scenario as JSON (possibly invalid: the engine judges it). Lines that are not two
+    /// numbers are left out of their list, so the engine still checks the others.
+    pub value: Value,
+    /// Lines that are not two numbers, each at its list's path.
+    pub own_problems: Vec<Problem>,
+    /// (list path, line of each point).
+    lines: Vec<(String, Vec<usize>)>,
+}
+
+impl FormScenario {
+    /// The engine's problems, with a point of a pasted list (`light.spectrum.points[3]`) put at
+    /// the list's field and named by its line.
+    #[must_use]
+    pub fn at_lines(&self, problems: &[Problem]) -> Vec<Problem> {
+        problems
+            .iter()
+            .map(|p| {
+                let line = fields::split_index(&p.path).and_then(|(list, i)| {
+                    self.lines
+                        .iter()
+                        .find(|(path, _)| path == list)
+                        .and_then(|(path, lines)| Some((path, *lines.get(i)?)))
+                });
+                match line {
+                    Some((path, n)) => Problem {
+                        path: path.clone(),
+                        message: format!("line {n}: {}", p.message),
+                    },
+                    None => p.clone(),
+                }
+            })
+            .collect()
+    }
+}
+
+/// The scenario the form describes now, or the problem with the extra keys' JSON text, in the
+/// engine's words.
+pub fn read(form: &Element) -> Result<FormScenario, Vec<Problem>> {
+    let mut read = read_fields(form);
     let extra_text = extra_box().map(|t| t.value()).unwrap_or_default();
     if !extra_text.trim().is_empty() {
         match serde_json::from_str::<Value>(&extra_text) {
-            Ok(Value::Object(extra)) => fields::merge_missing(&mut root, &extra),
+            Ok(Value::Object(extra)) => {
+                if let Value::Object(root) = &mut read.value {
+                    fields::merge_missing(root, &extra);
+                }
+            }
             Ok(_) => {
                 return Err(vec![Problem {
                     path: EXTRA_PATH.into(),
-                    message:
-                        "must be a JSON object of scenario keys, like {\"background_light\": {…}}"
-                            .into(),
+                    message: "must be a JSON object of scenario keys, like {\"x_note\": \"…\"}"
+                        .into(),
                 }])
             }
             Err(_) => {
@@ -101,21 +170,37 @@ pub fn read(form: &Element) -> Result<Value, Vec<Problem>> {
             }
         }
     }
-    Ok(Value::Object(root))
+    Ok(read)
 }
 
 /// `data-path` of the extra keys' field.
 const EXTRA_PATH: &str = "extra";
 
-fn read_fields(form: &Element) -> Map<String, Value> {
-    let kind = current_light_kind();
+fn read_fields(form: &Element) -> FormScenario {
     let mut root = Map::new();
+    let mut own_problems = Vec::new();
+    let mut lines = Vec::new();
     root.insert("version".into(), Value::from(FORMAT_VERSION));
     for (path, el) in named_controls(form) {
-        if in_other_light_kind(&el, &kind) {
+        if in_inactive_box(&el) {
             continue;
         }
-        let k = if el.get_attribute("data-kind").as_deref() == Some("text")
+        let data_kind = el.get_attribute("data-kind");
+        if data_kind.as_deref() == Some("pairs") {
+            let text = control_text(&el);
+            if text.trim().is_empty() {
+                continue;
+            }
+            let pairs = fields::parse_pairs(&text);
+            own_problems.extend(pairs.problems.iter().map(|p| Problem {
+                path: path.clone(),
+                message: p.to_string(),
+            }));
+            fields::insert_at(&mut root, &path, Value::Array(pairs.list));
+            lines.push((path, pairs.lines));
+            continue;
+        }
+        let k = if data_kind.as_deref() == Some("text")
             || el.dyn_ref::<HtmlSelectElement>().is_some()
         {
             Kind::Text
@@ -130,7 +215,11 @@ fn read_fields(form: &Element) -> Map<String, Value> {
     // names the light rather than a missing object.
     root.entry("light")
         .or_insert_with(|| Value::Object(Map::new()));
-    root
+    FormScenario {
+        value: Value::Object(root),
+        own_problems,
+        lines,
+    }
 }
 
 /// Fill every field from a scenario that the engine has accepted; keys without a field go,
@@ -138,11 +227,19 @@ fn read_fields(form: &Element) -> Map<String, Value> {
 pub fn fill(form: &Element, scenario: &Value) {
     let controls = named_controls(form);
     for (path, el) in &controls {
-        set_control_text(el, &fields::text_for(fields::value_at(scenario, path)));
+        let value = fields::value_at(scenario, path);
+        let text = if el.get_attribute("data-kind").as_deref() == Some("pairs") {
+            fields::pairs_text(value)
+        } else {
+            fields::text_for(value)
+        };
+        set_control_text(el, &text);
     }
-    if let Some(select) = light_kind_select() {
-        // An empty choice: the light is of a kind given in the extra keys.
-        select.set_value(fields::light_kind_of(scenario).unwrap_or(""));
+    for (select, object) in light_kind_selects() {
+        if let Some(select) = select {
+            // No light there: the empty choice ("none" for the background light).
+            select.set_value(fields::light_kind_of(scenario, object).unwrap_or(""));
+        }
     }
     let names: Vec<String> = controls.into_iter().map(|(p, _)| p).collect();
     if let Some(b) = extra_box() {
@@ -151,15 +248,13 @@ pub fn fill(form: &Element, scenario: &Value) {
             .unwrap_or_default();
         b.set_value(&rest);
     }
-    show_light_kind(form);
+    show_chosen(form);
 }
 
-/// Show the fields of the chosen light kind and hide the others (their text is kept).
-pub fn show_light_kind(form: &Element) {
-    let kind = current_light_kind();
-    for box_ in dom::all(form, "[data-light-kind]") {
-        let mine = box_.get_attribute("data-light-kind").as_deref() == Some(kind.as_str());
-        dom::set_hidden(&box_, !mine);
+/// Show the boxes of the choices made and hide the others (their text is kept).
+pub fn show_chosen(form: &Element) {
+    for box_ in dom::all(form, "[data-if]") {
+        dom::set_hidden(&box_, !box_active(&box_));
     }
 }
 
@@ -182,10 +277,15 @@ pub fn show_problems(form: &Element, problems: &[Problem]) {
     let general = dom::by_id("form-problems");
     let has_extra = extra_box().is_some_and(|b| !b.value().trim().is_empty());
     let fields = dom::all(form, ".field[data-path]");
+    // A field stands for its own path and for those in its `data-also` (a choice's object).
     let field_at = |path: &str| {
         fields
             .iter()
-            .find(|f| f.get_attribute("data-path").as_deref() == Some(path))
+            .find(|f| {
+                f.get_attribute("data-path").as_deref() == Some(path)
+                    || f.get_attribute("data-also")
+                        .is_some_and(|a| a.split_whitespace().any(|p| p == path))
+            })
             .cloned()
     };
     for p in problems {
@@ -206,7 +306,10 @@ pub fn show_problems(form: &Element, problems: &[Problem]) {
                     dom::set_attr(&control, "aria-invalid", "true");
                 }
                 let before = slot.text_content().unwrap_or_default();
-                let own = field.get_attribute("data-path").as_deref() == Some(p.path.as_str());
+                let own = field.get_attribute("data-path").as_deref() == Some(p.path.as_str())
+                    || field
+                        .get_attribute("data-also")
+                        .is_some_and(|a| a.split_whitespace().any(|q| q == p.path));
                 let message = if own {
                     p.message.clone()
                 } else {

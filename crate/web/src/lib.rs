@@ -7,6 +7,7 @@
 pub mod address;
 pub mod demos;
 pub mod fields;
+pub mod plot;
 
 #[cfg(target_arch = "wasm32")]
 pub mod app;

@@ -69,6 +69,7 @@ fn write_figure(el: &Element, v: Option<&Value>) {
         Some(Value::Number(n)) => n.as_f64().map(display::full),
         Some(Value::Bool(b)) => Some(b.to_string()),
         Some(Value::String(s)) => Some(s.clone()),
+        Some(Value::Array(items)) => Some(list_value(items)),
         _ => Some(NULL_VALUE.to_string()),
     };
     if wanted.is_some() && el.get_attribute("data-value") == wanted {
@@ -93,22 +94,43 @@ fn write_figure(el: &Element, v: Option<&Value>) {
             let word = if *b { "yes" } else { "no" };
             (b.to_string(), word.to_string())
         }
+        Some(Value::String(s)) if fmt == "text" => (s.clone(), s.clone()),
         Some(Value::String(s)) => (s.clone(), words(s)),
+        // A range such as the response band: "380–780 nm".
+        Some(Value::Array(items)) => {
+            let shown: Vec<String> = items
+                .iter()
+                .map(|i| {
+                    i.as_f64()
+                        .map_or_else(|| i.to_string(), |x| display::rounded(x, Style::Number))
+                })
+                .collect();
+            (list_value(items), format!("{}{unit}", shown.join("–")))
+        }
         _ => (NULL_VALUE.to_string(), NO_FIGURE.to_string()),
     };
     dom::set_attr(el, "data-value", &data);
     el.set_text_content(Some(&text));
 }
 
+/// `data-value` of a list (as JavaScript's `String(list)` writes it: items joined by commas).
+fn list_value(items: &[Value]) -> String {
+    items
+        .iter()
+        .map(|i| i.as_f64().map_or_else(|| i.to_string(), display::full))
+        .collect::<Vec<_>>()
+        .join(",")
+}
+
 /// Label and unit for a key of a report's `light_units`, named after the light given.
 fn light_unit(key: &str) -> (&'static str, &'static str) {
     match key {
-        "illuminance_lux" => ("at the sensor", " lx"),
-        "irradiance_w_per_m2" => ("at the sensor", " W/m²"),
-        "photon_flux_per_um2_s" => ("at the sensor", " photons/(µm²·s)"),
-        "photons_per_pixel" => ("per pixel", " photons"),
-        "scene_illuminance_lux" => ("on the scene", " lx"),
-        "scene_irradiance_w_per_m2" => ("on the scene", " W/m²"),
+        "illuminance_lux" => ("illuminance at the sensor", " lx"),
+        "irradiance_w_per_m2" => ("irradiance at the sensor", " W/m²"),
+        "photon_flux_per_um2_s" => ("photon flux at the sensor", " photons/(µm²·s)"),
+        "photons_per_pixel" => ("photons per pixel", " photons"),
+        "scene_illuminance_lux" => ("illuminance on the scene", " lx"),
+        "scene_irradiance_w_per_m2" => ("irradiance on the scene", " W/m²"),
         "scene_luminance_cd_per_m2" => ("scene luminance", " cd/m²"),
         "scene_radiance_w_per_m2_sr" => ("scene radiance", " W/(m²·sr)"),
         _ => ("", ""),
@@ -142,7 +164,7 @@ fn show_light_units(list: &Element, report: &Value) {
             place
         };
         let row = dom::new_element("div", "");
-        let dt = dom::new_element("dt", &format!("{label}, {place}"));
+        let dt = dom::new_element("dt", &format!("{label} {place}"));
         let dd = dom::new_element("dd", "");
         if let (Some(row), Some(dt), Some(dd)) = (row, dt, dd) {
             dom::set_attr(&dd, "data-report", &format!("{path}.{key}"));
