@@ -49,7 +49,7 @@ function noiseBudgetBytes(b64) {
   return bytes;
 }
 __wbg_init({ module_or_path: noiseBudgetBytes(NOISE_BUDGET_WASM) }).then(
-  () => { window.wasmBindings = { evaluate, version, time_pair_stats_ms }; },
+  () => { window.wasmBindings = { evaluate, version }; },
   (err) => {
     const el = document.getElementById('boot-status');
     if (el) {

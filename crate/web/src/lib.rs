@@ -18,8 +18,6 @@ pub mod dom;
 #[cfg(target_arch = "wasm32")]
 mod form;
 #[cfg(target_arch = "wasm32")]
-mod frames_ui;
-#[cfg(target_arch = "wasm32")]
 mod results;
 #[cfg(target_arch = "wasm32")]
 mod store;
@@ -32,7 +30,6 @@ use wasm_bindgen::prelude::*;
 #[wasm_bindgen(start)]
 pub fn start() {
     app::mount();
-    frames_ui::mount();
 }
 
 /// Evaluate a scenario (JSON text) and return the report as a JavaScript object, with `null`
@@ -57,13 +54,4 @@ pub fn evaluate(scenario_json: &str) -> Result<JsValue, JsError> {
 #[must_use]
 pub fn version() -> String {
     env!("CARGO_PKG_VERSION").to_string()
-}
-
-/// The best time, in milliseconds, of `repeats` frame-pair statistics passes over two synthetic
-/// 16-bit frames of `width` × `height` made in wasm memory; for `scripts/measure-frames.mjs`.
-#[cfg(target_arch = "wasm32")]
-#[wasm_bindgen]
-#[must_use]
-pub fn time_pair_stats_ms(width: u32, height: u32, repeats: u32) -> f64 {
-    frames_ui::time_pair_stats_ms(width, height, repeats)
 }

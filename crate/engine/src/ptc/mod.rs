@@ -8,10 +8,9 @@
 //!
 //! Code map: `pair.rs` the exact integer pass over a frame pair (the hot loop); `stack.rs` one
 //! stack; `fit.rs` straight-line fits with uncertainties; `formulas.rs` the standard's
-//! closed-form steps with their sources; `analysis.rs` the method, step by step; `curve.rs` plot-ready series of a result.
+//! closed-form steps with their sources; `analysis.rs` the method, step by step.
 
 mod analysis;
-mod curve;
 mod fit;
 mod formulas;
 mod pair;
@@ -22,7 +21,6 @@ pub use analysis::{
     LinearityFit, MeasuredSensor, NonUniformityFit, PtcPoint, ReadNoiseFit, ResponsivityFit,
     SaturationFit, GAIN_FIT_MAX_FRACTION, LINEARITY_RANGE_FRACTION, PRNU_FRACTION,
 };
-pub use curve::{curve_series, CurvePoint, CurveSeries};
 pub use fit::{fit_line, LineFit};
 pub use formulas::{
     dark_current_e_per_s, dark_current_from_variance_e_per_s, dsnu_e, linearity_error_percent,
