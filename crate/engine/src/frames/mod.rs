@@ -51,18 +51,7 @@ impl Frame {
                 bits: u32::from(sample_bits),
             });
         }
-        let got = pixels.len() as u64;
-        if got < n {
-            return Err(FrameError::Truncated {
-                needed_bytes: n,
-                got_bytes: got,
-            });
-        }
-        if got > n {
-            return Err(FrameError::TrailingBytes {
-                extra_bytes: got - n,
-            });
-        }
+        check_exact_len(n, pixels.len() as u64)?;
         if sample_bits == 8 {
             if let Some((i, v)) = pixels.iter().enumerate().find(|(_, v)| **v > 255) {
                 let (x, y) = xy(i, width);
@@ -374,6 +363,23 @@ pub(crate) fn check_size(width: u64, height: u64) -> Result<u64, FrameError> {
         Some(n) if n <= MAX_PIXELS => Ok(n),
         _ => Err(FrameError::TooLarge { width, height }),
     }
+}
+
+/// Check that exactly `needed` units (bytes or samples) are present: fewer is `Truncated`,
+/// more is `TrailingBytes`.
+pub(crate) fn check_exact_len(needed: u64, got: u64) -> Result<(), FrameError> {
+    if got < needed {
+        return Err(FrameError::Truncated {
+            needed_bytes: needed,
+            got_bytes: got,
+        });
+    }
+    if got > needed {
+        return Err(FrameError::TrailingBytes {
+            extra_bytes: got - needed,
+        });
+    }
+    Ok(())
 }
 
 /// Column and row of the `i`-th sample of a frame `width` wide.

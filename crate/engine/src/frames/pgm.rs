@@ -8,7 +8,7 @@
 //! each when maxval < 256, else two bytes, most significant first. `#` starts a comment that runs
 //! to the end of the line, anywhere in the header before maxval.
 
-use super::{check_max, check_size, from_be16, Frame, FrameError};
+use super::{check_exact_len, check_max, check_size, from_be16, Frame, FrameError};
 
 const FORMAT: &str = "pgm";
 
@@ -108,18 +108,7 @@ pub(super) fn decode(bytes: &[u8]) -> Result<Frame, FrameError> {
     let bytes_per_sample: u64 = if h.maxval < 256 { 1 } else { 2 };
     let needed = n * bytes_per_sample; // ≤ 2^29: no overflow
     let data = bytes.get(h.data_start..).unwrap_or_default();
-    let got = data.len() as u64;
-    if got < needed {
-        return Err(FrameError::Truncated {
-            needed_bytes: needed,
-            got_bytes: got,
-        });
-    }
-    if got > needed {
-        return Err(FrameError::TrailingBytes {
-            extra_bytes: got - needed,
-        });
-    }
+    check_exact_len(needed, data.len() as u64)?;
     // OK because check_size bounded width and height by MAX_PIXELS = 2^28.
     #[allow(clippy::cast_possible_truncation)]
     let (width, height) = (h.width as u32, h.height as u32);

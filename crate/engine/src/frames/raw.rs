@@ -4,7 +4,7 @@
 //! geometry from the file size, and reads no other sample layout (no 8-bit, big-endian or
 //! packed 10/12-bit raw).
 
-use super::{check_max, check_size, from_le16, Frame, FrameError};
+use super::{check_exact_len, check_max, check_size, from_le16, Frame, FrameError};
 
 /// The geometry of a raw frame, which the file itself does not carry.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -27,18 +27,7 @@ pub(super) fn decode(bytes: &[u8], g: RawGeometry) -> Result<Frame, FrameError> 
     }
     let n = check_size(u64::from(g.width), u64::from(g.height))?;
     let needed = 2 * n;
-    let got = bytes.len() as u64;
-    if got < needed {
-        return Err(FrameError::Truncated {
-            needed_bytes: needed,
-            got_bytes: got,
-        });
-    }
-    if got > needed {
-        return Err(FrameError::TrailingBytes {
-            extra_bytes: got - needed,
-        });
-    }
+    check_exact_len(needed, bytes.len() as u64)?;
     let pixels = from_le16(bytes);
     // OK because bits ≤ 16, so 2^bits − 1 ≤ 65535.
     #[allow(clippy::cast_possible_truncation)]
