@@ -26,6 +26,7 @@ const cssName = files.find((f) => /^style-[0-9a-f]+\.css$/.test(f));
 if (!cssName) fail(`no style-*.css in ${dist}`);
 
 const wasm = readFileSync(join(dist, wasmName));
+const wasmGz = gzipSync(wasm, { level: 9 });
 const css = readFileSync(join(dist, cssName), 'utf8');
 let html = readFileSync(join(dist, 'index.html'), 'utf8');
 
@@ -39,8 +40,10 @@ if (!/\bfunction __wbg_init\b|\b__wbg_init\s*=/.test(glue)) fail(`${glueName} ha
 
 const app = `${glue}
 // ---- noise-budget start-up (scripts/single-file.mjs) ----
-// The wasm is embedded so the page makes no request for it (the CSP forbids fetching).
-const NOISE_BUDGET_WASM = "${wasm.toString('base64')}";
+// The wasm is embedded so the page makes no request for it (the CSP forbids fetching), as the
+// base64 of its gzip: base64 of raw wasm compresses badly, so this keeps the file smaller; the
+// browser inflates it with DecompressionStream (no request: a Blob's stream, not a fetch).
+const NOISE_BUDGET_WASM_GZ = "${wasmGz.toString('base64')}";
 function noiseBudgetBytes(b64) {
   if (typeof Uint8Array.fromBase64 === 'function') return Uint8Array.fromBase64(b64);
   const text = atob(b64);
@@ -48,7 +51,14 @@ function noiseBudgetBytes(b64) {
   for (let i = 0; i < text.length; i++) bytes[i] = text.charCodeAt(i);
   return bytes;
 }
-__wbg_init({ module_or_path: noiseBudgetBytes(NOISE_BUDGET_WASM) }).then(
+async function noiseBudgetInflate(b64) {
+  if (typeof DecompressionStream !== 'function') {
+    throw new Error('this browser has no DecompressionStream (Chrome 80, Firefox 113, Safari 16.4 or newer needed)');
+  }
+  const stream = new Blob([noiseBudgetBytes(b64)]).stream().pipeThrough(new DecompressionStream('gzip'));
+  return new Response(stream).arrayBuffer();
+}
+noiseBudgetInflate(NOISE_BUDGET_WASM_GZ).then((wasmBytes) => __wbg_init({ module_or_path: wasmBytes })).then(
   () => { window.wasmBindings = { evaluate, version }; },
   (err) => {
     const el = document.getElementById('boot-status');
