@@ -8,7 +8,9 @@
 //! This crate does no I/O and knows nothing of the DOM, the terminal or files: it builds for
 //! native targets and for `wasm32-unknown-unknown` alike. It never panics on input.
 
+pub mod compare;
 pub mod constants;
+pub mod curves;
 pub mod dark;
 pub mod demos;
 pub mod frames;

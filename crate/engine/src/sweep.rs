@@ -323,6 +323,9 @@ pub const CSV_COLUMNS: &[(&str, &str, Getter)] = &[
     ("variance_share.dark_shot", "fraction", |r| {
         Some(r.variance_share.dark_shot)
     }),
+    ("variance_share.background_shot", "fraction", |r| {
+        Some(r.variance_share.background_shot)
+    }),
     ("variance_share.read", "fraction", |r| {
         Some(r.variance_share.read)
     }),
@@ -374,7 +377,7 @@ pub fn to_csv(sweep: &Sweep) -> String {
     out
 }
 
-fn csv_row(fields: &[String]) -> String {
+pub(crate) fn csv_row(fields: &[String]) -> String {
     let mut line = fields
         .iter()
         .map(|f| {
@@ -434,7 +437,7 @@ fn light_has(light: &Light, key: &str) -> bool {
 }
 
 /// A copy of the scenario JSON with `key` (a dot path) set to `value`.
-fn with_key(base: &Value, key: &str, value: f64) -> Value {
+pub(crate) fn with_key(base: &Value, key: &str, value: f64) -> Value {
     let mut v = base.clone();
     let mut cur = &mut v;
     let mut parts = key.split('.').peekable();

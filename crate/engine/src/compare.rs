@@ -1,0 +1,238 @@
+//! Side-by-side comparison: the key figures of several reports and their differences from the
+//! first, and the comparison as CSV text (RFC 4180).
+//!
+//! Figures are copied from the reports; a difference is a subtraction (for figures in dB, that
+//! is the ratio in dB) and a ratio a division, nothing else.
+
+use serde::Serialize;
+
+use crate::report::Report;
+use crate::sweep::Getter;
+
+/// How a difference is best read for a figure.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Change {
+    /// As a ratio to the first (and a difference): most figures.
+    Ratio,
+    /// As a difference only: figures in dB (whose difference is already a ratio) and fractions.
+    Difference,
+}
+
+/// The figures compared: report dot path, label, unit, how a change reads, getter.
+pub const FIGURES: &[(&str, &str, &str, Change, Getter)] = &[
+    ("snr.total", "SNR, total", "ratio", Change::Ratio, |r| {
+        Some(r.snr.total)
+    }),
+    (
+        "snr.total_db",
+        "SNR, total",
+        "dB",
+        Change::Difference,
+        |r| r.snr.total_db,
+    ),
+    (
+        "snr.temporal",
+        "SNR, temporal",
+        "ratio",
+        Change::Ratio,
+        |r| Some(r.snr.temporal),
+    ),
+    ("signal_e", "signal", "e-", Change::Ratio, |r| {
+        Some(r.signal_e)
+    }),
+    (
+        "noise_e.temporal",
+        "temporal noise",
+        "e- rms",
+        Change::Ratio,
+        |r| Some(r.noise_e.temporal),
+    ),
+    (
+        "noise_e.total",
+        "total noise",
+        "e- rms",
+        Change::Ratio,
+        |r| Some(r.noise_e.total),
+    ),
+    ("dark_e", "dark charge", "e-", Change::Ratio, |r| {
+        Some(r.dark_e)
+    }),
+    (
+        "min_detectable.signal_e",
+        "smallest detectable signal",
+        "e-",
+        Change::Ratio,
+        |r| Some(r.min_detectable.signal_e),
+    ),
+    (
+        "min_detectable.photons_per_pixel",
+        "smallest detectable signal",
+        "photons",
+        Change::Ratio,
+        |r| Some(r.min_detectable.photons_per_pixel),
+    ),
+    (
+        "exposure_for_threshold_s",
+        "exposure to reach the threshold",
+        "s",
+        Change::Ratio,
+        |r| r.exposure_for_threshold_s,
+    ),
+    (
+        "saturation.level_e",
+        "usable level",
+        "e-",
+        Change::Ratio,
+        |r| Some(r.saturation.level_e),
+    ),
+    (
+        "saturation.fill_fraction",
+        "pixel filled to",
+        "fraction",
+        Change::Difference,
+        |r| Some(r.saturation.fill_fraction),
+    ),
+    (
+        "dynamic_range.db",
+        "dynamic range",
+        "dB",
+        Change::Difference,
+        |r| r.dynamic_range.db,
+    ),
+    (
+        "max_snr",
+        "best SNR, at saturation",
+        "ratio",
+        Change::Ratio,
+        |r| r.max_snr,
+    ),
+];
+
+/// One figure across the scenarios compared.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Row {
+    /// Report dot path of the figure.
+    pub key: &'static str,
+    /// Its label.
+    pub label: &'static str,
+    /// Its unit.
+    pub unit: &'static str,
+    /// How a change is best read.
+    pub change: Change,
+    /// The figure in each scenario (`None` where it does not exist).
+    pub values: Vec<Option<f64>>,
+    /// Each scenario's value minus the first's (`None` for the first, or where either is
+    /// missing).
+    pub differences: Vec<Option<f64>>,
+    /// Each scenario's value divided by the first's (`None` for the first, where either is
+    /// missing, where the first is zero, or for [`Change::Difference`] figures).
+    pub ratios: Vec<Option<f64>>,
+}
+
+/// The comparison of `reports` (the first is the reference), one row per figure of [`FIGURES`].
+#[must_use]
+pub fn rows(reports: &[&Report]) -> Vec<Row> {
+    FIGURES
+        .iter()
+        .map(|&(key, label, unit, change, get)| {
+            let values: Vec<Option<f64>> = reports.iter().map(|r| get(r)).collect();
+            let first = values.first().copied().flatten();
+            let differences = values
+                .iter()
+                .enumerate()
+                .map(|(i, v)| match (i, first, v) {
+                    (0, _, _) => None,
+                    (_, Some(a), Some(b)) => Some(b - a),
+                    _ => None,
+                })
+                .collect();
+            let ratios = values
+                .iter()
+                .enumerate()
+                .map(|(i, v)| match (i, change, first, v) {
+                    (0, _, _, _) | (_, Change::Difference, _, _) => None,
+                    (_, Change::Ratio, Some(a), Some(b)) if a != 0.0 => Some(b / a),
+                    _ => None,
+                })
+                .collect();
+            Row {
+                key,
+                label,
+                unit,
+                change,
+                values,
+                differences,
+                ratios,
+            }
+        })
+        .collect()
+}
+
+/// The comparison as CSV (RFC 4180: CRLF line ends, a header row, fields quoted where
+/// needed). Columns: the figure's key and label, its unit, one column of values per scenario
+/// (headed by its name), then for each scenario after the first its difference from the first
+/// and its ratio to it. A figure that does not exist is an empty field.
+#[must_use]
+pub fn to_csv(names: &[&str], reports: &[&Report]) -> String {
+    let first = names.first().copied().unwrap_or("first");
+    let mut header: Vec<String> = vec!["figure".into(), "label".into(), "unit".into()];
+    header.extend(names.iter().map(|n| (*n).to_string()));
+    for n in names.iter().skip(1) {
+        header.push(format!("{n} minus {first}"));
+        header.push(format!("{n} / {first}"));
+    }
+    let mut out = crate::sweep::csv_row(&header);
+    for row in rows(reports) {
+        let mut fields: Vec<String> = vec![row.key.into(), row.label.into(), row.unit.into()];
+        let num = |v: Option<f64>| v.map(|x| format!("{x}")).unwrap_or_default();
+        fields.extend(row.values.iter().map(|v| num(*v)));
+        for i in 1..row.values.len() {
+            fields.push(num(row.differences.get(i).copied().flatten()));
+            fields.push(num(row.ratios.get(i).copied().flatten()));
+        }
+        out.push_str(&crate::sweep::csv_row(&fields));
+    }
+    out
+}
+
+#[cfg(test)]
+#[allow(
+    clippy::unwrap_used,
+    clippy::expect_used,
+    clippy::indexing_slicing,
+    clippy::panic
+)]
+mod tests {
+    use super::{rows, to_csv, Change};
+    use crate::demos::DEMOS;
+    use crate::evaluate_json;
+
+    #[test]
+    fn differences_and_ratios_are_taken_from_the_first() {
+        let a = evaluate_json(DEMOS[0].json).unwrap();
+        let b = evaluate_json(DEMOS[1].json).unwrap();
+        let rows = rows(&[&a, &b]);
+        let snr = rows.iter().find(|r| r.key == "snr.total").unwrap();
+        assert_eq!(snr.values, vec![Some(a.snr.total), Some(b.snr.total)]);
+        assert_eq!(snr.differences, vec![None, Some(b.snr.total - a.snr.total)]);
+        assert_eq!(snr.ratios, vec![None, Some(b.snr.total / a.snr.total)]);
+        let db = rows.iter().find(|r| r.key == "snr.total_db").unwrap();
+        assert_eq!(db.change, Change::Difference);
+        assert_eq!(db.ratios, vec![None, None]);
+    }
+
+    #[test]
+    fn csv_has_one_row_a_figure_and_quotes_names() {
+        let a = evaluate_json(DEMOS[0].json).unwrap();
+        let b = evaluate_json(DEMOS[1].json).unwrap();
+        let csv = to_csv(&["A, cooled", "B"], &[&a, &b]);
+        let lines: Vec<&str> = csv.split_terminator("\r\n").collect();
+        assert_eq!(lines.len(), 1 + super::FIGURES.len());
+        assert_eq!(
+            lines[0],
+            "figure,label,unit,\"A, cooled\",B,\"B minus A, cooled\",\"B / A, cooled\""
+        );
+        assert!(lines[1].starts_with("snr.total,\"SNR, total\",ratio,"));
+    }
+}
