@@ -13,11 +13,10 @@ use serde_json::Value;
 use wasm_bindgen::closure::Closure;
 use wasm_bindgen::{JsCast, JsValue};
 use web_sys::{
-    Blob, BlobPropertyBag, Element, Event, EventTarget, HtmlAnchorElement, HtmlButtonElement,
-    HtmlInputElement, HtmlSelectElement, Url,
+    Element, Event, EventTarget, HtmlButtonElement, HtmlInputElement, HtmlSelectElement,
 };
 
-use crate::{address, demos, dom, form, plot, results, store};
+use crate::{address, curves, demos, dom, form, plot, results, store};
 
 /// Delay before the address bar and the browser's store follow an edit: edits in quick
 /// succession are written once (browsers throttle frequent `history.replaceState` calls).
@@ -55,7 +54,7 @@ pub fn mount() {
     }
 }
 
-fn on(target: &EventTarget, kind: &str, handler: impl FnMut(Event) + 'static) {
+pub(crate) fn on(target: &EventTarget, kind: &str, handler: impl FnMut(Event) + 'static) {
     let cb = Closure::<dyn FnMut(Event)>::new(handler);
     let _ = target.add_event_listener_with_callback(kind, cb.as_ref().unchecked_ref());
     // The listener lives as long as the page.
@@ -99,6 +98,7 @@ fn wire(form_el: &Element) {
     on_id("keep-scenario", "click", |_| keep_scenario());
     on_id("load-saved", "click", |_| load_kept());
     on_id("forget-saved", "click", |_| forget_kept());
+    curves::wire();
     if !WINDOW_WIRED.with(Cell::get) {
         WINDOW_WIRED.with(|w| w.set(true));
         if let Some(w) = dom::window() {
@@ -173,8 +173,10 @@ pub fn recompute() {
             let report = engine::evaluate(&valid);
             results::show(&report);
             plot::show(&valid);
+            curves::show(&read.value, &report);
             FORM_VALID.with(|v| v.set(true));
-            LAST_GOOD.with(|g| *g.borrow_mut() = Some(read.value));
+            // The pins travel with the scenario (link, store, saved and kept files).
+            LAST_GOOD.with(|g| *g.borrow_mut() = Some(curves::with_pins(read.value)));
             update_share_link();
             schedule_follow();
             if !FIRST_SHOWN.with(Cell::get) {
@@ -273,11 +275,32 @@ fn load_text(text: &str, source: &str) -> bool {
     ) else {
         return false;
     };
+    let (value, pin_problems) = curves::take_pins(value);
     form::fill(&form_el, &value);
     recompute();
     follow_now();
     status(&format!("Showing {source}."));
+    if !pin_problems.is_empty() {
+        show_load_problems(
+            &format!("all the pinned scenarios of {source}"),
+            &pin_problems,
+        );
+    }
     true
+}
+
+/// Load a scenario given as a JSON value (a pinned one) into the form.
+pub(crate) fn load_value(value: &Value, source: &str) {
+    clear_load_problems();
+    load_text(&value.to_string(), source);
+}
+
+/// The scenario on screen when the form is valid (without its pins).
+pub(crate) fn valid_scenario() -> Option<Value> {
+    if !FORM_VALID.with(Cell::get) {
+        return None;
+    }
+    LAST_GOOD.with(|g| g.borrow().clone())
 }
 
 fn load_initial() {
@@ -448,30 +471,14 @@ fn save_file() {
     let Ok(text) = serde_json::to_string_pretty(&scenario) else {
         return;
     };
-    let parts = js_sys::Array::of1(&JsValue::from_str(&format!("{text}\n")));
-    let opts = BlobPropertyBag::new();
-    opts.set_type("application/json");
-    let Ok(blob) = Blob::new_with_str_sequence_and_options(&parts, &opts) else {
-        status("This browser refused to make the file.");
-        return;
-    };
-    let Ok(url) = Url::create_object_url_with_blob(&blob) else {
-        status("This browser refused to make the file.");
-        return;
-    };
-    let anchor = dom::document()
-        .and_then(|d| d.create_element("a").ok())
-        .and_then(|a| a.dyn_into::<HtmlAnchorElement>().ok());
-    if let Some(a) = anchor {
-        let name = file_name(&scenario);
-        a.set_href(&url);
-        a.set_download(&name);
-        a.click();
+    let name = file_name(&scenario);
+    if dom::download(&name, "application/json", &format!("{text}\n")) {
         status(&format!(
             "Saved as {name} (in your downloads). Open it here or with `noise-budget eval`."
         ));
+    } else {
+        status("This browser refused to make the file.");
     }
-    let _ = Url::revoke_object_url(&url);
 }
 
 fn open_file() {

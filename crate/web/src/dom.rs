@@ -95,3 +95,30 @@ pub fn new_element(tag: &str, text: &str) -> Option<Element> {
     el.set_text_content(Some(text));
     Some(el)
 }
+
+/// Offer `text` as a file download named `name`. Returns whether the browser took it.
+pub fn download(name: &str, mime: &str, text: &str) -> bool {
+    let parts = js_sys::Array::of1(&wasm_bindgen::JsValue::from_str(text));
+    let opts = web_sys::BlobPropertyBag::new();
+    opts.set_type(mime);
+    web_sys::Blob::new_with_str_sequence_and_options(&parts, &opts)
+        .is_ok_and(|blob| download_blob(name, &blob))
+}
+
+/// Offer a blob as a file download named `name`. Returns whether the browser took it.
+pub fn download_blob(name: &str, blob: &web_sys::Blob) -> bool {
+    let Ok(url) = web_sys::Url::create_object_url_with_blob(blob) else {
+        return false;
+    };
+    let anchor = document()
+        .and_then(|d| d.create_element("a").ok())
+        .and_then(|a| a.dyn_into::<web_sys::HtmlAnchorElement>().ok());
+    let done = anchor.is_some_and(|a| {
+        a.set_href(&url);
+        a.set_download(name);
+        a.click();
+        true
+    });
+    let _ = web_sys::Url::revoke_object_url(&url);
+    done
+}

@@ -5,12 +5,15 @@
 //! `Intl.NumberFormat`. Nothing here may panic on what a user types, links or opens.
 
 pub mod address;
+pub mod chart;
 pub mod demos;
 pub mod fields;
 pub mod plot;
 
 #[cfg(target_arch = "wasm32")]
 pub mod app;
+#[cfg(target_arch = "wasm32")]
+mod curves;
 #[cfg(target_arch = "wasm32")]
 mod display;
 #[cfg(target_arch = "wasm32")]

@@ -1,0 +1,771 @@
+//! SVG line and stacked-area charts for the page's curves: log or linear axes with ticks
+//! labelled in engineering prefixes, lines, a stack of shares, shaded regions with rules,
+//! markers, a legend, and a title and description for screen readers.
+//!
+//! Drawing only: every value drawn is given by the caller (the engine's sweeps); here they are
+//! only placed on the drawing. Pure functions, tested natively. Hand-written rather than a
+//! plotting crate: this is a few hundred lines, while a general plotting library would add
+//! more to the page's wasm than the whole calculator (see DEVELOPERS.md).
+
+use std::fmt::Write as _;
+
+/// How an axis maps values to positions.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Scale {
+    /// Equal steps for equal differences.
+    Linear,
+    /// Equal steps for equal ratios (values must be > 0).
+    Log,
+}
+
+/// One axis: its name and unit (for labels) and the range drawn.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Axis {
+    /// What the axis shows, in words.
+    pub label: String,
+    /// Unit written after each tick value (with an engineering prefix); empty for a ratio.
+    pub unit: &'static str,
+    /// Spacing.
+    pub scale: Scale,
+    /// Value at the start (left or bottom).
+    pub lo: f64,
+    /// Value at the end (right or top).
+    pub hi: f64,
+}
+
+impl Axis {
+    /// An axis spanning `values` (non-finite values, and values ≤ 0 on a log axis, ignored),
+    /// widened to whole decades on a log axis, with `max_decades` at most below the top.
+    #[must_use]
+    pub fn fitted(
+        label: &str,
+        unit: &'static str,
+        scale: Scale,
+        values: impl IntoIterator<Item = f64>,
+        max_decades: f64,
+    ) -> Axis {
+        let usable = |v: &f64| v.is_finite() && (scale == Scale::Linear || *v > 0.0);
+        let (mut lo, mut hi) = values
+            .into_iter()
+            .filter(usable)
+            .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), v| {
+                (a.min(v), b.max(v))
+            });
+        if lo > hi {
+            (lo, hi) = if scale == Scale::Log {
+                (1.0, 10.0)
+            } else {
+                (0.0, 1.0)
+            };
+        }
+        if scale == Scale::Log {
+            hi = 10f64.powf(hi.log10().ceil());
+            lo = 10f64
+                .powf(lo.log10().floor())
+                .max(hi / 10f64.powf(max_decades));
+            if lo >= hi {
+                lo = hi / 10.0;
+            }
+        } else if lo >= hi {
+            lo -= 1.0;
+            hi += 1.0;
+        }
+        Axis {
+            label: label.to_string(),
+            unit,
+            scale,
+            lo,
+            hi,
+        }
+    }
+
+    /// Where `v` falls between the ends, 0 at `lo` and 1 at `hi` (beyond them outside 0..1;
+    /// `None` for a value a log axis cannot place).
+    #[must_use]
+    pub fn fraction(&self, v: f64) -> Option<f64> {
+        let f = match self.scale {
+            Scale::Linear => (v - self.lo) / (self.hi - self.lo),
+            Scale::Log if v > 0.0 => (v / self.lo).ln() / (self.hi / self.lo).ln(),
+            Scale::Log => return None,
+        };
+        f.is_finite().then_some(f)
+    }
+
+    /// The value at fraction `f` of the way from `lo` to `hi`.
+    #[must_use]
+    pub fn value_at(&self, f: f64) -> f64 {
+        match self.scale {
+            Scale::Linear => self.lo + f * (self.hi - self.lo),
+            Scale::Log => self.lo * (self.hi / self.lo).powf(f),
+        }
+    }
+
+    /// Whether the unit is short enough to write after every tick (else the axis name
+    /// carries it and ticks show the number with its prefix only).
+    fn unit_on_ticks(&self) -> bool {
+        self.unit.chars().count() <= 3
+    }
+
+    /// The axis name as drawn: with its unit when the ticks do not carry it.
+    #[must_use]
+    pub fn title(&self) -> String {
+        if self.unit_on_ticks() {
+            self.label.clone()
+        } else {
+            format!("{}, {}", self.label, self.unit)
+        }
+    }
+
+    /// Tick values and their labels.
+    #[must_use]
+    pub fn ticks(&self) -> Vec<(f64, String)> {
+        let unit = if self.unit_on_ticks() { self.unit } else { "" };
+        let mut out = Vec::new();
+        match self.scale {
+            Scale::Log => {
+                let (a, b) = (self.lo.log10().ceil(), self.hi.log10().floor());
+                let decades = b - a;
+                let every = if decades > 8.0 { 2.0 } else { 1.0 };
+                let mut k = a;
+                while k <= b && out.len() < 40 {
+                    let v = 10f64.powf(k);
+                    out.push((v, eng(v, unit)));
+                    if decades < 2.0 {
+                        for m in [2.0, 5.0] {
+                            let w = v * m;
+                            if w <= self.hi {
+                                out.push((w, eng(w, unit)));
+                            }
+                        }
+                    }
+                    k += every;
+                }
+            }
+            Scale::Linear => {
+                let raw = (self.hi - self.lo) / 5.0;
+                if !(raw > 0.0 && raw.is_finite()) {
+                    return out;
+                }
+                let mag = 10f64.powf(raw.log10().floor());
+                let step = [1.0, 2.0, 5.0, 10.0]
+                    .into_iter()
+                    .map(|m| m * mag)
+                    .find(|s| *s >= raw)
+                    .unwrap_or(10.0 * mag);
+                let mut v = (self.lo / step).ceil() * step;
+                while v <= self.hi + step * 1e-9 && out.len() < 40 {
+                    // Snap away the rounding left by the multiplication (−0.0000001 → 0).
+                    let snapped = (v / step).round() * step;
+                    out.push((snapped, eng(snapped, unit)));
+                    v += step;
+                }
+            }
+        }
+        out
+    }
+}
+
+/// A value with an engineering prefix and its unit: `eng(0.00025, "s")` is `250 µs`; three
+/// significant digits at most, trailing zeros dropped. A unit-less value above 1000 gets `k`,
+/// `M`; a temperature or a dB value is written plain.
+#[must_use]
+pub fn eng(v: f64, unit: &str) -> String {
+    if !v.is_finite() {
+        return "—".into();
+    }
+    let plain = unit == "°C" || unit == "dB" || unit == "%";
+    let exp3 = if v == 0.0 || plain {
+        0
+    } else {
+        // OK to truncate: a decade count of a finite non-zero double, within ±330.
+        #[allow(clippy::cast_possible_truncation)]
+        let e = (v.abs().log10() / 3.0).floor() as i32 * 3;
+        e.clamp(-15, 12)
+    };
+    let prefix = match exp3 {
+        -15 => "f",
+        -12 => "p",
+        -9 => "n",
+        -6 => "µ",
+        -3 => "m",
+        3 => "k",
+        6 => "M",
+        9 => "G",
+        12 => "T",
+        _ => "",
+    };
+    let m = v / 10f64.powi(exp3);
+    // Digits after the point for three significant digits.
+    let int_digits = if m == 0.0 {
+        1.0
+    } else {
+        m.abs().log10().floor() + 1.0
+    };
+    // OK to truncate: 0..=2.
+    #[allow(clippy::cast_possible_truncation, clippy::cast_sign_loss)]
+    let decimals = (3.0 - int_digits).clamp(0.0, 2.0) as usize;
+    let mut text = format!("{m:.decimals$}");
+    if text.contains('.') {
+        text = text.trim_end_matches('0').trim_end_matches('.').to_string();
+    }
+    if text == "-0" {
+        text = "0".into();
+    }
+    let sep = if unit.is_empty() && prefix.is_empty() {
+        ""
+    } else {
+        " "
+    };
+    format!("{text}{sep}{prefix}{unit}")
+}
+
+/// A line of the chart.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Line {
+    /// Its name in the legend.
+    pub label: String,
+    /// (x, y) in axis units, in order of x.
+    pub points: Vec<(f64, f64)>,
+    /// Stroke colour.
+    pub color: &'static str,
+    /// Dash pattern (SVG `stroke-dasharray`, drawing units), empty for a solid line.
+    pub dash: &'static str,
+    /// Whether it has an entry in the legend.
+    pub legend: bool,
+}
+
+/// A layer of a stack of shares (0..1 of the whole at each x).
+#[derive(Debug, Clone, PartialEq)]
+pub struct Layer {
+    /// Its name in the legend.
+    pub label: &'static str,
+    /// Fill colour.
+    pub color: &'static str,
+    /// Its share at each x of the stack.
+    pub shares: Vec<f64>,
+}
+
+/// A marked point (the scenario's operating point).
+#[derive(Debug, Clone, PartialEq)]
+pub struct Marker {
+    /// Position in axis units.
+    pub x: f64,
+    /// Position in axis units.
+    pub y: f64,
+    /// Colour.
+    pub color: &'static str,
+}
+
+/// A shaded region of x with a name (a noise regime), bounded by rules.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Region {
+    /// Start, in x units.
+    pub from: f64,
+    /// End, in x units.
+    pub to: f64,
+    /// Its name, written at the top of the region.
+    pub label: &'static str,
+    /// Fill colour.
+    pub color: &'static str,
+}
+
+/// A chart.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Chart {
+    /// Element id of the SVG (also prefixes the title, description and clip ids).
+    pub id: String,
+    /// Title, shown at the top and as the SVG's `<title>`.
+    pub title: String,
+    /// Description for screen readers (`<desc>`).
+    pub desc: String,
+    /// Horizontal axis.
+    pub x: Axis,
+    /// Vertical axis.
+    pub y: Axis,
+    /// Shaded regions of x, drawn first.
+    pub regions: Vec<Region>,
+    /// A stack of shares over these x values, drawn under the lines.
+    pub stack: Option<(Vec<f64>, Vec<Layer>)>,
+    /// Lines.
+    pub lines: Vec<Line>,
+    /// Marked points.
+    pub markers: Vec<Marker>,
+    /// A note at the end of the legend (how to read the line styles), or empty.
+    pub note: String,
+}
+
+/// Drawing size and the plot area inside it, in drawing units.
+pub const WIDTH: f64 = 640.0;
+/// Drawing height.
+pub const HEIGHT: f64 = 400.0;
+/// Left edge of the plot area (room for the y tick labels and the axis name).
+pub const LEFT: f64 = 78.0;
+/// Right edge of the plot area.
+pub const RIGHT: f64 = 624.0;
+/// Top edge of the plot area (room for the title).
+pub const TOP: f64 = 34.0;
+/// Bottom edge of the plot area (room for x tick labels, the axis name and the legend).
+pub const BOTTOM: f64 = 310.0;
+
+const INK: &str = "#1c2330";
+const GRID: &str = "#d5dbe4";
+
+/// A coordinate in tenths of a drawing unit, as an integer (compact and exact to write).
+fn t(v: f64) -> i64 {
+    // OK: a saturating cast of a coordinate clamped to a few drawing sizes below.
+    #[allow(clippy::cast_possible_truncation)]
+    let r = (v.clamp(-10.0 * WIDTH, 10.0 * WIDTH) * 10.0).round() as i64;
+    r
+}
+
+/// Escape text for SVG markup.
+#[must_use]
+pub fn escape(text: &str) -> String {
+    text.replace('&', "&amp;")
+        .replace('<', "&lt;")
+        .replace('>', "&gt;")
+        .replace('"', "&quot;")
+}
+
+impl Chart {
+    /// Horizontal drawing position of an x value (`None` where a log axis cannot place it).
+    #[must_use]
+    pub fn px(&self, v: f64) -> Option<f64> {
+        self.x.fraction(v).map(|f| LEFT + f * (RIGHT - LEFT))
+    }
+
+    /// Vertical drawing position of a y value.
+    #[must_use]
+    pub fn py(&self, v: f64) -> Option<f64> {
+        self.y.fraction(v).map(|f| BOTTOM - f * (BOTTOM - TOP))
+    }
+
+    /// The x value at a horizontal drawing position.
+    #[must_use]
+    pub fn x_at(&self, px: f64) -> f64 {
+        self.x.value_at((px - LEFT) / (RIGHT - LEFT))
+    }
+
+    /// The SVG markup (standalone: it carries its namespace, fonts and colours, so the same
+    /// text is the exported file).
+    #[must_use]
+    pub fn svg(&self) -> String {
+        let id = escape(&self.id);
+        let mut o = String::with_capacity(16 * 1024);
+        let _ = write!(
+            o,
+            "<svg xmlns=\"http://www.w3.org/2000/svg\" id=\"{id}\" class=\"chart-svg\" viewBox=\"0 0 {} {}\" \
+             role=\"img\" aria-labelledby=\"{id}-t {id}-d\" font-family=\"system-ui, sans-serif\" font-size=\"120\">\
+             <title id=\"{id}-t\">{}</title><desc id=\"{id}-d\">{}</desc>\
+             <rect width=\"{}\" height=\"{}\" fill=\"#fff\"/>\
+             <clipPath id=\"{id}-clip\"><rect x=\"{}\" y=\"{}\" width=\"{}\" height=\"{}\"/></clipPath>",
+            t(WIDTH),
+            t(HEIGHT),
+            escape(&self.title),
+            escape(&self.desc),
+            t(WIDTH),
+            t(HEIGHT),
+            t(LEFT),
+            t(TOP),
+            t(RIGHT - LEFT),
+            t(BOTTOM - TOP),
+        );
+        let _ = write!(
+            o,
+            "<text x=\"{}\" y=\"{}\" font-size=\"140\" font-weight=\"bold\" fill=\"{INK}\">{}</text>",
+            t(LEFT),
+            t(TOP - 14.0),
+            escape(&self.title)
+        );
+        self.draw_regions(&mut o);
+        self.draw_grid(&mut o);
+        self.draw_stack(&mut o);
+        self.draw_lines(&mut o);
+        for m in &self.markers {
+            if let (Some(x), Some(y)) = (self.px(m.x), self.py(m.y)) {
+                let _ = write!(
+                    o,
+                    "<circle cx=\"{}\" cy=\"{}\" r=\"50\" fill=\"#fff\" stroke=\"{}\" stroke-width=\"25\"/>",
+                    t(x),
+                    t(y),
+                    m.color
+                );
+            }
+        }
+        // The cursor the page moves to the point under the pointer or chosen by keys.
+        let _ = write!(
+            o,
+            "<g id=\"{id}-cursor\" visibility=\"hidden\" pointer-events=\"none\">\
+             <path d=\"M0 {}V{}\" stroke=\"{INK}\" stroke-width=\"8\" stroke-dasharray=\"30 30\"/></g>",
+            t(TOP),
+            t(BOTTOM)
+        );
+        self.draw_legend(&mut o);
+        o.push_str("</svg>");
+        o
+    }
+
+    fn draw_regions(&self, o: &mut String) {
+        for r in &self.regions {
+            let (Some(a), Some(b)) = (self.px(r.from), self.px(r.to)) else {
+                continue;
+            };
+            let (a, b) = (a.clamp(LEFT, RIGHT), b.clamp(LEFT, RIGHT));
+            if b - a < 1.0 {
+                continue;
+            }
+            let _ = write!(
+                o,
+                "<rect x=\"{}\" y=\"{}\" width=\"{}\" height=\"{}\" fill=\"{}\"/>",
+                t(a),
+                t(TOP),
+                t(b - a),
+                t(BOTTOM - TOP),
+                r.color
+            );
+            if b - a > 40.0 {
+                let _ = write!(
+                    o,
+                    "<text x=\"{}\" y=\"{}\" text-anchor=\"middle\" font-size=\"100\" fill=\"#4a5568\">{}</text>",
+                    t((a + b) / 2.0),
+                    t(TOP + 12.0),
+                    escape(r.label)
+                );
+            }
+        }
+    }
+
+    fn draw_grid(&self, o: &mut String) {
+        let mut d = String::new();
+        let xt = self.x.ticks();
+        let yt = self.y.ticks();
+        for (v, _) in &xt {
+            if let Some(x) = self.px(*v) {
+                let _ = write!(d, "M{} {}V{}", t(x), t(TOP), t(BOTTOM));
+            }
+        }
+        for (v, _) in &yt {
+            if let Some(y) = self.py(*v) {
+                let _ = write!(d, "M{} {}H{}", t(LEFT), t(y), t(RIGHT));
+            }
+        }
+        let _ = write!(
+            o,
+            "<path d=\"{d}\" stroke=\"{GRID}\" stroke-width=\"6\" fill=\"none\"/>\
+             <path d=\"M{} {}V{}H{}\" stroke=\"{INK}\" stroke-width=\"10\" fill=\"none\"/>",
+            t(LEFT),
+            t(TOP),
+            t(BOTTOM),
+            t(RIGHT)
+        );
+        for (v, label) in &xt {
+            if let Some(x) = self.px(*v) {
+                let _ = write!(
+                    o,
+                    "<text x=\"{}\" y=\"{}\" text-anchor=\"middle\" fill=\"{INK}\">{}</text>",
+                    t(x),
+                    t(BOTTOM + 16.0),
+                    escape(label)
+                );
+            }
+        }
+        for (v, label) in &yt {
+            if let Some(y) = self.py(*v) {
+                let _ = write!(
+                    o,
+                    "<text x=\"{}\" y=\"{}\" text-anchor=\"end\" fill=\"{INK}\">{}</text>",
+                    t(LEFT - 6.0),
+                    t(y + 4.0),
+                    escape(label)
+                );
+            }
+        }
+        let _ = write!(
+            o,
+            "<text x=\"{}\" y=\"{}\" text-anchor=\"middle\" fill=\"{INK}\">{}</text>\
+             <text transform=\"translate({} {}) rotate(-90)\" text-anchor=\"middle\" fill=\"{INK}\">{}</text>",
+            t((LEFT + RIGHT) / 2.0),
+            t(BOTTOM + 34.0),
+            escape(&self.x.title()),
+            t(16.0),
+            t((TOP + BOTTOM) / 2.0),
+            escape(&self.y.title())
+        );
+    }
+
+    fn draw_stack(&self, o: &mut String) {
+        let Some((xs, layers)) = &self.stack else {
+            return;
+        };
+        let cols: Vec<Option<f64>> = xs.iter().map(|x| self.px(*x)).collect();
+        let mut below = vec![0.0_f64; xs.len()];
+        let _ = write!(o, "<g clip-path=\"url(#{}-clip)\">", escape(&self.id));
+        for layer in layers {
+            if layer.shares.iter().all(|s| *s <= 0.0) {
+                continue;
+            }
+            let above: Vec<f64> = below
+                .iter()
+                .zip(layer.shares.iter().chain(std::iter::repeat(&0.0)))
+                .map(|(b, s)| b + s.max(0.0))
+                .collect();
+            let mut d = String::new();
+            let y = |share: f64| BOTTOM - share.clamp(0.0, 1.0) * (BOTTOM - TOP);
+            for (x, top) in cols.iter().zip(&above) {
+                if let Some(x) = x {
+                    let cmd = if d.is_empty() { 'M' } else { 'L' };
+                    let _ = write!(d, "{cmd}{} {}", t(*x), t(y(*top)));
+                }
+            }
+            for (x, b) in cols.iter().zip(&below).rev() {
+                if let Some(x) = x {
+                    let _ = write!(d, "L{} {}", t(*x), t(y(*b)));
+                }
+            }
+            if !d.is_empty() {
+                let _ = write!(o, "<path d=\"{d}Z\" fill=\"{}\"/>", layer.color);
+            }
+            below = above;
+        }
+        o.push_str("</g>");
+    }
+
+    fn draw_lines(&self, o: &mut String) {
+        let _ = write!(
+            o,
+            "<g clip-path=\"url(#{}-clip)\" fill=\"none\">",
+            escape(&self.id)
+        );
+        for line in &self.lines {
+            let mut d = String::new();
+            let mut pen_down = false;
+            for &(x, y) in &line.points {
+                match (self.px(x), self.py(y)) {
+                    (Some(px), Some(py)) => {
+                        let cmd = if pen_down { 'L' } else { 'M' };
+                        let _ = write!(d, "{cmd}{} {}", t(px), t(py));
+                        pen_down = true;
+                    }
+                    _ => pen_down = false,
+                }
+            }
+            if d.is_empty() {
+                continue;
+            }
+            let dash = if line.dash.is_empty() {
+                String::new()
+            } else {
+                format!(" stroke-dasharray=\"{}\"", line.dash)
+            };
+            let _ = write!(
+                o,
+                "<path d=\"{d}\" stroke=\"{}\" stroke-width=\"20\" stroke-linejoin=\"round\"{dash}/>",
+                line.color
+            );
+        }
+        o.push_str("</g>");
+    }
+
+    fn draw_legend(&self, o: &mut String) {
+        let mut entries: Vec<(&str, &str, &str, bool)> = self
+            .lines
+            .iter()
+            .filter(|l| l.legend)
+            .map(|l| (l.label.as_str(), l.color, l.dash, false))
+            .collect();
+        if let Some((_, layers)) = &self.stack {
+            entries.extend(
+                layers
+                    .iter()
+                    .filter(|l| l.shares.iter().any(|s| *s > 0.0))
+                    .map(|l| (l.label, l.color, "", true)),
+            );
+        }
+        let (mut x, mut y) = (LEFT, BOTTOM + 56.0);
+        for (label, color, dash, block) in entries {
+            // Rough width of the label at this font size (0.6 em a character).
+            #[allow(clippy::cast_precision_loss)]
+            let w = 30.0 + label.chars().count() as f64 * 6.6 + 14.0;
+            if x + w > RIGHT && x > LEFT {
+                x = LEFT;
+                y += 16.0;
+            }
+            if block {
+                let _ = write!(
+                    o,
+                    "<rect x=\"{}\" y=\"{}\" width=\"220\" height=\"100\" fill=\"{color}\"/>",
+                    t(x),
+                    t(y - 9.0)
+                );
+            } else {
+                let dash = if dash.is_empty() {
+                    String::new()
+                } else {
+                    format!(" stroke-dasharray=\"{dash}\"")
+                };
+                let _ = write!(
+                    o,
+                    "<path d=\"M{} {}h240\" stroke=\"{color}\" stroke-width=\"20\"{dash}/>",
+                    t(x),
+                    t(y - 4.0)
+                );
+            }
+            let _ = write!(
+                o,
+                "<text x=\"{}\" y=\"{}\" fill=\"{INK}\">{}</text>",
+                t(x + 30.0),
+                t(y),
+                escape(label)
+            );
+            x += w;
+        }
+        if !self.note.is_empty() {
+            #[allow(clippy::cast_precision_loss)]
+            let w = self.note.chars().count() as f64 * 6.6;
+            if x + w > RIGHT && x > LEFT {
+                x = LEFT;
+                y += 16.0;
+            }
+            let _ = write!(
+                o,
+                "<text x=\"{}\" y=\"{}\" fill=\"#4a5568\">{}</text>",
+                t(x),
+                t(y),
+                escape(&self.note)
+            );
+        }
+    }
+}
+
+#[cfg(test)]
+#[allow(clippy::unwrap_used, clippy::indexing_slicing)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn engineering_prefixes() {
+        // SI prefixes (BIPM, The International System of Units, 9th ed., 2019, table 7).
+        assert_eq!(eng(0.00025, "s"), "250 µs");
+        assert_eq!(eng(1e-3, "s"), "1 ms");
+        assert_eq!(eng(1.0, "s"), "1 s");
+        assert_eq!(eng(12_500.0, "e⁻"), "12.5 ke⁻");
+        assert_eq!(eng(1e6, "lx"), "1 Mlx");
+        assert_eq!(eng(0.1, ""), "100 m");
+        assert_eq!(eng(100.0, ""), "100");
+        assert_eq!(eng(2000.0, ""), "2 k");
+        assert_eq!(eng(-15.0, "°C"), "-15 °C");
+        assert_eq!(eng(0.0, "s"), "0 s");
+        assert_eq!(eng(4.567_8, "e⁻"), "4.57 e⁻");
+        assert_eq!(eng(f64::NAN, "s"), "—");
+    }
+
+    #[test]
+    fn log_axes_take_whole_decades_and_tick_each() {
+        let a = Axis::fitted("x", "s", Scale::Log, [2e-4, 0.0, 3.0, f64::NAN], 12.0);
+        assert_eq!((a.lo, a.hi), (1e-4, 10.0));
+        let labels: Vec<String> = a.ticks().into_iter().map(|t| t.1).collect();
+        assert_eq!(labels, ["100 µs", "1 ms", "10 ms", "100 ms", "1 s", "10 s"]);
+        assert!((a.fraction(1e-2).unwrap() - 0.4).abs() < 1e-12);
+        assert!((a.value_at(0.4) / 1e-2 - 1.0).abs() < 1e-12);
+        assert_eq!(a.fraction(0.0), None);
+        // Capped at max_decades below the top.
+        let a = Axis::fitted("y", "", Scale::Log, [1e-9, 50.0], 4.0);
+        assert_eq!((a.lo, a.hi), (1e-2, 100.0));
+    }
+
+    #[test]
+    fn linear_ticks_are_round_steps() {
+        let a = Axis::fitted("T", "°C", Scale::Linear, [-15.0, 65.0], 0.0);
+        let ticks: Vec<f64> = a.ticks().into_iter().map(|t| t.0).collect();
+        assert_eq!(ticks, [0.0, 20.0, 40.0, 60.0]);
+        // A long unit moves from the ticks to the axis name.
+        let a = Axis::fitted("flux", "ph/(µm²·s)", Scale::Log, [1.0, 1e3], 12.0);
+        assert_eq!(a.ticks()[3].1, "1 k");
+        assert_eq!(a.title(), "flux, ph/(µm²·s)");
+    }
+
+    fn chart() -> Chart {
+        Chart {
+            id: "c".into(),
+            title: "SNR & exposure".into(),
+            desc: "a <test>".into(),
+            x: Axis::fitted("exposure time", "s", Scale::Log, [1e-3, 1.0], 12.0),
+            y: Axis::fitted("SNR", "", Scale::Log, [1.0, 100.0], 6.0),
+            regions: vec![Region {
+                from: 1e-3,
+                to: 1e-2,
+                label: "read-noise limited",
+                color: "#eee",
+            }],
+            stack: None,
+            lines: vec![Line {
+                label: "total".into(),
+                points: vec![(1e-3, 1.0), (1e-2, 0.0), (1e-1, 10.0), (1.0, 100.0)],
+                color: "#123456",
+                dash: "",
+                legend: true,
+            }],
+            markers: vec![Marker {
+                x: 0.1,
+                y: 10.0,
+                color: "#123456",
+            }],
+            note: "solid: total".into(),
+        }
+    }
+
+    #[test]
+    fn the_markup_is_standalone_and_labelled() {
+        let m = chart().svg();
+        assert!(m.starts_with("<svg xmlns=\"http://www.w3.org/2000/svg\" id=\"c\""));
+        assert!(m.contains("<title id=\"c-t\">SNR &amp; exposure</title>"));
+        assert!(m.contains("<desc id=\"c-d\">a &lt;test&gt;</desc>"));
+        assert!(m.contains(">read-noise limited</text>"));
+        assert!(m.contains(">1 ms</text>") && m.contains(">100 ms</text>"));
+        assert!(m.contains(">solid: total</text>"));
+        assert!(m.ends_with("</svg>"));
+    }
+
+    #[test]
+    fn a_point_a_log_axis_cannot_place_breaks_the_line() {
+        let c = chart();
+        let m = c.svg();
+        // x 1e-3 is the left edge, y 1 the bottom; the zero at 1e-2 lifts the pen.
+        let start = format!("M{} {}", t(LEFT), t(BOTTOM));
+        let after = format!("M{} {}", t(c.px(0.1).unwrap()), t(c.py(10.0).unwrap()));
+        assert!(m.contains(&format!("d=\"{start}{after}L")), "{m}");
+    }
+
+    #[test]
+    fn positions_and_values_invert() {
+        let c = chart();
+        let px = c.px(0.03).unwrap();
+        assert!((c.x_at(px) / 0.03 - 1.0).abs() < 1e-12);
+        assert_eq!(c.px(1e-3), Some(LEFT));
+        assert_eq!(c.py(100.0), Some(TOP));
+    }
+
+    #[test]
+    fn a_stack_fills_from_the_bottom_and_skips_empty_layers() {
+        let mut c = chart();
+        c.stack = Some((
+            vec![1e-3, 1.0],
+            vec![
+                Layer {
+                    label: "read",
+                    color: "#d9822b",
+                    shares: vec![1.0, 0.25],
+                },
+                Layer {
+                    label: "none",
+                    color: "#000",
+                    shares: vec![0.0, 0.0],
+                },
+            ],
+        ));
+        let m = c.svg();
+        assert!(m.contains("fill=\"#d9822b\""));
+        assert!(!m.contains("fill=\"#000\""));
+        assert!(m.contains(">read</text>") && !m.contains(">none</text>"));
+    }
+}
