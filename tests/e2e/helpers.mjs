@@ -4,6 +4,7 @@ import { execFileSync } from 'node:child_process';
 import { mkdirSync, mkdtempSync, readFileSync, readdirSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { dirname, join, resolve } from 'node:path';
+import { createRequire } from 'node:module';
 import { fileURLToPath, pathToFileURL } from 'node:url';
 import { chromium } from 'playwright-core';
 import { serveStatic } from '../../scripts/static-server.mjs';
@@ -129,4 +130,16 @@ export async function settledUrl(page) {
     return link !== '' && location.href === link;
   }, null, { timeout: 5000 });
   return page.url();
+}
+
+const axeSource = readFileSync(createRequire(import.meta.url).resolve('axe-core/axe.min.js'), 'utf8');
+
+/** axe-core's serious and critical violations on the page (all of it, or under `selector`). */
+export async function axeSeriousViolations(page, selector = undefined) {
+  await page.evaluate(axeSource);
+  const result = await page.evaluate((sel) => window.axe.run(sel ? document.querySelector(sel) : document,
+    { resultTypes: ['violations'] }), selector);
+  return result.violations
+    .filter((v) => v.impact === 'serious' || v.impact === 'critical')
+    .map((v) => `${v.id} (${v.impact}): ${v.nodes.map((n) => n.target.join(' ')).join(', ')}`);
 }

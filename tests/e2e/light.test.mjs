@@ -5,14 +5,12 @@
 import assert from 'node:assert/strict';
 import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { createRequire } from 'node:module';
 import { after, before, test } from 'node:test';
 import {
-  ARTIFACTS, DEMO_NAMES, cli, cliReport, compareWithReport, demoJson, launch, openPage,
+  ARTIFACTS, axeSeriousViolations, DEMO_NAMES, cli, cliReport, compareWithReport, demoJson, launch, openPage,
   scenarioFromUrl, settledUrl, shownValues, startServer,
 } from './helpers.mjs';
 
-const axeSource = readFileSync(createRequire(import.meta.url).resolve('axe-core/axe.min.js'), 'utf8');
 
 let browser;
 let server;
@@ -33,14 +31,6 @@ async function loadDemo(page, name) {
 
 const problemOf = (page, name) =>
   page.$eval(`[name="${name}"]`, (e) => e.closest('.field').querySelector('.problem').textContent);
-
-async function axeSeriousViolations(page) {
-  await page.evaluate(axeSource);
-  const result = await page.evaluate(() => window.axe.run(document, { resultTypes: ['violations'] }));
-  return result.violations
-    .filter((v) => v.impact === 'serious' || v.impact === 'critical')
-    .map((v) => `${v.id} (${v.impact}): ${v.nodes.map((n) => n.target.join(' ')).join(', ')}`);
-}
 
 test('every demo round-trips through the fields; the light demos need no JSON box', async () => {
   const { ctx, page, errors } = await openPage(browser, `${server.origin}/`);

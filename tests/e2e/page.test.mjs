@@ -5,14 +5,12 @@
 import assert from 'node:assert/strict';
 import { readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { createRequire } from 'node:module';
 import { after, before, describe, test } from 'node:test';
 import {
-  ARTIFACTS, DEMO_NAMES, cli, cliReport, compareWithReport, demoJson, demoText, launch, linkFor,
+  ARTIFACTS, axeSeriousViolations, DEMO_NAMES, cli, cliReport, compareWithReport, demoJson, demoText, launch, linkFor,
   openPage, scenarioFromUrl, settledUrl, shownValues, singleFileUrl, startServer,
 } from './helpers.mjs';
 
-const axeSource = readFileSync(createRequire(import.meta.url).resolve('axe-core/axe.min.js'), 'utf8');
 
 let browser;
 let server;
@@ -48,14 +46,6 @@ function assertOwnRequests(target, requests, errors) {
  * the fields of the light kinds not chosen (which a loaded scenario does not fill). */
 const formState = (page, shownOnly = false) => page.$$eval('#scenario-form input, #scenario-form select',
   (els, only) => Object.fromEntries(els.filter((e) => !only || e.offsetParent !== null).map((e) => [e.name || e.id, e.value])), shownOnly);
-
-async function axeSeriousViolations(page) {
-  await page.evaluate(axeSource);
-  const result = await page.evaluate(() => window.axe.run(document, { resultTypes: ['violations'] }));
-  return result.violations
-    .filter((v) => v.impact === 'serious' || v.impact === 'critical')
-    .map((v) => `${v.id} (${v.impact}): ${v.nodes.map((n) => n.target.join(' ')).join(', ')}`);
-}
 
 async function loadDemo(page, name) {
   await page.click(`button[data-demo="${name}"]`);
@@ -380,7 +370,7 @@ describe('the served page: keeping, sharing, keyboard, print, narrow column', ()
     await ctx.close();
   });
 
-  test('prints as one page with inputs, results, warnings, version and date', async () => {
+  test('prints inputs, results, warnings, version and date on one page, the curves on the next', async () => {
     const { ctx, page, requests, errors } = await openPage(browser, `${server.origin}/`);
     for (const name of DEMO_NAMES) {
       await loadDemo(page, name);
@@ -394,7 +384,12 @@ describe('the served page: keeping, sharing, keyboard, print, narrow column', ()
       const pdf = await page.pdf({ format: 'A4', printBackground: true });
       writeFileSync(join(ARTIFACTS, `print-${name}.pdf`), pdf);
       const pages = (pdf.toString('latin1').match(/\/Type\s*\/Page(?!s)/g) ?? []).length;
-      assert.equal(pages, 1, `${name} prints on ${pages} pages`);
+      // Page 1: inputs and results (as before the curves were added); page 2: the curves.
+      assert.equal(pages, 2, `${name} prints on ${pages} pages`);
+      for (const id of ['svg-signal', 'svg-exposure', 'svg-light', 'svg-temperature', 'svg-budget']) {
+        assert.ok(await page.isVisible(`#${id}`), `${name}: chart ${id} printed`);
+      }
+      assert.ok(!(await page.isVisible('#compare')), 'the comparison is left out of print while nothing is pinned');
       await page.emulateMedia({ media: 'screen' });
     }
     assertOwnRequests(TARGETS[0], requests, errors);

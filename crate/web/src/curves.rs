@@ -1167,8 +1167,9 @@ fn show_table() {
                 ),
                 (_, _, Some(d), _) => {
                     let sign = if d > 0.0 { "+" } else { "" };
+                    // A change of a fraction is in percentage points, not relative.
                     let d_text = if row.unit == "fraction" {
-                        format!("{sign}{}", display::rounded(d, Style::Percent))
+                        format!("{sign}{} points", display::rounded(d, Style::Percent))
                     } else {
                         format!("{sign}{}{unit}", display::rounded(d, Style::Number))
                     };
