@@ -99,6 +99,7 @@ test('pin two demos: the table shows the tool’s figures and the differences fr
   assert.ok(rows['snr.total_db'][1].difference !== null, 'SNR in dB changes by a difference');
 
   // Both pins are drawn on the SNR-against-signal chart, in their own colours.
+  await page.waitForSelector('#curves[data-drawn-pins="2"]');
   const legend = await page.textContent('#svg-signal');
   assert.ok(legend.includes('A: 3.45') && legend.includes('B: '), 'pins in the legend');
 
@@ -138,7 +139,7 @@ test('exports: SVG and PNG of a chart, the sweep and the comparison as CSV (sing
   await page.click('#pin-scenario');
   await loadDemo(page, B);
   await page.click('#pin-scenario');
-  await page.waitForSelector('#svg-exposure');
+  await page.waitForSelector('#curves[data-drawn-pins="2"]');
 
   const svg = await download(page, '[data-chart="signal"] [data-export="svg"]');
   assert.match(svg.name, /^noise-budget_.+_snr-vs-signal\.svg$/);
@@ -204,9 +205,11 @@ test('charts: labelled, accessible, values by pointer and keys, bad points named
   }
   assert.deepEqual(await axeSeriousViolations(page, '#curves'), []);
   await page.click('#pin-scenario');
+  await page.waitForSelector('#curves[data-drawn-pins="1"]');
   assert.deepEqual(await axeSeriousViolations(page, '#compare'), []);
 
   // Pointer: the middle of the exposure chart reads a point.
+  await page.locator('#svg-exposure').scrollIntoViewIfNeeded();
   const box = await page.locator('#svg-exposure').boundingBox();
   await page.mouse.move(box.x + box.width * 0.5, box.y + box.height * 0.4);
   assert.match(await page.textContent('#readout-exposure'), /^exposure time .+: SNR total .+, temporal .+$/);
@@ -228,14 +231,19 @@ test('charts: labelled, accessible, values by pointer and keys, bad points named
   assert.ok(await page.isVisible('#svg-signal'), 'the charts drawn before are kept');
   await page.fill('#curve-points', '1000');
   assert.ok(await page.isHidden('#curve-points-problem'));
-  await page.focus('#chart-exposure');
-  await page.keyboard.press('End');
-  // On screen is pinned as A, so it is drawn once, in A's colour; count the points of its total line.
+  await page.waitForSelector('#chart-exposure[data-points="1000"]');
+  // On screen is pinned as A, so it is drawn once, in A's colour.
   const nowLines = await page.$$eval('#svg-exposure path[stroke="#1d5fa8"]', (ps) => ps.length);
   assert.equal(nowLines, 0, 'the scenario on screen is drawn as its pin');
-  const pinLine = await page.evaluate(() => [...document.querySelectorAll('#svg-exposure path[stroke="#c2410c"]')]
-    .find((p) => !p.getAttribute('stroke-dasharray'))?.getAttribute('d').split(/[ML]/).length - 1);
-  assert.equal(pinLine, 1000, '1000 points on the curve');
+  // The readout walks all 1000 points: End, then 999 steps left reach the first.
+  await page.focus('#chart-exposure');
+  await page.keyboard.press('Home');
+  const home = await page.textContent('#readout-exposure');
+  await page.keyboard.press('End');
+  for (let i = 0; i < 998; i++) await page.keyboard.press('ArrowLeft');
+  assert.notEqual(await page.textContent('#readout-exposure'), home, '998 steps left of the end is not the first point');
+  await page.keyboard.press('ArrowLeft');
+  assert.equal(await page.textContent('#readout-exposure'), home, '999 steps left of the end is the first point');
   await page.screenshot({ path: join(ARTIFACTS, 'curves.png'), fullPage: true });
   assert.deepEqual(errors, []);
   await ctx.close();

@@ -6,7 +6,8 @@
 //! the scenario JSON under [`PINS_KEY`] (an `x_` key the format ignores), so a link, a saved
 //! file and a kept scenario carry them without a format of their own.
 
-use std::cell::RefCell;
+use std::cell::{Cell, RefCell};
+use std::rc::Rc;
 
 use engine::curves::View;
 use engine::sweep::Sweep;
@@ -84,23 +85,25 @@ struct Pin {
     /// Its report.
     report: Report,
     /// Its views, for the points they were made with.
-    views: Option<(u32, Vec<Option<Sweep>>)>,
+    views: Option<(u32, Vec<Option<Rc<Sweep>>>)>,
 }
 
 /// What a chart shows, for reading values and exporting.
 struct Drawn {
     chart: Chart,
     markup: String,
-    /// x of each point of the scenario's own curve, and the readout of each.
+    /// x of each point of the scenario's own curve (its readout is written when shown).
     xs: Vec<f64>,
-    words: Vec<String>,
     /// Index shown by the keys.
     at: usize,
     /// The sweep behind it (for CSV).
-    sweep: Option<Sweep>,
+    sweep: Option<Rc<Sweep>>,
     /// Words for file names.
     file_words: &'static str,
 }
+
+/// A pin as the charts need it: name, report, views, and whether it is the scenario on screen.
+type PinViews = (String, Report, Vec<Option<Rc<Sweep>>>, bool);
 
 #[derive(Default)]
 struct State {
@@ -112,6 +115,8 @@ struct State {
 
 thread_local! {
     static STATE: RefCell<State> = RefCell::new(State::default());
+    /// Whether a redraw waits for the next animation frame.
+    static REDRAW_PENDING: Cell<bool> = const { Cell::new(false) };
 }
 
 fn letter(i: usize) -> char {
@@ -271,8 +276,34 @@ pub fn show(value: &Value, report: &Report) {
             .map(str::to_string);
         s.now = Some((value.clone(), report.clone()));
     });
-    redraw();
     show_table();
+    schedule_redraw();
+}
+
+/// Redraw the charts at the next animation frame, once however many edits come before it: an
+/// edit shows its results at once and the curves a frame later, never holding the results up.
+fn schedule_redraw() {
+    if REDRAW_PENDING.with(Cell::get) {
+        return;
+    }
+    let Some(w) = dom::window() else {
+        return;
+    };
+    REDRAW_PENDING.with(|p| p.set(true));
+    let cb = Closure::once_into_js(|| {
+        REDRAW_PENDING.with(|p| p.set(false));
+        redraw();
+    });
+    if w.request_animation_frame(cb.unchecked_ref()).is_err() {
+        REDRAW_PENDING.with(|p| p.set(false));
+        redraw();
+    }
+}
+
+fn mark(name: &str) {
+    if let Some(p) = dom::window().and_then(|w| w.performance()) {
+        let _ = p.mark(name);
+    }
 }
 
 /// Draw the charts again (after an edit, a pin, or a change of the points or budget view).
@@ -290,6 +321,7 @@ pub fn redraw() {
     let Some((value, report)) = STATE.with(|s| s.borrow().now.clone()) else {
         return;
     };
+    mark("noise-budget:curves-start");
     let mine: Vec<Result<Sweep, String>> = View::ALL
         .iter()
         .map(|v| engine::curves::view_sweep(&value, *v, n).map_err(|e| e.to_string()))
@@ -301,13 +333,13 @@ pub fn redraw() {
             .then(|| format!("Some curves cannot be drawn: {}", failed.join("; ")))
             .as_deref(),
     );
-    let mine: Vec<Option<Sweep>> = mine.into_iter().map(Result::ok).collect();
+    let mine: Vec<Option<Rc<Sweep>>> = mine.into_iter().map(|r| r.ok().map(Rc::new)).collect();
     // The pins' views, made once for each number of points.
     let mut bare = value.clone();
     if let Some(o) = bare.as_object_mut() {
         o.remove(PINS_KEY);
     }
-    let pins: Vec<(String, Report, Vec<Option<Sweep>>, bool)> = STATE.with(|s| {
+    let pins: Vec<PinViews> = STATE.with(|s| {
         let mut s = s.borrow_mut();
         s.pins
             .iter_mut()
@@ -315,7 +347,11 @@ pub fn redraw() {
                 if p.views.as_ref().map(|v| v.0) != Some(n) {
                     let views = View::ALL
                         .iter()
-                        .map(|v| engine::curves::view_sweep(&p.value, *v, n).ok())
+                        .map(|v| {
+                            engine::curves::view_sweep(&p.value, *v, n)
+                                .ok()
+                                .map(Rc::new)
+                        })
                         .collect();
                     p.views = Some((n, views));
                 }
@@ -324,13 +360,18 @@ pub fn redraw() {
             })
             .collect()
     });
+    mark("noise-budget:curves-swept");
     let sc = engine::validate::scenario_from_value(&value).ok();
     let mut drawn = Vec::new();
     for name in CHARTS {
         let d = build(name, &value, sc.as_ref(), &report, &mine, &pins);
         if let Some(slot) = slot(name) {
             match &d {
-                Some(d) => slot.set_inner_html(&d.markup),
+                Some(d) => {
+                    slot.set_inner_html(&d.markup);
+                    // Points computed for the curve (a long curve draws fewer vertices).
+                    dom::set_attr(&slot, "data-points", &d.xs.len().to_string());
+                }
                 None => slot.set_inner_html(""),
             }
         }
@@ -342,6 +383,11 @@ pub fn redraw() {
     for name in CHARTS {
         set_readout(name, None);
     }
+    // For scripts and tests: how many pins the charts now show.
+    if let Some(root) = dom::by_id("curves") {
+        dom::set_attr(&root, "data-drawn-pins", &pins.len().to_string());
+    }
+    mark("noise-budget:curves-drawn");
 }
 
 fn slot(name: &str) -> Option<Element> {
@@ -437,8 +483,8 @@ fn build(
     value: &Value,
     sc: Option<&engine::Scenario>,
     report: &Report,
-    mine: &[Option<Sweep>],
-    pins: &[(String, Report, Vec<Option<Sweep>>, bool)],
+    mine: &[Option<Rc<Sweep>>],
+    pins: &[PinViews],
 ) -> Option<Drawn> {
     let view = match name {
         "exposure" => View::Exposure,
@@ -541,27 +587,11 @@ fn build(
             });
         }
         let markup = chart.svg();
-        let words = sweep
-            .points
-            .iter()
-            .map(|p| {
-                let parts: Vec<String> = SOURCES
-                    .iter()
-                    .zip(shares(&p.report))
-                    .filter(|(_, s)| *s > 0.0)
-                    .map(|((label, _), s)| {
-                        format!("{label} {}", display::rounded(s, Style::Percent))
-                    })
-                    .collect();
-                format!("{}: {}", eng(x_of(p), x_unit), parts.join(", "))
-            })
-            .collect();
         let at = nearest(&xs, here_x);
         return Some(Drawn {
             chart,
             markup,
             xs,
-            words,
             at,
             sweep: Some(sweep),
             file_words: "noise-budget-along",
@@ -679,28 +709,11 @@ fn build(
         note: "solid: total SNR · dashed: temporal SNR".into(),
     };
     let markup = chart.svg();
-    let words = sweep
-        .points
-        .iter()
-        .map(|p| {
-            let lead = if name == "signal" {
-                format!("signal {}", eng(p.report.signal_e, "e⁻"))
-            } else {
-                format!("{} {}", axis_words(&key), eng(p.value, x_unit))
-            };
-            format!(
-                "{lead}: SNR total {}, temporal {}",
-                display::rounded(p.report.snr.total, Style::Number),
-                display::rounded(p.report.snr.temporal, Style::Number)
-            )
-        })
-        .collect();
     let at = nearest(&xs, here_x);
     Some(Drawn {
         chart,
         markup,
         xs,
-        words,
         at,
         sweep: Some(sweep),
         file_words: match name {
@@ -767,11 +780,9 @@ fn show_point(name: &str, i: usize) {
         let i = i.min(d.xs.len().saturating_sub(1));
         d.at = i;
         let x = d.chart.px(*d.xs.get(i)?)?;
-        Some((
-            d.chart.id.clone(),
-            x,
-            d.words.get(i).cloned().unwrap_or_default(),
-        ))
+        let sweep = d.sweep.as_ref()?;
+        let point = sweep.points.get(i)?;
+        Some((d.chart.id.clone(), x, readout(name, &sweep.key, point)))
     });
     let Some((id, x, words)) = found else {
         return;
@@ -787,6 +798,34 @@ fn show_point(name: &str, i: usize) {
         );
     }
     set_readout(name, Some(&words));
+}
+
+/// The readout of one point of chart `name`.
+fn readout(name: &str, key: &str, p: &engine::sweep::SweepPoint) -> String {
+    if name == "budget" {
+        let parts: Vec<String> = SOURCES
+            .iter()
+            .zip(shares(&p.report))
+            .filter(|(_, s)| *s > 0.0)
+            .map(|((label, _), s)| format!("{label} {}", display::rounded(s, Style::Percent)))
+            .collect();
+        return format!(
+            "{} {}: {}",
+            axis_words(key),
+            eng(p.value, axis_unit(key)),
+            parts.join(", ")
+        );
+    }
+    let lead = if name == "signal" {
+        format!("signal {}", eng(p.report.signal_e, "e⁻"))
+    } else {
+        format!("{} {}", axis_words(key), eng(p.value, axis_unit(key)))
+    };
+    format!(
+        "{lead}: SNR total {}, temporal {}",
+        display::rounded(p.report.snr.total, Style::Number),
+        display::rounded(p.report.snr.temporal, Style::Number)
+    )
 }
 
 fn chart_name_of(el: &Element) -> Option<&'static str> {
