@@ -114,6 +114,19 @@ test('pin two demos: the table shows the tool’s figures and the differences fr
   assert.deepEqual(await tableRows(other.page), rows, 'the same table from the link');
   await other.ctx.close();
 
+  // Saved with a saved file: the file carries both pins.
+  const [saved] = await Promise.all([page.waitForEvent('download'), page.click('#save-file')]);
+  const savedJson = JSON.parse(readFileSync(await saved.path(), 'utf8'));
+  assert.deepEqual(savedJson.x_pinned.map((p) => p.title), [demoJson(A).title, demoJson(B).title]);
+  assert.equal(savedJson.x_pinned[0].x_pinned, undefined, 'a pin carries no pins of its own');
+
+  // Printed: the comparison and the curves follow the results.
+  await page.emulateMedia({ media: 'print' });
+  assert.ok(await page.isVisible('#compare-table'), 'the comparison is printed');
+  assert.ok(await page.isVisible('#svg-signal'), 'the curves are printed');
+  assert.ok(!(await page.isVisible('#pin-scenario')), 'buttons are not printed');
+  await page.emulateMedia({ media: 'screen' });
+
   // Kept with a kept scenario: keep, unpin both, load the kept one, and the pins are back.
   await page.fill('#saved-name', 'with two pins');
   await page.click('#keep-scenario');
