@@ -98,6 +98,8 @@ const edits = await page.evaluate(async (n) => {
 const CURVE_RUNS = 40;
 const curves = await page.evaluate(async (n) => {
   const input = document.getElementById('curve-points');
+  // The charts in view, as a user looking at them sees them redrawn.
+  document.getElementById('chart-exposure').scrollIntoView();
   const script = [];
   const layout = [];
   const sweeps = [];

@@ -308,10 +308,11 @@ pub const TOP: f64 = 34.0;
 pub const BOTTOM: f64 = 310.0;
 
 const INK: &str = "#1c2330";
-/// Closest two vertices of a line are drawn, in tenths of a drawing unit (one unit: under a
-/// pixel at the size the page shows a chart, 546 units across); closer points add nothing
-/// visible but cost drawing time. Every point still counts for reading values and in the CSV.
-const MIN_STEP: i64 = 10;
+/// Closest two vertices of a line are drawn, in tenths of a drawing unit (one and a half
+/// units: about a pixel at the size the page shows a chart, 546 units across 380 px or so);
+/// closer points add nothing visible but cost drawing time. Every point still counts for
+/// reading values and in the CSV.
+const MIN_STEP: i64 = 15;
 const GRID: &str = "#d5dbe4";
 
 /// A coordinate in tenths of a drawing unit, as an integer (compact and exact to write).
@@ -787,8 +788,8 @@ mod tests {
         let d = m.split("stroke=\"#123456\"").next().unwrap();
         let d = &d[d.rfind("d=\"").unwrap()..];
         let vertices = d.matches(['M', 'L']).count();
-        // 546 units wide and one unit at least between vertices: 1001 points give 500 or so.
-        assert!((400..=547).contains(&vertices), "{vertices}");
+        // 546 units wide and 1.5 units at least between vertices: 1001 points give 360 or so.
+        assert!((300..=365).contains(&vertices), "{vertices}");
         assert!(
             d.contains(&format!("L{} ", t(RIGHT))),
             "reaches the right edge: {d}"
