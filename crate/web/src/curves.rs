@@ -324,7 +324,13 @@ pub fn redraw() {
     mark("noise-budget:curves-start");
     let mine: Vec<Result<Sweep, String>> = View::ALL
         .iter()
-        .map(|v| engine::curves::view_sweep(&value, *v, n).map_err(|e| e.to_string()))
+        .map(|v| {
+            // Marks for scripts timing one sweep (noise-budget:sweep-<view>-start / -end).
+            mark(&format!("noise-budget:sweep-{}-start", v.as_str()));
+            let s = engine::curves::view_sweep(&value, *v, n).map_err(|e| e.to_string());
+            mark(&format!("noise-budget:sweep-{}-end", v.as_str()));
+            s
+        })
         .collect();
     let failed: Vec<String> = mine.iter().filter_map(|r| r.clone().err()).collect();
     set_problem(
@@ -364,6 +370,7 @@ pub fn redraw() {
     let sc = engine::validate::scenario_from_value(&value).ok();
     let mut drawn = Vec::new();
     for name in CHARTS {
+        mark(&format!("noise-budget:chart-{name}-start"));
         let d = build(name, &value, sc.as_ref(), &report, &mine, &pins);
         if let Some(slot) = slot(name) {
             match &d {
@@ -378,6 +385,7 @@ pub fn redraw() {
         if let Some(d) = d {
             drawn.push((name, d));
         }
+        mark(&format!("noise-budget:chart-{name}-end"));
     }
     STATE.with(|s| s.borrow_mut().drawn = drawn);
     for name in CHARTS {
