@@ -8,11 +8,15 @@
 //!
 //! Code map: `pair.rs` the exact integer pass over a frame pair (the hot loop); `stack.rs` one
 //! stack; `fit.rs` straight-line fits with uncertainties; `formulas.rs` the standard's
-//! closed-form steps with their sources; `analysis.rs` the method, step by step.
+//! closed-form steps with their sources; `analysis.rs` the method, step by step; `manifest.rs`
+//! which files form which stacks, and the measurement over a `read` function; `curve.rs`
+//! plot-ready series of a result.
 
 mod analysis;
+mod curve;
 mod fit;
 mod formulas;
+mod manifest;
 mod pair;
 mod stack;
 
@@ -21,11 +25,15 @@ pub use analysis::{
     LinearityFit, MeasuredSensor, NonUniformityFit, PtcPoint, ReadNoiseFit, ResponsivityFit,
     SaturationFit, GAIN_FIT_MAX_FRACTION, LINEARITY_RANGE_FRACTION, PRNU_FRACTION,
 };
+pub use curve::{curve_series, CurvePoint, CurveSeries};
 pub use fit::{fit_line, LineFit};
 pub use formulas::{
     dark_current_e_per_s, dark_current_from_variance_e_per_s, dsnu_e, linearity_error_percent,
     prnu_percent, quantum_efficiency, read_noise_e, read_noise_upper_bound_e,
     saturation_capacity_e, QUANTIZATION_VARIANCE_DN2, SMALL_DARK_VARIANCE_DN2,
+};
+pub use manifest::{
+    measure, parse_manifest, Failure, FrameEntry, Manifest, Problem, MANIFEST_VERSION,
 };
 pub use pair::{pair_sums, PairSums};
 pub use stack::{

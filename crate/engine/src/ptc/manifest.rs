@@ -1,0 +1,656 @@
+//! The frame manifest: which files form which stacks, checked with every problem at once, and
+//! the measurement that reads them one at a time into the stack accumulators and analyses.
+//!
+//! Shared by `noise-budget characterize` (files on disk) and the page's frame worker (files the
+//! user chose): both hand over a `read` function, so this module does no I/O itself, and both
+//! get the same rules, messages and figures. Paths are text here; resolving them against a
+//! folder is the caller's business.
+
+use std::collections::BTreeMap;
+use std::fmt::Write as _;
+
+use serde_json::{Map, Value};
+
+use super::{analyse, Characterization, FrameKind, Roi, StackAccumulator, StackSpec};
+use crate::frames::{self, Frame, RawGeometry};
+
+/// The manifest format version this module reads.
+pub const MANIFEST_VERSION: u64 = 1;
+
+/// One problem in a manifest, naming its key.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Problem {
+    /// Dot path of the key (`frames[2].kind`), or `manifest` for the document.
+    pub path: String,
+    /// What is wrong, lower case.
+    pub message: String,
+}
+
+impl std::fmt::Display for Problem {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        write!(f, "{}: {}", self.path, self.message)
+    }
+}
+
+/// One frame entry of a checked manifest.
+#[derive(Debug, Clone, PartialEq)]
+pub struct FrameEntry {
+    /// Index in the manifest's `frames` list.
+    pub index: usize,
+    /// The path as written in the manifest (the caller resolves it; the page uses the name).
+    pub path: String,
+    /// Dark or flat.
+    pub kind: FrameKind,
+    /// Exposure time, s.
+    pub exposure_time_s: f64,
+    /// Optional level label.
+    pub level: Option<String>,
+    /// Optional photons per pixel.
+    pub photons_per_pixel: Option<f64>,
+    /// Raw geometry, for headerless files.
+    pub raw: Option<RawGeometry>,
+}
+
+/// A checked manifest: its stacks in first-appearance order, and the region of interest.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Manifest {
+    /// Frames grouped into stacks (kind, exposure time, level).
+    pub stacks: Vec<Vec<FrameEntry>>,
+    /// Optional region of interest.
+    pub roi: Option<Roi>,
+}
+
+/// Why frames could not be measured: the messages, and whether a file could not be read.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Failure {
+    /// One line each, naming the file or key.
+    pub messages: Vec<String>,
+    /// True when any file could not be read (the command's exit status 1).
+    pub io: bool,
+}
+
+/// Read, decode and accumulate every stack, then analyse.
+///
+/// `read` returns a file's bytes, or why it cannot (the message follows the file's name);
+/// `seen` is told of each frame entry after its file was read: `Some(frame)` when it decoded,
+/// `None` when it could not be read or decoded. One file's bytes are held at a time and dropped
+/// once decoded; each stack keeps only what its accumulator needs.
+///
+/// Every stack is attempted, so that all undecodable files are reported at once.
+///
+/// # Errors
+/// A [`Failure`] listing each unreadable or undecodable file, or why the analysis is impossible.
+pub fn measure(
+    manifest: &Manifest,
+    read: &mut dyn FnMut(&FrameEntry) -> Result<Vec<u8>, String>,
+    seen: &mut dyn FnMut(&FrameEntry, Option<&Frame>),
+) -> Result<Characterization, Failure> {
+    let mut messages = Vec::new();
+    let mut io_error = false;
+    let mut stats = Vec::new();
+    for stack in &manifest.stacks {
+        let Some(first) = stack.first() else { continue };
+        let spec = StackSpec {
+            kind: first.kind,
+            exposure_time_s: first.exposure_time_s,
+            level: first.level.clone(),
+            photons_per_pixel: first.photons_per_pixel,
+            frames: u32::try_from(stack.len()).unwrap_or(u32::MAX),
+        };
+        let mut acc = match StackAccumulator::new(spec, manifest.roi) {
+            Ok(a) => a,
+            Err(e) => {
+                messages.push(format!("frames[{}]: {e}", first.index));
+                continue;
+            }
+        };
+        let mut ok = true;
+        for f in stack {
+            let name = format!("frames[{}] ({})", f.index, f.path);
+            let bytes = match read(f) {
+                Ok(b) => b,
+                Err(e) => {
+                    messages.push(format!("{name}: {e}"));
+                    io_error = true;
+                    ok = false;
+                    seen(f, None);
+                    continue;
+                }
+            };
+            let frame = match frames::decode(&bytes, f.raw) {
+                Ok(fr) => fr,
+                Err(e) => {
+                    messages.push(format!("{name}: {e}"));
+                    ok = false;
+                    seen(f, None);
+                    continue;
+                }
+            };
+            drop(bytes);
+            seen(f, Some(&frame));
+            if ok {
+                if let Err(e) = acc.push(frame) {
+                    messages.push(format!("{name}: {e}"));
+                    ok = false;
+                }
+            }
+        }
+        if ok {
+            match acc.finish() {
+                Ok(s) => stats.push(s),
+                Err(e) => messages.push(format!("frames[{}]: {e}", first.index)),
+            }
+        }
+    }
+    if !messages.is_empty() {
+        return Err(Failure {
+            messages,
+            io: io_error,
+        });
+    }
+    analyse(&stats).map_err(|e| Failure {
+        messages: vec![format!("analysis: {e}")],
+        io: false,
+    })
+}
+
+// ---- parsing -----------------------------------------------------------------------------
+
+/// Parse and check a manifest (paths stay as written; the caller resolves them).
+///
+/// # Errors
+/// Every problem found, each naming its key path.
+pub fn parse_manifest(text: &str) -> Result<Manifest, Vec<Problem>> {
+    let mut p = Problems::default();
+    let v: Value = match serde_json::from_str(text) {
+        Ok(v) => v,
+        Err(e) => {
+            p.push(
+                "manifest",
+                format!(
+                    "not valid JSON: line {}, column {}: {}",
+                    e.line(),
+                    e.column(),
+                    e.to_string().split(" at line ").next().unwrap_or_default()
+                ),
+            );
+            return Err(p.0);
+        }
+    };
+    let Some(top) = v.as_object() else {
+        p.push(
+            "manifest",
+            format!("must be a JSON object, got {}", type_name(&v)),
+        );
+        return Err(p.0);
+    };
+    let mut top = Fields::new("", top);
+    match top.get("version") {
+        None => p.push(
+            "version",
+            "required: this tool reads manifest version 1".into(),
+        ),
+        Some(Value::Number(n)) if n.as_u64() == Some(MANIFEST_VERSION) => {}
+        Some(other) => p.push("version", format!("must be 1, got {}", show_value(other))),
+    }
+    let default_raw = top
+        .object(&mut p, "raw")
+        .and_then(|mut f| raw(&mut p, &mut f));
+    let roi = top
+        .object(&mut p, "roi")
+        .and_then(|mut f| roi(&mut p, &mut f));
+    let mut entries = Vec::new();
+    match top.get("frames") {
+        None => p.push("frames", "required: the list of frame files".into()),
+        Some(Value::Array(list)) if list.is_empty() => {
+            p.push("frames", "must list at least one frame".into());
+        }
+        Some(Value::Array(list)) => {
+            for (i, item) in list.iter().enumerate() {
+                let path = format!("frames[{i}]");
+                match item.as_object() {
+                    None => p.push(&path, format!("must be an object, got {}", type_name(item))),
+                    Some(m) => {
+                        let mut f = Fields::new(&path, m);
+                        if let Some(e) = frame(&mut p, &mut f, i, default_raw) {
+                            entries.push(e);
+                        }
+                    }
+                }
+            }
+        }
+        Some(other) => p.push(
+            "frames",
+            format!("must be a list, got {}", type_name(other)),
+        ),
+    }
+    top.finish(&mut p);
+
+    // Rules across frames: distinct files, stacks of two or more, one photon count per stack.
+    let mut seen: BTreeMap<&str, usize> = BTreeMap::new();
+    for e in &entries {
+        if let Some(first) = seen.insert(e.path.as_str(), e.index) {
+            p.push(
+                &format!("frames[{}].path", e.index),
+                format!(
+                    "the same file as frames[{first}]: a frame paired with itself has no temporal \
+                     noise"
+                ),
+            );
+        }
+    }
+    let mut stacks: Vec<Vec<FrameEntry>> = Vec::new();
+    for e in entries {
+        let same = stacks.iter_mut().find(|s| {
+            s.first().is_some_and(|f| {
+                f.kind == e.kind && f.exposure_time_s == e.exposure_time_s && f.level == e.level
+            })
+        });
+        match same {
+            Some(s) => s.push(e),
+            None => stacks.push(vec![e]),
+        }
+    }
+    for s in &stacks {
+        let Some(first) = s.first() else { continue };
+        let what = stack_name(first);
+        if s.len() < 2 {
+            p.push(
+                &format!("frames[{}]", first.index),
+                format!(
+                    "the only frame of its stack ({what}): a stack needs two or more frames with \
+                     the same kind, exposure_time_s and level"
+                ),
+            );
+        }
+        if let Some(other) = s
+            .iter()
+            .find(|f| f.photons_per_pixel != first.photons_per_pixel)
+        {
+            p.push(
+                &format!("frames[{}].photons_per_pixel", other.index),
+                format!(
+                    "differs from frames[{}] in the same stack ({what}): give one value per \
+                     stack, or a level label to tell the stacks apart",
+                    first.index
+                ),
+            );
+        }
+    }
+    if p.0.is_empty() {
+        Ok(Manifest { stacks, roi })
+    } else {
+        Err(p.0)
+    }
+}
+
+fn stack_name(f: &FrameEntry) -> String {
+    let mut s = format!("{} at {} s", f.kind.as_str(), f.exposure_time_s);
+    if let Some(l) = &f.level {
+        let _ = write!(s, ", level \"{l}\"");
+    }
+    s
+}
+
+fn frame(
+    p: &mut Problems,
+    f: &mut Fields<'_>,
+    index: usize,
+    default_raw: Option<RawGeometry>,
+) -> Option<FrameEntry> {
+    let path = match f.get("path") {
+        None => {
+            p.push(&f.path_of("path"), "required, missing".into());
+            None
+        }
+        Some(Value::String(s)) if !s.trim().is_empty() => Some(s.clone()),
+        Some(v) => {
+            p.push(
+                &f.path_of("path"),
+                format!("must be a file path (text), got {}", show_value(v)),
+            );
+            None
+        }
+    };
+    let kind = match f.get("kind") {
+        None => {
+            p.push(&f.path_of("kind"), "required, missing".into());
+            None
+        }
+        Some(Value::String(s)) if s == "dark" => Some(FrameKind::Dark),
+        Some(Value::String(s)) if s == "flat" => Some(FrameKind::Flat),
+        Some(v) => {
+            p.push(
+                &f.path_of("kind"),
+                format!("must be one of \"dark\", \"flat\", got {}", show_value(v)),
+            );
+            None
+        }
+    };
+    let exposure = f.number(p, "exposure_time_s", true, |x| {
+        (x <= 0.0).then(|| format!("must be > 0, got {x}"))
+    });
+    let level = match f.get("level") {
+        None => None,
+        Some(Value::String(s)) if !s.is_empty() => Some(s.clone()),
+        Some(v) => {
+            p.push(
+                &f.path_of("level"),
+                format!("must be a non-empty label (text), got {}", show_value(v)),
+            );
+            None
+        }
+    };
+    let photons = f.number(p, "photons_per_pixel", false, |x| {
+        (x < 0.0).then(|| format!("must be ≥ 0, got {x}"))
+    });
+    if photons.is_some() && kind == Some(FrameKind::Dark) {
+        p.push(
+            &f.path_of("photons_per_pixel"),
+            "only for flat frames: a dark frame receives no photons".into(),
+        );
+    }
+    let raw_here = f.object(p, "raw").and_then(|mut g| raw(p, &mut g));
+    f.finish(p);
+    let path = path?;
+    Some(FrameEntry {
+        index,
+        path,
+        kind: kind?,
+        exposure_time_s: exposure?,
+        level,
+        photons_per_pixel: photons,
+        raw: raw_here.or(default_raw),
+    })
+}
+
+fn raw(p: &mut Problems, f: &mut Fields<'_>) -> Option<RawGeometry> {
+    let width = f.whole(p, "width", 1, u64::from(u32::MAX));
+    let height = f.whole(p, "height", 1, u64::from(u32::MAX));
+    let bits = f.whole(p, "bits", 1, 16);
+    f.finish(p);
+    Some(RawGeometry {
+        width: u32::try_from(width?).ok()?,
+        height: u32::try_from(height?).ok()?,
+        bits: u8::try_from(bits?).ok()?,
+    })
+}
+
+fn roi(p: &mut Problems, f: &mut Fields<'_>) -> Option<Roi> {
+    let max = u64::from(u32::MAX);
+    let x = f.whole(p, "x", 0, max);
+    let y = f.whole(p, "y", 0, max);
+    let width = f.whole(p, "width", 1, max);
+    let height = f.whole(p, "height", 1, max);
+    f.finish(p);
+    Some(Roi {
+        x: u32::try_from(x?).ok()?,
+        y: u32::try_from(y?).ok()?,
+        width: u32::try_from(width?).ok()?,
+        height: u32::try_from(height?).ok()?,
+    })
+}
+
+#[derive(Default)]
+struct Problems(Vec<Problem>);
+
+impl Problems {
+    fn push(&mut self, path: &str, message: String) {
+        self.0.push(Problem {
+            path: path.to_string(),
+            message,
+        });
+    }
+}
+
+/// The keys of one JSON object, tracking which were read so unknown ones can be reported.
+struct Fields<'v> {
+    prefix: String,
+    map: &'v Map<String, Value>,
+    used: Vec<&'static str>,
+}
+
+impl<'v> Fields<'v> {
+    fn new(prefix: &str, map: &'v Map<String, Value>) -> Self {
+        Fields {
+            prefix: prefix.to_string(),
+            map,
+            used: Vec::new(),
+        }
+    }
+
+    fn path_of(&self, key: &str) -> String {
+        if self.prefix.is_empty() {
+            key.to_string()
+        } else {
+            format!("{}.{key}", self.prefix)
+        }
+    }
+
+    fn get(&mut self, key: &'static str) -> Option<&'v Value> {
+        self.used.push(key);
+        self.map.get(key).filter(|v| !v.is_null())
+    }
+
+    fn number(
+        &mut self,
+        p: &mut Problems,
+        key: &'static str,
+        required: bool,
+        rule: impl Fn(f64) -> Option<String>,
+    ) -> Option<f64> {
+        let path = self.path_of(key);
+        let v = match self.get(key) {
+            None if required => {
+                p.push(&path, "required, missing".into());
+                return None;
+            }
+            None => return None,
+            Some(v) => v,
+        };
+        let Some(x) = v.as_f64().filter(|x| x.is_finite()) else {
+            p.push(&path, format!("must be a number, got {}", show_value(v)));
+            return None;
+        };
+        match rule(x) {
+            Some(m) => {
+                p.push(&path, m);
+                None
+            }
+            None => Some(x),
+        }
+    }
+
+    fn whole(&mut self, p: &mut Problems, key: &'static str, min: u64, max: u64) -> Option<u64> {
+        let path = self.path_of(key);
+        let Some(v) = self.get(key) else {
+            p.push(&path, "required, missing".into());
+            return None;
+        };
+        match v.as_u64() {
+            Some(n) if (min..=max).contains(&n) => Some(n),
+            _ => {
+                p.push(
+                    &path,
+                    format!(
+                        "must be a whole number from {min} to {max}, got {}",
+                        show_value(v)
+                    ),
+                );
+                None
+            }
+        }
+    }
+
+    fn object(&mut self, p: &mut Problems, key: &'static str) -> Option<Fields<'v>> {
+        let path = self.path_of(key);
+        match self.get(key) {
+            None => None,
+            Some(Value::Object(m)) => Some(Fields::new(&path, m)),
+            Some(v) => {
+                p.push(&path, format!("must be an object, got {}", show_value(v)));
+                None
+            }
+        }
+    }
+
+    /// Report every key not read, except those starting with `x_`.
+    fn finish(&self, p: &mut Problems) {
+        for key in self.map.keys() {
+            if key.starts_with("x_") || self.used.iter().any(|u| u == key) {
+                continue;
+            }
+            p.push(
+                &self.path_of(key),
+                format!(
+                    "unknown key; the keys here are {}; keys of your own must start with \"x_\"",
+                    self.used.join(", ")
+                ),
+            );
+        }
+    }
+}
+
+fn type_name(v: &Value) -> &'static str {
+    match v {
+        Value::Null => "null",
+        Value::Bool(_) => "true or false",
+        Value::Number(_) => "a number",
+        Value::String(_) => "text",
+        Value::Array(_) => "a list",
+        Value::Object(_) => "an object",
+    }
+}
+
+fn show_value(v: &Value) -> String {
+    match v {
+        Value::Number(n) => n.to_string(),
+        Value::String(s) if s.chars().count() <= 40 => format!("\"{s}\""),
+        Value::String(_) => "long text".into(),
+        Value::Bool(b) => b.to_string(),
+        other => type_name(other).into(),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    #![allow(clippy::unwrap_used, clippy::expect_used, clippy::indexing_slicing)] // test code
+
+    use super::*;
+
+    fn problems(text: &str) -> Vec<String> {
+        match parse_manifest(text) {
+            Ok(_) => Vec::new(),
+            Err(ps) => ps.iter().map(ToString::to_string).collect(),
+        }
+    }
+
+    #[test]
+    fn a_good_manifest_groups_stacks() {
+        let m = parse_manifest(
+            r#"{"version": 1, "roi": {"x": 0, "y": 0, "width": 4, "height": 4},
+                "frames": [
+                  {"path": "d1.pgm", "kind": "dark", "exposure_time_s": 0.01},
+                  {"path": "f1.pgm", "kind": "flat", "exposure_time_s": 0.01, "level": "a"},
+                  {"path": "d2.pgm", "kind": "dark", "exposure_time_s": 0.01, "x_note": 1},
+                  {"path": "f2.pgm", "kind": "flat", "exposure_time_s": 0.01, "level": "a"}
+                ]}"#,
+        );
+        let Ok(m) = m else { unreachable!("{m:?}") };
+        assert_eq!(m.stacks.len(), 2);
+        let paths: Vec<Vec<&str>> = m
+            .stacks
+            .iter()
+            .map(|s| s.iter().map(|f| f.path.as_str()).collect())
+            .collect();
+        assert_eq!(paths, [["d1.pgm", "d2.pgm"], ["f1.pgm", "f2.pgm"]]);
+        assert_eq!(m.roi.map(|r| r.width), Some(4));
+    }
+
+    #[test]
+    fn every_problem_is_reported_with_its_key() {
+        let got = problems(
+            r#"{"version": 2, "typo": 1, "raw": {"width": 0, "height": 2, "bits": 17},
+                "frames": [
+                  {"path": "", "kind": "bright", "exposure_time_s": -1},
+                  {"path": "a.raw", "kind": "dark", "exposure_time_s": 1, "photons_per_pixel": 5},
+                  {"path": "a.raw", "kind": "dark", "exposure_time_s": 1, "photons_per_pixel": 5},
+                  {"path": "b.raw", "kind": "flat", "exposure_time_s": 1, "photons_per_pixel": 5},
+                  {"path": "c.raw", "kind": "flat", "exposure_time_s": 1, "photons_per_pixel": 6},
+                  {"path": "e.raw", "kind": "flat", "exposure_time_s": 2}
+                ]}"#,
+        );
+        for want in [
+            "version: must be 1, got 2",
+            "raw.width: must be a whole number from 1",
+            "raw.bits: must be a whole number from 1 to 16, got 17",
+            "frames[0].path: must be a file path",
+            "frames[0].kind: must be one of \"dark\", \"flat\", got \"bright\"",
+            "frames[0].exposure_time_s: must be > 0, got -1",
+            "frames[1].photons_per_pixel: only for flat frames",
+            "frames[2].path: the same file as frames[1]",
+            "frames[4].photons_per_pixel: differs from frames[3]",
+            "frames[5]: the only frame of its stack (flat at 2 s)",
+            "typo: unknown key",
+        ] {
+            assert!(
+                got.iter().any(|g| g.starts_with(want)),
+                "missing {want:?} in {got:#?}"
+            );
+        }
+    }
+
+    #[test]
+    fn not_json_and_not_an_object() {
+        assert!(problems("{")
+            .iter()
+            .any(|p| p.starts_with("manifest: not valid JSON")));
+        assert!(problems("[1]")
+            .iter()
+            .any(|p| p.starts_with("manifest: must be a JSON object")));
+        assert!(problems(r#"{"version": 1}"#)
+            .iter()
+            .any(|p| p.starts_with("frames: required")));
+    }
+
+    /// A 4 × 2 8-bit PGM with the given samples.
+    fn pgm(samples: [u8; 8]) -> Vec<u8> {
+        let mut b = b"P5 4 2 255\n".to_vec();
+        b.extend(samples);
+        b
+    }
+
+    #[test]
+    fn measure_names_each_bad_file_and_tells_what_it_saw() {
+        let m = parse_manifest(
+            r#"{"version": 1, "frames": [
+                  {"path": "d1.pgm", "kind": "dark", "exposure_time_s": 0.01},
+                  {"path": "d2.pgm", "kind": "dark", "exposure_time_s": 0.01},
+                  {"path": "f1.pgm", "kind": "flat", "exposure_time_s": 0.01},
+                  {"path": "f2.pgm", "kind": "flat", "exposure_time_s": 0.01}
+                ]}"#,
+        )
+        .unwrap();
+        let mut seen = Vec::new();
+        let got = measure(
+            &m,
+            &mut |f| match f.path.as_str() {
+                "d2.pgm" => Ok(b"P5 4 2 255\n\x01".to_vec()),
+                "f2.pgm" => Err("the browser could not read it".into()),
+                _ => Ok(pgm([1, 2, 3, 4, 5, 6, 7, 8])),
+            },
+            &mut |f, frame| seen.push((f.index, frame.map(Frame::width))),
+        );
+        let Err(failure) = got else {
+            unreachable!("{got:?}")
+        };
+        assert_eq!(seen, [(0, Some(4)), (1, None), (2, Some(4)), (3, None)]);
+        assert!(failure.io);
+        assert_eq!(failure.messages.len(), 2, "{failure:?}");
+        assert!(failure.messages[0].starts_with("frames[1] (d2.pgm): truncated"));
+        assert_eq!(
+            failure.messages[1],
+            "frames[3] (f2.pgm): the browser could not read it"
+        );
+    }
+}

@@ -1,0 +1,179 @@
+//! One analysis job as text in, text out: the manifest the page wrote, a `read` function for
+//! the files, and the answer as JSON (the characterization and its plot series, or problems
+//! each naming its file).
+//!
+//! Pure and native-testable; the wasm bindings only adapt JavaScript functions to the two
+//! closures. No statistic or rule lives here (they are the engine's).
+
+use engine::frames::Frame;
+use engine::ptc::{self, Characterization, CurveSeries, FrameEntry, Problem};
+use serde::Serialize;
+use serde_json::Value;
+
+/// Samples of the model curve on the photon transfer plot.
+pub const MODEL_SAMPLES: usize = 64;
+
+/// The answer of a job that succeeded: what `noise-budget characterize` prints (`sensor` and
+/// `fit`), plus the plot series.
+#[derive(Debug, Serialize)]
+pub struct Answer<'a> {
+    /// SCENARIO.md `sensor` keys that were measured.
+    pub sensor: &'a ptc::MeasuredSensor,
+    /// Uncertainties, points and diagnostics.
+    pub fit: &'a ptc::FitReport,
+    /// Plot-ready series of the photon transfer curve and the variance fit.
+    pub series: &'a CurveSeries,
+}
+
+/// What one frame turned out to be, for the page's file table: `W × H, B-bit`, or `None` when
+/// the file could not be read or decoded (the problems say why).
+#[must_use]
+pub fn frame_text(frame: Option<&Frame>) -> Option<String> {
+    frame.map(|f| format!("{} × {}, {}-bit", f.width(), f.height(), f.sample_bits()))
+}
+
+/// Run a job. `read` gets a frame entry (its `index` is the file's position in the manifest's
+/// `frames`, its `path` the file's name) and returns the bytes or why they cannot be read;
+/// `seen` is told each entry's [`frame_text`] after its file was read.
+///
+/// Returns JSON text: `{"result": {"sensor": …, "fit": …, "series": …}}`, or
+/// `{"problems": ["name: what is wrong", …]}`, every problem at once.
+pub fn run(
+    manifest_json: &str,
+    read: &mut dyn FnMut(&FrameEntry) -> Result<Vec<u8>, String>,
+    seen: &mut dyn FnMut(&FrameEntry, Option<String>),
+) -> String {
+    let manifest = match ptc::parse_manifest(manifest_json) {
+        Ok(m) => m,
+        Err(problems) => return problems_json(&named(manifest_json, &problems)),
+    };
+    let result = ptc::measure(&manifest, read, &mut |f, frame| seen(f, frame_text(frame)));
+    match result {
+        Ok(c) => answer_json(&c),
+        Err(failure) => problems_json(&failure.messages),
+    }
+}
+
+/// The answer of a characterization as JSON text.
+#[must_use]
+pub fn answer_json(c: &Characterization) -> String {
+    let series = ptc::curve_series(c, MODEL_SAMPLES);
+    let answer = Answer {
+        sensor: &c.sensor,
+        fit: &c.fit,
+        series: &series,
+    };
+    match serde_json::to_string(&serde_json::json!({ "result": answer })) {
+        Ok(s) => s,
+        Err(e) => problems_json(&[format!("the result could not be written as JSON: {e}")]),
+    }
+}
+
+fn problems_json(lines: &[String]) -> String {
+    serde_json::json!({ "problems": lines }).to_string()
+}
+
+/// Manifest problems with the file's name in front: `frames[2].kind: …` becomes
+/// `f3.pgm (frames[2].kind): …`, so that the person sees which row of the table is meant.
+fn named(manifest_json: &str, problems: &[Problem]) -> Vec<String> {
+    let doc: Value = serde_json::from_str(manifest_json).unwrap_or(Value::Null);
+    problems
+        .iter()
+        .map(|p| {
+            let name = p
+                .path
+                .strip_prefix("frames[")
+                .and_then(|rest| rest.split(']').next())
+                .and_then(|i| i.parse::<usize>().ok())
+                .and_then(|i| doc.get("frames")?.get(i)?.get("path")?.as_str());
+            match name {
+                Some(n) if !n.is_empty() => format!("{n} ({}): {}", p.path, p.message),
+                _ => p.to_string(),
+            }
+        })
+        .collect()
+}
+
+/// Two synthetic 16-bit frames of `pixels` samples: a flat field near 30 000 DN with noise
+/// (invented data; xorshift with a fixed seed, as `crate/engine/benches/frame_stats.rs`), for
+/// timing the frame-pair statistics in wasm and natively on the same values.
+#[must_use]
+pub fn synthetic_pair(pixels: usize) -> (Vec<u16>, Vec<u16>) {
+    let mut state: u64 = 0x9E37_79B9_7F4A_7C15;
+    let mut next = || {
+        state ^= state << 13;
+        state ^= state >> 7;
+        state ^= state << 17;
+        state
+    };
+    let mut frame = || -> Vec<u16> {
+        (0..pixels)
+            .map(|_| {
+                let r = next();
+                // Sum of four 8-bit uniforms: roughly Gaussian, σ ≈ 148 DN; below 30 521.
+                let noise: u64 = (0..4).map(|k| (r >> (16 * k)) & 0xff).sum();
+                u16::try_from(29_500 + noise).unwrap_or(u16::MAX)
+            })
+            .collect()
+    };
+    let a = frame();
+    let b = frame();
+    (a, b)
+}
+
+#[cfg(test)]
+mod tests {
+    #![allow(clippy::unwrap_used, clippy::indexing_slicing)] // test code
+
+    use super::*;
+
+    fn pgm(v: u8) -> Vec<u8> {
+        let mut b = b"P5 2 1 255\n".to_vec();
+        b.extend([v, v]);
+        b
+    }
+
+    #[test]
+    fn problems_name_the_file() {
+        let out = run(
+            r#"{"version": 1, "frames": [
+                {"path": "a.pgm", "kind": "dark", "exposure_time_s": "fast"},
+                {"path": "b.pgm", "kind": "dark", "exposure_time_s": 1}]}"#,
+            &mut |_| Ok(pgm(1)),
+            &mut |_, _| {},
+        );
+        let v: Value = serde_json::from_str(&out).unwrap();
+        let lines = v["problems"].as_array().unwrap();
+        assert!(
+            lines.iter().any(|l| l
+                .as_str()
+                .unwrap()
+                .starts_with("a.pgm (frames[0].exposure_time_s): must be a number")),
+            "{out}"
+        );
+    }
+
+    #[test]
+    fn a_bad_file_is_named_and_every_file_is_seen() {
+        let mut seen = Vec::new();
+        let out = run(
+            r#"{"version": 1, "frames": [
+                {"path": "d1.pgm", "kind": "dark", "exposure_time_s": 1},
+                {"path": "d2.pgm", "kind": "dark", "exposure_time_s": 1}]}"#,
+            &mut |f| {
+                if f.index == 1 {
+                    Ok(b"P5 2 1 255\n".to_vec())
+                } else {
+                    Ok(pgm(3))
+                }
+            },
+            &mut |f, text| seen.push((f.index, text)),
+        );
+        assert_eq!(seen, [(0, Some("2 × 1, 8-bit".to_string())), (1, None)]);
+        let v: Value = serde_json::from_str(&out).unwrap();
+        assert!(v["problems"][0]
+            .as_str()
+            .unwrap()
+            .starts_with("frames[1] (d2.pgm): truncated"));
+    }
+}
