@@ -88,7 +88,8 @@ if (!cssLink) fail('no stylesheet link for the Trunk-built CSS in index.html');
 const charset = '<meta charset="utf-8">';
 if (!html.includes(charset)) fail(`index.html has no ${charset}`);
 
-const common = "default-src 'none'; img-src data:; connect-src 'none'; base-uri 'none'; form-action 'none'";
+// worker-src blob: lets the page start the frame worker that scripts/embed-worker.mjs embeds.
+const common = "default-src 'none'; img-src data:; connect-src 'none'; worker-src blob:; base-uri 'none'; form-action 'none'";
 const csp = (scripts, styles) =>
   `<meta http-equiv="Content-Security-Policy" content="${common}; script-src ${scripts} 'wasm-unsafe-eval'; style-src ${styles}">`;
 

@@ -21,6 +21,10 @@ pub mod dom;
 #[cfg(target_arch = "wasm32")]
 mod form;
 #[cfg(target_arch = "wasm32")]
+mod frames_plot;
+#[cfg(target_arch = "wasm32")]
+mod frames_ui;
+#[cfg(target_arch = "wasm32")]
 mod results;
 #[cfg(target_arch = "wasm32")]
 mod store;
@@ -33,6 +37,7 @@ use wasm_bindgen::prelude::*;
 #[wasm_bindgen(start)]
 pub fn start() {
     app::mount();
+    frames_ui::mount();
 }
 
 /// Evaluate a scenario (JSON text) and return the report as a JavaScript object, with `null`

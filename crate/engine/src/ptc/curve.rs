@@ -2,14 +2,15 @@
 //! signal above dark, with the fitted model) and the variance-against-mean fit with residuals.
 //!
 //! Pure arithmetic on an existing [`Characterization`]; it fits nothing anew and knows nothing
-//! of SVG, screens or pixels (the page scales these numbers to its drawing).
+//! of SVG, screens or pixels (the page scales these numbers to its drawing). Deserialize is for
+//! the page, which gets these series from the frame worker as JSON.
 
-use serde::Serialize;
+use serde::{Deserialize, Serialize};
 
 use super::{Characterization, FrameKind};
 
 /// One flat stack as a point of the plots.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct CurvePoint {
     /// Mean above dark μ_y − μ_y.dark, DN.
     pub signal_dn: f64,
@@ -26,7 +27,7 @@ pub struct CurvePoint {
 }
 
 /// The series for the two plots.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct CurveSeries {
     /// Flat stacks with a positive signal above dark, in the order of the fit report.
     pub points: Vec<CurvePoint>,

@@ -1,0 +1,359 @@
+//! The Measure section's figures: the photon transfer curve (log-log, with the fitted model
+//! and the points the fit used) and the variance-against-mean fit with its residuals, as SVG
+//! text with a `<title>` and a `<desc>`.
+//!
+//! It scales the engine's plot series (`engine::ptc::CurveSeries`, computed in the frame
+//! worker) to a drawing; it computes no statistic and fits nothing. Tick labels are formatted
+//! by the browser (`display`). The calculator's own plots are `plot.rs`.
+
+use std::fmt::Write as _;
+
+use engine::ptc::CurveSeries;
+
+use crate::display::{self, Style};
+
+/// The drawing's size and margins, in SVG user units.
+const W: f64 = 1000.0;
+const H: f64 = 560.0;
+const LEFT: f64 = 130.0;
+const RIGHT: f64 = 30.0;
+const TOP: f64 = 30.0;
+const BOTTOM: f64 = 90.0;
+
+fn esc(s: &str) -> String {
+    s.replace('&', "&amp;")
+        .replace('<', "&lt;")
+        .replace('>', "&gt;")
+        .replace('"', "&quot;")
+}
+
+/// A whole number of user units (integer formatting keeps float formatting out of the wasm).
+#[allow(clippy::cast_possible_truncation)] // clamped to the drawing's range first
+fn px(x: f64) -> i32 {
+    if x.is_finite() {
+        x.clamp(-10_000.0, 10_000.0).round() as i32
+    } else {
+        0
+    }
+}
+
+/// One axis: its range in data units and whether it is logarithmic.
+#[derive(Clone, Copy)]
+struct Axis {
+    lo: f64,
+    hi: f64,
+    log: bool,
+}
+
+impl Axis {
+    fn new(values: impl Iterator<Item = f64>, log: bool, zero: bool) -> Self {
+        let (mut lo, mut hi) = (f64::INFINITY, f64::NEG_INFINITY);
+        for v in values.filter(|v| v.is_finite() && (!log || *v > 0.0)) {
+            lo = lo.min(v);
+            hi = hi.max(v);
+        }
+        if !lo.is_finite() {
+            (lo, hi) = if log { (1.0, 10.0) } else { (0.0, 1.0) };
+        }
+        if log {
+            lo = 10f64.powf(lo.log10().floor());
+            hi = 10f64.powf(hi.log10().ceil());
+            if hi <= lo {
+                hi = lo * 10.0;
+            }
+        } else {
+            if zero {
+                lo = lo.min(0.0);
+                hi = hi.max(0.0);
+            }
+            let pad = if hi > lo { (hi - lo) * 0.05 } else { 1.0 };
+            lo -= pad;
+            hi += pad;
+        }
+        Axis { lo, hi, log }
+    }
+
+    fn fraction(&self, v: f64) -> f64 {
+        if self.log {
+            (v.max(f64::MIN_POSITIVE).log10() - self.lo.log10())
+                / (self.hi.log10() - self.lo.log10())
+        } else {
+            (v - self.lo) / (self.hi - self.lo)
+        }
+    }
+
+    fn ticks(&self) -> Vec<f64> {
+        if self.log {
+            let (a, b) = (self.lo.log10().round(), self.hi.log10().round());
+            let mut t = Vec::new();
+            let mut e = a;
+            while e <= b && t.len() < 20 {
+                t.push(10f64.powf(e));
+                e += 1.0;
+            }
+            t
+        } else {
+            let span = self.hi - self.lo;
+            let raw = span / 5.0;
+            let mag = 10f64.powf(raw.log10().floor());
+            let step = [1.0, 2.0, 5.0, 10.0]
+                .iter()
+                .map(|m| m * mag)
+                .find(|s| span / s <= 6.0)
+                .unwrap_or(mag * 10.0);
+            let mut t = Vec::new();
+            let mut v = (self.lo / step).ceil() * step;
+            while v <= self.hi && t.len() < 20 {
+                t.push(if v.abs() < step * 1e-9 { 0.0 } else { v });
+                v += step;
+            }
+            t
+        }
+    }
+}
+
+struct Plot {
+    x: Axis,
+    y: Axis,
+    height: f64,
+}
+
+impl Plot {
+    fn sx(&self, v: f64) -> i32 {
+        px(LEFT + self.x.fraction(v) * (W - LEFT - RIGHT))
+    }
+    fn sy(&self, v: f64) -> i32 {
+        px(self.height - BOTTOM - self.y.fraction(v) * (self.height - TOP - BOTTOM))
+    }
+}
+
+fn open_svg(out: &mut String, height: f64, id: &str, title: &str, desc: &str) {
+    let _ = write!(
+        out,
+        "<svg xmlns=\"http://www.w3.org/2000/svg\" viewBox=\"0 0 {} {}\" role=\"img\" \
+         aria-labelledby=\"{id}-title {id}-desc\"><title id=\"{id}-title\">{}</title>\
+         <desc id=\"{id}-desc\">{}</desc>",
+        px(W),
+        px(height),
+        esc(title),
+        esc(desc)
+    );
+}
+
+fn axes(out: &mut String, f: &Plot, xlabel: &str, ylabel: &str) {
+    let (x0, x1) = (px(LEFT), px(W - RIGHT));
+    let (y0, y1) = (px(f.height - BOTTOM), px(TOP));
+    for t in f.x.ticks() {
+        let x = f.sx(t);
+        let _ = write!(
+            out,
+            "<line class=\"grid\" x1=\"{x}\" y1=\"{y0}\" x2=\"{x}\" y2=\"{y1}\"/>\
+             <text x=\"{x}\" y=\"{}\" text-anchor=\"middle\">{}</text>",
+            y0 + 30,
+            esc(&display::rounded(t, Style::Number))
+        );
+    }
+    for t in f.y.ticks() {
+        let y = f.sy(t);
+        let _ = write!(
+            out,
+            "<line class=\"grid\" x1=\"{x0}\" y1=\"{y}\" x2=\"{x1}\" y2=\"{y}\"/>\
+             <text x=\"{}\" y=\"{}\" text-anchor=\"end\">{}</text>",
+            x0 - 10,
+            y + 7,
+            esc(&display::rounded(t, Style::Number))
+        );
+    }
+    let _ = write!(
+        out,
+        "<polyline class=\"axis\" points=\"{x0},{y1} {x0},{y0} {x1},{y0}\"/>\
+         <text x=\"{}\" y=\"{}\" text-anchor=\"middle\">{}</text>\
+         <text x=\"24\" y=\"{}\" text-anchor=\"middle\" transform=\"rotate(-90 24 {})\">{}</text>",
+        (x0 + x1) / 2,
+        px(f.height - 20.0),
+        esc(xlabel),
+        (y0 + y1) / 2,
+        (y0 + y1) / 2,
+        esc(ylabel)
+    );
+}
+
+fn polyline(out: &mut String, f: &Plot, pts: &[(f64, f64)], class: &str, dashed: bool) {
+    if pts.len() < 2 {
+        return;
+    }
+    let mut p = String::new();
+    for (x, y) in pts {
+        let _ = write!(p, "{},{} ", f.sx(*x), f.sy(*y));
+    }
+    let dash = if dashed {
+        " stroke-dasharray=\"12 8\""
+    } else {
+        ""
+    };
+    let _ = write!(
+        out,
+        "<polyline class=\"{class}\"{dash} points=\"{}\"/>",
+        p.trim_end()
+    );
+}
+
+fn marks(out: &mut String, f: &Plot, pts: &[(f64, f64, bool)]) {
+    for (x, y, used) in pts {
+        let class = if *used { "used" } else { "unused" };
+        let _ = write!(
+            out,
+            "<circle class=\"{class}\" cx=\"{}\" cy=\"{}\" r=\"8\"/>",
+            f.sx(*x),
+            f.sy(*y)
+        );
+    }
+}
+
+fn legend(out: &mut String, items: &[&str]) {
+    for (i, text) in items.iter().enumerate() {
+        let y = px(TOP + 10.0) + 30 * i32::try_from(i).unwrap_or(0);
+        let _ = write!(
+            out,
+            "<text x=\"{}\" y=\"{y}\">{}</text>",
+            px(LEFT + 20.0),
+            esc(text)
+        );
+    }
+}
+
+/// The photon transfer curve; `k` is the fitted system gain, DN/e⁻.
+pub fn ptc_svg(s: &CurveSeries, k: f64) -> String {
+    let used = s.points.iter().filter(|p| p.used_in_fit).count();
+    let xs = s.points.iter().map(|p| p.signal_dn);
+    let ys = s
+        .points
+        .iter()
+        .map(|p| p.noise_dn)
+        .chain(s.model.iter().map(|m| m.1))
+        .chain(std::iter::once(s.dark_noise_dn));
+    let f = Plot {
+        x: Axis::new(xs, true, false),
+        y: Axis::new(ys, true, false),
+        height: H,
+    };
+    let mut out = String::new();
+    open_svg(
+        &mut out,
+        H,
+        "measure-ptc-svg",
+        "Photon transfer curve",
+        &format!(
+            "Temporal noise against signal above dark, both in DN, on logarithmic axes: {} flat \
+             levels, of which the {used} drawn filled were used by the gain fit; the line is \
+             the fitted model with K = {} DN/e⁻, the dashed line the dark noise.",
+            s.points.len(),
+            display::rounded(k, Style::Number)
+        ),
+    );
+    axes(
+        &mut out,
+        &f,
+        "signal above dark, DN",
+        "temporal noise, DN rms",
+    );
+    if s.dark_noise_dn > 0.0 {
+        polyline(
+            &mut out,
+            &f,
+            &[(f.x.lo, s.dark_noise_dn), (f.x.hi, s.dark_noise_dn)],
+            "model",
+            true,
+        );
+    }
+    polyline(&mut out, &f, &s.model, "model", false);
+    let pts: Vec<(f64, f64, bool)> = s
+        .points
+        .iter()
+        .map(|p| (p.signal_dn, p.noise_dn, p.used_in_fit))
+        .collect();
+    marks(&mut out, &f, &pts);
+    legend(
+        &mut out,
+        &[
+            "● used by the fit   ○ not used",
+            "— fitted model   - - dark noise",
+        ],
+    );
+    out.push_str("</svg>");
+    out
+}
+
+/// The variance-against-mean fit and, below it, its residuals.
+pub fn fit_svg(s: &CurveSeries) -> String {
+    let used: Vec<_> = s.points.iter().filter(|p| p.used_in_fit).collect();
+    let f = Plot {
+        x: Axis::new(s.points.iter().map(|p| p.signal_dn), false, true),
+        y: Axis::new(
+            s.points
+                .iter()
+                .map(|p| p.variance_above_dark_dn2)
+                .chain(s.fit_line.iter().map(|l| l.1)),
+            false,
+            true,
+        ),
+        height: H,
+    };
+    let mut out = String::new();
+    open_svg(
+        &mut out,
+        H,
+        "measure-fit-svg",
+        "Variance against mean, with the fitted line",
+        &format!(
+            "Temporal variance above dark (DN²) against mean above dark (DN), linear axes: {} \
+             flat levels; the {} drawn filled are those the straight-line fit used, and its \
+             slope is the system gain K.",
+            s.points.len(),
+            used.len()
+        ),
+    );
+    axes(
+        &mut out,
+        &f,
+        "mean above dark, DN",
+        "variance above dark, DN²",
+    );
+    polyline(&mut out, &f, &s.fit_line, "model", false);
+    let pts: Vec<(f64, f64, bool)> = s
+        .points
+        .iter()
+        .map(|p| (p.signal_dn, p.variance_above_dark_dn2, p.used_in_fit))
+        .collect();
+    marks(&mut out, &f, &pts);
+    out.push_str("</svg>");
+
+    // The residuals of the fit, on their own axes below.
+    let rh = 360.0;
+    let res: Vec<(f64, f64)> = used
+        .iter()
+        .filter_map(|p| p.residual_dn2.map(|r| (p.signal_dn, r)))
+        .collect();
+    let g = Plot {
+        x: f.x,
+        y: Axis::new(res.iter().map(|r| r.1), false, true),
+        height: rh,
+    };
+    open_svg(
+        &mut out,
+        rh,
+        "measure-res-svg",
+        "Residuals of the variance fit",
+        &format!(
+            "Measured variance minus the fitted line, in DN², at the {} levels the fit used; \
+             points scattered evenly about zero mean the line describes them.",
+            res.len()
+        ),
+    );
+    axes(&mut out, &g, "mean above dark, DN", "residual, DN²");
+    polyline(&mut out, &g, &[(g.x.lo, 0.0), (g.x.hi, 0.0)], "axis", true);
+    let rp: Vec<(f64, f64, bool)> = res.iter().map(|(x, y)| (*x, *y, true)).collect();
+    marks(&mut out, &g, &rp);
+    out.push_str("</svg>");
+    out
+}
