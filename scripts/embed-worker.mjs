@@ -1,22 +1,22 @@
 #!/usr/bin/env node
-// Embed the frame worker (crate/frames-worker) in the built pages, after scripts/single-file.mjs.
+// Embed the frame worker (crate/frames-worker) in a built page, after scripts/single-file.mjs.
 //
 // The worker's script is the wasm-bindgen glue (target no-modules), the wasm as base64 of its
 // gzip (inflated in the worker with DecompressionStream), and crate/frames-worker/boot.js. It
-// goes into dist/index.html and dist/noise-budget.html as a data block,
+// goes into the page (dist/index.html or dist/noise-budget.html) as a data block,
 //   <script type="text/plain" id="frames-worker-script">…</script>,
 // which the browser never runs: the page (crate/web/src/frames_ui.rs) starts it from a Blob URL
 // only when frames are analysed (the CSP's `worker-src blob:`), so it costs nothing at start
-// and no request is ever made for it. Sizes are added to dist/sizes.json.
-// Usage: node scripts/embed-worker.mjs DIST WORKER_DIR   (WORKER_DIR holds wasm-bindgen's output)
+// and no request is ever made for it. Sizes are added to sizes.json next to the page.
+// Usage: node scripts/embed-worker.mjs PAGE.html WORKER_DIR   (WORKER_DIR: wasm-bindgen's output)
 import { readFileSync, writeFileSync } from 'node:fs';
-import { dirname, join } from 'node:path';
+import { basename, dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { gzipSync } from 'node:zlib';
 
-const [dist = 'dist', workerDir] = process.argv.slice(2);
+const [pagePath, workerDir] = process.argv.slice(2);
 const fail = (msg) => { console.error(`embed-worker: ${msg}`); process.exit(1); };
-if (!workerDir) fail('usage: embed-worker.mjs DIST WORKER_DIR');
+if (!pagePath || !workerDir) fail('usage: embed-worker.mjs PAGE.html WORKER_DIR');
 
 const here = dirname(fileURLToPath(import.meta.url));
 const glue = readFileSync(join(workerDir, 'noise_budget_frames_worker.js'), 'utf8');
@@ -31,24 +31,22 @@ if (/<\/script|<!--/i.test(script)) fail('the worker script contains </script or
 
 const ID = 'frames-worker-script';
 const block = `<script type="text/plain" id="${ID}">${script}</script>\n`;
-for (const name of ['index.html', 'noise-budget.html']) {
-  const path = join(dist, name);
-  let html = readFileSync(path, 'utf8');
-  if (html.includes(`id="${ID}"`)) fail(`${name} already has the worker; run single-file.mjs first`);
-  if (!html.includes('</body>')) fail(`${name} has no </body>`);
-  if (!/worker-src blob:/.test(html)) fail(`${name}'s CSP does not allow workers from blob: URLs`);
-  html = html.replace('</body>', () => `${block}</body>`);
-  writeFileSync(path, html);
-}
+const name = basename(pagePath);
+let html = readFileSync(pagePath, 'utf8');
+if (html.includes(`id="${ID}"`)) fail(`${name} already has the worker`);
+if (!html.includes('</body>')) fail(`${name} has no </body>`);
+if (!/worker-src blob:/.test(html)) fail(`${name}'s CSP does not allow workers from blob: URLs`);
+html = html.replace('</body>', () => `${block}</body>`);
+writeFileSync(pagePath, html);
 
 const size = (buf) => ({ raw: buf.length, gzip: gzipSync(buf, { level: 9 }).length });
+const dist = dirname(pagePath);
 const sizesPath = join(dist, 'sizes.json');
 const sizes = JSON.parse(readFileSync(sizesPath, 'utf8'));
-sizes.single_file = size(readFileSync(join(dist, 'noise-budget.html')));
-sizes.frames_worker_wasm = size(wasm);
-sizes.frames_worker_script = size(Buffer.from(script));
+if (name === 'noise-budget.html') sizes.single_file = size(Buffer.from(html));
+sizes.frames_worker = { ...sizes.frames_worker, [name]: { wasm: size(wasm), script: size(Buffer.from(script)) } };
 writeFileSync(sizesPath, `${JSON.stringify(sizes, null, 2)}\n`);
 const kb = (n) => `${(n / 1024).toFixed(1)} KiB`;
-console.log(`embed-worker: frame worker wasm ${kb(sizes.frames_worker_wasm.raw)} raw, ` +
-  `${kb(sizes.frames_worker_wasm.gzip)} gzip; noise-budget.html now ` +
-  `${kb(sizes.single_file.raw)} raw, ${kb(sizes.single_file.gzip)} gzip`);
+console.log(`embed-worker: ${name}: frame worker wasm ${kb(wasm.length)} raw, ` +
+  `${kb(sizes.frames_worker[name].wasm.gzip)} gzip; page ${kb(html.length)} raw, ` +
+  `${kb(size(Buffer.from(html)).gzip)} gzip`);

@@ -7,8 +7,10 @@
 //! not converted.
 
 mod pgm;
+#[cfg(feature = "png")]
 mod png_frame;
 mod raw;
+#[cfg(feature = "tiff")]
 mod tiff_frame;
 
 use std::fmt;
@@ -20,6 +22,14 @@ pub use raw::RawGeometry;
 /// The limit keeps every integer accumulator of [`crate::ptc`] exact: a sum of squared
 /// 16-bit differences is below 2^32 · 2^28 = 2^60 and fits a `u64`.
 pub const MAX_PIXELS: u64 = 1 << 28;
+
+/// Largest ratio of decompressed to compressed size that Deflate can reach: a length-258 match
+/// coded in 1 bit of a fixed-Huffman-free stream gives about 1032:1 (zlib's technical notes,
+/// "maximum compression factor", from memory). A PNG (or Deflate TIFF) announcing more pixel
+/// bytes than this times its file size cannot be valid, so it is refused before its buffer is
+/// allocated.
+#[cfg(any(feature = "png", feature = "tiff"))]
+pub(crate) const DEFLATE_MAX_RATIO: u64 = 1032;
 
 /// A decoded greyscale frame: samples row by row, top row first, widened to `u16`.
 #[derive(Debug, Clone, PartialEq, Eq)]
@@ -229,6 +239,12 @@ pub enum FrameError {
         /// The decoding library's description.
         what: String,
     },
+    /// A format this build was made without (its decoder is a cargo feature, left out to keep
+    /// a build small).
+    NotBuiltIn {
+        /// The format the file's signature announces.
+        format: &'static str,
+    },
 }
 
 impl fmt::Display for FrameError {
@@ -281,6 +297,11 @@ impl fmt::Display for FrameError {
                  {file_bytes} compressed bytes can hold"
             ),
             FrameError::Corrupt { format, what } => write!(f, "corrupt {format} data: {what}"),
+            FrameError::NotBuiltIn { format } => write!(
+                f,
+                "a {format} file, which this build does not read (it was left out to keep the \
+                 build small; PGM and raw frames are read)"
+            ),
         }
     }
 }
@@ -323,8 +344,8 @@ pub fn decode(bytes: &[u8], raw: Option<RawGeometry>) -> Result<Frame, FrameErro
     }
     match sniff(bytes) {
         Some(Format::Pgm) => pgm::decode(bytes),
-        Some(Format::Png) => png_frame::decode(bytes),
-        Some(Format::Tiff) => tiff_frame::decode(bytes),
+        Some(Format::Png) => decode_png(bytes),
+        Some(Format::Tiff) => decode_tiff(bytes),
         Some(Format::Raw) | None => Err(FrameError::UnknownFormat),
     }
 }
@@ -341,8 +362,8 @@ pub fn decode_as(
 ) -> Result<Frame, FrameError> {
     match format {
         Format::Pgm => pgm::decode(bytes),
-        Format::Png => png_frame::decode(bytes),
-        Format::Tiff => tiff_frame::decode(bytes),
+        Format::Png => decode_png(bytes),
+        Format::Tiff => decode_tiff(bytes),
         Format::Raw => match raw {
             Some(g) => raw::decode(bytes, g),
             None => Err(FrameError::BadHeader {
@@ -351,6 +372,26 @@ pub fn decode_as(
             }),
         },
     }
+}
+
+#[cfg(feature = "png")]
+fn decode_png(bytes: &[u8]) -> Result<Frame, FrameError> {
+    png_frame::decode(bytes)
+}
+
+#[cfg(not(feature = "png"))]
+fn decode_png(_bytes: &[u8]) -> Result<Frame, FrameError> {
+    Err(FrameError::NotBuiltIn { format: "png" })
+}
+
+#[cfg(feature = "tiff")]
+fn decode_tiff(bytes: &[u8]) -> Result<Frame, FrameError> {
+    tiff_frame::decode(bytes)
+}
+
+#[cfg(not(feature = "tiff"))]
+fn decode_tiff(_bytes: &[u8]) -> Result<Frame, FrameError> {
+    Err(FrameError::NotBuiltIn { format: "tiff" })
 }
 
 /// Check a width and height: both ≥ 1 and their product at most [`MAX_PIXELS`]. Returns the

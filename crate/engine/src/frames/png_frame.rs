@@ -6,15 +6,9 @@
 
 use std::io::Cursor;
 
-use super::{check_size, from_be16, Frame, FrameError};
+use super::{check_size, from_be16, Frame, FrameError, DEFLATE_MAX_RATIO};
 
 const FORMAT: &str = "png";
-
-/// Largest ratio of decompressed to compressed size that Deflate can reach: a length-258 match
-/// coded in 1 bit of a fixed-Huffman-free stream gives about 1032:1 (zlib's technical notes,
-/// "maximum compression factor", from memory). A PNG announcing more pixel bytes than this
-/// times its file size cannot be valid, so it is refused before its buffer is allocated.
-pub(super) const DEFLATE_MAX_RATIO: u64 = 1032;
 
 /// Allocation the `png` crate may make besides the image (rows, chunks), beyond the image
 /// bound: 16 MiB is ample for a greyscale frame's row buffers and metadata (common practice, no
