@@ -8,6 +8,7 @@
 import assert from 'node:assert/strict';
 import { execFileSync } from 'node:child_process';
 import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
+import { crc32, deflateSync } from 'node:zlib';
 import { createRequire } from 'node:module';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
@@ -88,13 +89,34 @@ function bigSet() {
   return [manifest, ...frames.map((f) => join(dir, f.path))];
 }
 
+/** The same frame as a 16-bit greyscale PNG (PNG 1.2: signature, IHDR, one IDAT with filter 0
+ * on every row, IEND; zlib and CRC-32 from node). */
+function png16(pgmBytes) {
+  const pixels = pgmBytes.subarray(pgmBytes.length - WIDTH * HEIGHT * 2);
+  const raw = Buffer.alloc(HEIGHT * (1 + WIDTH * 2));
+  for (let y = 0; y < HEIGHT; y++) pixels.copy(raw, y * (1 + WIDTH * 2) + 1, y * WIDTH * 2, (y + 1) * WIDTH * 2);
+  const chunk = (type, data) => {
+    const len = Buffer.alloc(4); len.writeUInt32BE(data.length);
+    const td = Buffer.concat([Buffer.from(type, 'latin1'), data]);
+    const crc = Buffer.alloc(4); crc.writeUInt32BE(crc32(td));
+    return Buffer.concat([len, td, crc]);
+  };
+  const ihdr = Buffer.alloc(13);
+  ihdr.writeUInt32BE(WIDTH, 0); ihdr.writeUInt32BE(HEIGHT, 4);
+  ihdr[8] = 16; ihdr[9] = 0; // 16-bit greyscale
+  return Buffer.concat([Buffer.from([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a]),
+    chunk('IHDR', ihdr), chunk('IDAT', deflateSync(raw)), chunk('IEND', Buffer.alloc(0))]);
+}
+
 /** Write the frame set and its manifest; returns { dir, manifest, files }. */
-function frameSet({ bad = false } = {}) {
+function frameSet({ bad = false, png = false } = {}) {
   const dir = mkdtempSync(join(tmpdir(), 'noise-budget-frames-'));
   const frames = [];
   let seed = 1;
-  const add = (name, kind, e, level) => {
-    writeFileSync(join(dir, name), pgm(e, seed++));
+  const add = (pgmName, kind, e, level) => {
+    const name = png ? pgmName.replace(/\.pgm$/, '.png') : pgmName;
+    const bytes = pgm(e, seed++);
+    writeFileSync(join(dir, name), png ? png16(bytes) : bytes);
     frames.push({ path: name, kind, exposure_time_s: EXPOSURE_S, ...(level ? { level } : {}) });
   };
   add('dark-a.pgm', 'dark', 0);
@@ -336,6 +358,35 @@ describe('measure a camera: actions and failures', () => {
       assert.match(problems, /dark-a\.pgm \(frames\[0\]\.exposure_time_s\): required, missing/);
       assert.match(problems, /dark-b\.pgm \(frames\[1\]\.exposure_time_s\): must be a number, got "soon"/);
       assert.equal(await page.$eval('#measure-run', (e) => e.disabled), false);
+      assert.deepEqual(errors, []);
+    } finally {
+      await ctx.close();
+    }
+  });
+
+  test('PNG frames: the served page reads them (same figures as characterize); the single file refuses them by name', async () => {
+    const pngSet = frameSet({ png: true });
+    // Source of the expected figures: the CLI's output for the same PNG files.
+    const want = JSON.parse(execFileSync(cli(), ['characterize', pngSet.manifest], { encoding: 'utf8' }));
+    let { ctx, page, errors } = await openPage(browser, `${server.origin}/`);
+    try {
+      await chooseFrames(page, pngSet.files);
+      await analyse(page);
+      assert.match(await page.textContent('#measure-status'), /^Analysed/);
+      const got = await shownMeasure(page);
+      const k = want.sensor.system_gain_dn_per_e;
+      assert.ok(Math.abs(Number(got.system_gain_dn_per_e) - k) <= 1e-12 * k, `page ${got.system_gain_dn_per_e}, CLI ${k}`);
+      assert.deepEqual(errors, []);
+    } finally {
+      await ctx.close();
+    }
+    ({ ctx, page, errors } = await openPage(browser, singleFileUrl()));
+    try {
+      await chooseFrames(page, pngSet.files);
+      await analyse(page);
+      const problems = await page.textContent('#measure-problems');
+      assert.match(problems, /dark-a\.png\): a png file, which this build does not read/);
+      assert.equal(await page.$eval('#measure-results', (e) => e.hidden), true);
       assert.deepEqual(errors, []);
     } finally {
       await ctx.close();
