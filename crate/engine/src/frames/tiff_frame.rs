@@ -35,9 +35,7 @@ fn max_ratio(compression: u16) -> Option<u64> {
     match compression {
         COMPRESSION_NONE => Some(1),
         COMPRESSION_PACKBITS => Some(64),
-        COMPRESSION_ADOBE_DEFLATE | COMPRESSION_DEFLATE => {
-            Some(super::DEFLATE_MAX_RATIO)
-        }
+        COMPRESSION_ADOBE_DEFLATE | COMPRESSION_DEFLATE => Some(super::DEFLATE_MAX_RATIO),
         COMPRESSION_LZW => Some(4096),
         _ => None,
     }
