@@ -107,6 +107,23 @@ fn the_engine_has_no_web_crates_and_no_io() {
 }
 
 #[test]
+fn the_frame_worker_has_no_dom_and_the_page_no_frame_decoders() {
+    let worker = read("crate/frames-worker/Cargo.toml");
+    assert!(
+        !worker
+            .lines()
+            .any(|l| l.trim_start().starts_with("web-sys") || l.contains("\"web-sys\"")),
+        "crate/frames-worker runs in a Web Worker and must not depend on web-sys (no DOM)"
+    );
+    let web = read("crate/web/Cargo.toml");
+    assert!(
+        web.lines().any(|l| l.starts_with("noise-budget-engine")
+            && l.contains("default-features = false")),
+        "crate/web must use the engine without its png/tiff features: the page's wasm decodes no frame"
+    );
+}
+
+#[test]
 fn every_element_the_web_crate_looks_up_exists_in_the_page() {
     let web_src = root().join("crate/web/src");
     if !web_src.exists() {
