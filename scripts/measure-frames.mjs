@@ -3,8 +3,9 @@
 // 16-bit frames in wasm, in the page's frame worker in Chromium, against the same pass natively
 // in this session, and print the ratio; then the page's sizes from dist/sizes.json.
 //
-// wasm: the worker embedded in dist/noise-budget.html, started from its Blob URL as the page
-// does, asked for `pair_stats_ms(4000, 3000, repeats)` (crate/frames-worker/src/bindings.rs):
+// wasm: the worker embedded in the served page (dist/index.html, on a local server; the single
+// file has none by default), started from its Blob URL as the page does, asked for
+// `pair_stats_ms(4000, 3000, repeats)` (crate/frames-worker/src/bindings.rs):
 // two synthetic frames made in wasm memory, only `engine::ptc::pair_sums` timed with the
 // worker's performance.now, best of the repeats. native: the example
 // crate/frames-worker/examples/pair_stats_native.rs (same frames, same engine function, which
@@ -13,14 +14,14 @@
 import { execFileSync } from 'node:child_process';
 import { existsSync, readFileSync } from 'node:fs';
 import { dirname, join, resolve } from 'node:path';
-import { fileURLToPath, pathToFileURL } from 'node:url';
+import { fileURLToPath } from 'node:url';
 import { chromium } from 'playwright-core';
+import { serveStatic } from './static-server.mjs';
 
 const ROOT = resolve(dirname(fileURLToPath(import.meta.url)), '..');
 const DIST = resolve(ROOT, process.env.NOISE_BUDGET_DIST ?? 'dist');
-const file = join(DIST, 'noise-budget.html');
-if (!existsSync(file)) {
-  console.error('measure-frames: no dist/noise-budget.html; run scripts/build-page first');
+if (!existsSync(join(DIST, 'index.html'))) {
+  console.error('measure-frames: no dist/index.html; run scripts/build-page first');
   process.exit(1);
 }
 const [WIDTH, HEIGHT, REPEATS] = [4000, 3000, 20];
@@ -31,10 +32,11 @@ const browser = await chromium.launch({
   args: ['--no-sandbox', '--disable-gpu', '--disable-background-networking',
     '--disable-component-update', '--disable-sync', '--no-first-run', '--disable-dev-shm-usage'],
 });
+const server = await serveStatic(DIST, 0);
 let wasmMs;
 try {
   const page = await browser.newPage();
-  await page.goto(pathToFileURL(file).href);
+  await page.goto(`${server.origin}/`);
   await page.waitForSelector('html[data-ready]', { timeout: 15000 });
   wasmMs = await page.evaluate((bench) => new Promise((resolvePromise, reject) => {
     const text = document.getElementById('frames-worker-script')?.textContent;
@@ -51,6 +53,7 @@ try {
   }), { width: WIDTH, height: HEIGHT, repeats: REPEATS });
 } finally {
   await browser.close();
+  server.server.close();
 }
 const simd = /simd128/.test(readFileSync(join(ROOT, 'scripts/build-page'), 'utf8')) ? ' (simd128 build)' : '';
 console.log(`wasm, frame worker in Chromium${simd}: pair_sums 12 MP 16-bit, best of ${REPEATS}: ${wasmMs.toFixed(2)} ms`);

@@ -13,7 +13,7 @@ import { createRequire } from 'node:module';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { after, before, describe, test } from 'node:test';
-import { cli, launch, openPage, singleFileUrl, startServer } from './helpers.mjs';
+import { DIST, cli, launch, openPage, singleFileUrl, startServer } from './helpers.mjs';
 
 const axeSource = readFileSync(createRequire(import.meta.url).resolve('axe-core/axe.min.js'), 'utf8');
 
@@ -151,10 +151,37 @@ after(async () => {
   server?.server.close();
 });
 
+// The single file holds the frame worker only when built with NOISE_BUDGET_SINGLE_FILE_FRAMES
+// (scripts/build-page): by default it is left out to keep that file within its size budget.
+const SINGLE_FILE_HAS_WORKER = readFileSync(join(DIST, 'noise-budget.html'), 'utf8').includes('id="frames-worker-script"');
+
 const TARGETS = [
   { slug: 'served', name: 'the served page', url: () => `${server.origin}/` },
-  { slug: 'file', name: 'the single file from file://', url: () => singleFileUrl() },
+  ...(SINGLE_FILE_HAS_WORKER ? [{ slug: 'file', name: 'the single file from file://', url: () => singleFileUrl() }] : []),
 ];
+
+if (!SINGLE_FILE_HAS_WORKER) {
+  describe('the single file without the frame worker', () => {
+    test('says so at once, and Analyse names the reason; no worker, no request, no error', async () => {
+      const { ctx, page, requests, errors } = await openPage(browser, singleFileUrl());
+      try {
+        const workers = [];
+        page.on('worker', (w) => workers.push(w.url()));
+        assert.match(await page.textContent('#measure-status'), /no frame analysis.*served page.*noise-budget characterize/);
+        await page.setInputFiles('#measure-files', set.files);
+        requests.length = 0;
+        await page.click('#measure-run');
+        assert.match(await page.textContent('#measure-problems'), /this copy of the page has no frame analysis/);
+        assert.equal(await page.$eval('#measure-run', (e) => e.disabled), false);
+        assert.deepEqual(workers, []);
+        assert.deepEqual(requests, []);
+        assert.deepEqual(errors, []);
+      } finally {
+        await ctx.close();
+      }
+    });
+  });
+}
 
 async function chooseFrames(page, files) {
   await page.setInputFiles('#measure-files', files);
@@ -365,7 +392,7 @@ describe('measure a camera: actions and failures', () => {
     }
   });
 
-  test('PNG frames: the served page reads them (same figures as characterize); the single file refuses them by name', async () => {
+  test('PNG frames: the served page reads them (same figures as characterize); a single file with the PGM-and-raw worker refuses them by name', async () => {
     const pngSet = frameSet({ png: true });
     // Source of the expected figures: the CLI's output for the same PNG files.
     const want = JSON.parse(execFileSync(cli(), ['characterize', pngSet.manifest], { encoding: 'utf8' }));
@@ -381,6 +408,7 @@ describe('measure a camera: actions and failures', () => {
     } finally {
       await ctx.close();
     }
+    if (!SINGLE_FILE_HAS_WORKER) return; // the single file has no frame analysis at all
     ({ ctx, page, errors } = await openPage(browser, singleFileUrl()));
     try {
       await chooseFrames(page, pngSet.files);

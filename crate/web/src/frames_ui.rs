@@ -33,6 +33,19 @@ use crate::frames_plot;
 /// the built page (it is not in `www/index.html`, so it is looked up without `dom::by_id`).
 const WORKER_SCRIPT_ID: &str = "frames-worker-script";
 
+/// What a copy of the page without the frame worker says (the self-contained file is built
+/// without it by default, to stay within its size budget).
+const NO_WORKER: &str = "this copy of the page has no frame analysis: it was left out to keep \
+     the self-contained file small. Open the served page (scripts/serve), or run \
+     noise-budget characterize on a manifest of these files";
+
+/// Whether the page holds the frame worker's script.
+fn has_worker() -> bool {
+    dom::document()
+        .and_then(|d| d.get_element_by_id(WORKER_SCRIPT_ID))
+        .is_some()
+}
+
 thread_local! {
     /// The chosen frame files, in the order of the table's rows.
     static FILES: RefCell<Vec<File>> = const { RefCell::new(Vec::new()) };
@@ -110,6 +123,9 @@ pub fn mount() {
     on_id("measure-run", "click", |_| start_run());
     on_id("measure-cancel", "click", |_| cancel());
     on_id("measure-use", "click", |_| use_sensor());
+    if !has_worker() {
+        status(&format!("Note: {NO_WORKER}."));
+    }
 }
 
 fn on_id(id: &'static str, kind: &str, handler: impl FnMut(Event) + 'static) {
@@ -464,7 +480,7 @@ fn new_worker() -> Result<(Worker, String), String> {
         .and_then(|d| d.get_element_by_id(WORKER_SCRIPT_ID))
         .and_then(|e| e.text_content())
         .filter(|t| !t.is_empty())
-        .ok_or("this build of the page has no frame analysis (build it with scripts/build-page)")?;
+        .ok_or(NO_WORKER)?;
     let parts = js_sys::Array::of1(&JsValue::from_str(&script));
     let options = BlobPropertyBag::new();
     options.set_type("text/javascript");
