@@ -1314,7 +1314,8 @@ fn edit_distance(a: &str, b: &str) -> usize {
     prev.last().copied().unwrap_or(0)
 }
 
-fn type_name(v: &Value) -> &'static str {
+/// A JSON value's type in words, for messages.
+pub(crate) fn type_name(v: &Value) -> &'static str {
     match v {
         Value::Null => "null",
         Value::Bool(_) => "true or false",
@@ -1326,7 +1327,7 @@ fn type_name(v: &Value) -> &'static str {
 }
 
 /// A value as it appears in a message: numbers and short text shown, the rest by type.
-fn show_value(v: &Value) -> String {
+pub(crate) fn show_value(v: &Value) -> String {
     match v {
         Value::Number(n) => n.to_string(),
         Value::String(s) if s.chars().count() <= 40 => format!("\"{s}\""),

@@ -13,6 +13,7 @@ use serde_json::{Map, Value};
 
 use super::{analyse, Characterization, FrameKind, Roi, StackAccumulator, StackSpec};
 use crate::frames::{self, Frame, RawGeometry};
+use crate::validate::{show_value, type_name};
 
 /// The manifest format version this module reads.
 pub const MANIFEST_VERSION: u64 = 1;
@@ -508,27 +509,6 @@ impl<'v> Fields<'v> {
                 ),
             );
         }
-    }
-}
-
-fn type_name(v: &Value) -> &'static str {
-    match v {
-        Value::Null => "null",
-        Value::Bool(_) => "true or false",
-        Value::Number(_) => "a number",
-        Value::String(_) => "text",
-        Value::Array(_) => "a list",
-        Value::Object(_) => "an object",
-    }
-}
-
-fn show_value(v: &Value) -> String {
-    match v {
-        Value::Number(n) => n.to_string(),
-        Value::String(s) if s.chars().count() <= 40 => format!("\"{s}\""),
-        Value::String(_) => "long text".into(),
-        Value::Bool(b) => b.to_string(),
-        other => type_name(other).into(),
     }
 }
 
