@@ -16,7 +16,7 @@ use web_sys::{
     Element, Event, EventTarget, HtmlButtonElement, HtmlInputElement, HtmlSelectElement,
 };
 
-use crate::{address, curves, demos, dom, form, plot, results, store};
+use crate::{address, curves, demos, dom, fields, form, plot, results, store};
 
 /// Delay before the address bar and the browser's store follow an edit: edits in quick
 /// succession are written once (browsers throttle frequent `history.replaceState` calls).
@@ -444,24 +444,8 @@ fn copy_link() {
 
 /// A file name from the scenario's title: letters and digits kept, the rest as dashes.
 fn file_name(scenario: &Value) -> String {
-    let title = scenario.get("title").and_then(Value::as_str).unwrap_or("");
-    let mut name = String::new();
-    for c in title.chars().flat_map(char::to_lowercase) {
-        if c.is_alphanumeric() {
-            name.push(c);
-        } else if !name.is_empty() && !name.ends_with('-') {
-            name.push('-');
-        }
-        if name.chars().count() >= 60 {
-            break;
-        }
-    }
-    let name = name.trim_end_matches('-');
-    if name.is_empty() {
-        "scenario.json".into()
-    } else {
-        format!("{name}.json")
-    }
+    let title = scenario.get("title").and_then(Value::as_str);
+    format!("{}.json", fields::name_words(title, 60))
 }
 
 fn save_file() {

@@ -23,6 +23,7 @@ use web_sys::{
 use crate::chart::{eng, Axis, Chart, Layer, Line, Marker, Region, Scale};
 use crate::display::{self, Style};
 use crate::dom;
+use crate::fields::name_words;
 
 /// The scenario key that carries the pinned scenarios (ignored by the format, `x_` prefix).
 pub const PINS_KEY: &str = "x_pinned";
@@ -33,6 +34,8 @@ const DEFAULT_POINTS: u32 = 200;
 /// Most points per curve this page draws (a chart is 546 drawing units wide: more points than
 /// that add nothing visible, and every curve costs its points in evaluations).
 const MAX_PAGE_POINTS: u32 = 2000;
+/// Most characters of a scenario's title in an export's file name (several may be joined).
+const FILE_NAME_WORDS: usize = 40;
 /// Decades of SNR shown below the highest.
 const SNR_DECADES: f64 = 5.0;
 
@@ -130,6 +133,13 @@ fn pin_name(i: usize, value: &Value) -> String {
     }
 }
 
+/// Take the pins (the [`PINS_KEY`]) out of a scenario.
+fn strip_pins(value: &mut Value) {
+    if let Some(o) = value.as_object_mut() {
+        o.remove(PINS_KEY);
+    }
+}
+
 /// The scenario with the pins added under [`PINS_KEY`] (unchanged when nothing is pinned).
 #[must_use]
 pub fn with_pins(mut value: Value) -> Value {
@@ -170,9 +180,7 @@ pub fn take_pins(mut value: Value) -> (Value, Vec<engine::Problem>) {
             });
             break;
         }
-        if let Some(o) = item.as_object_mut() {
-            o.remove(PINS_KEY);
-        }
+        strip_pins(&mut item);
         match engine::validate::scenario_from_value(&item) {
             Ok(sc) => {
                 let name = pin_name(pins.len(), &item);
@@ -201,9 +209,7 @@ pub fn pin(value: &Value) -> String {
             return format!("{MAX_PINS} scenarios are pinned already; unpin one first.");
         }
         let mut value = value.clone();
-        if let Some(o) = value.as_object_mut() {
-            o.remove(PINS_KEY);
-        }
+        strip_pins(&mut value);
         match engine::validate::scenario_from_value(&value) {
             Ok(sc) => {
                 let name = pin_name(s.pins.len(), &value);
@@ -342,9 +348,7 @@ pub fn redraw() {
     let mine: Vec<Option<Rc<Sweep>>> = mine.into_iter().map(|r| r.ok().map(Rc::new)).collect();
     // The pins' views, made once for each number of points.
     let mut bare = value.clone();
-    if let Some(o) = bare.as_object_mut() {
-        o.remove(PINS_KEY);
-    }
+    strip_pins(&mut bare);
     let pins: Vec<PinViews> = STATE.with(|s| {
         let mut s = s.borrow_mut();
         s.pins
@@ -1000,34 +1004,13 @@ pub fn wire() {
     }
 }
 
-/// The words of a file name from the scenario's title (letters and digits, dashes between).
-fn name_words(title: Option<&str>) -> String {
-    let mut name = String::new();
-    for c in title.unwrap_or("").chars().flat_map(char::to_lowercase) {
-        if c.is_alphanumeric() {
-            name.push(c);
-        } else if !name.is_empty() && !name.ends_with('-') {
-            name.push('-');
-        }
-        if name.chars().count() >= 40 {
-            break;
-        }
-    }
-    let name = name.trim_end_matches('-');
-    if name.is_empty() {
-        "scenario".into()
-    } else {
-        name.to_string()
-    }
-}
-
 fn export(name: &str, kind: &str) {
     let found = STATE.with(|s| {
         let s = s.borrow();
         let d = s.drawn.iter().find(|(n, _)| *n == name).map(|(_, d)| d)?;
         let stem = format!(
             "noise-budget_{}_{}",
-            name_words(s.title.as_deref()),
+            name_words(s.title.as_deref(), FILE_NAME_WORDS),
             d.file_words
         );
         Some((stem, d.markup.clone(), d.sweep.clone()))
@@ -1128,9 +1111,7 @@ fn columns() -> Vec<(String, Report)> {
             .collect();
         if let Some((v, r)) = &s.now {
             let mut bare = v.clone();
-            if let Some(o) = bare.as_object_mut() {
-                o.remove(PINS_KEY);
-            }
+            strip_pins(&mut bare);
             if !s.pins.iter().any(|p| p.value == bare) {
                 cols.push(("on screen".into(), r.clone()));
             }
@@ -1246,7 +1227,12 @@ fn export_comparison() {
         s.borrow()
             .pins
             .iter()
-            .map(|p| name_words(p.value.get("title").and_then(Value::as_str)))
+            .map(|p| {
+                name_words(
+                    p.value.get("title").and_then(Value::as_str),
+                    FILE_NAME_WORDS,
+                )
+            })
             .collect()
     });
     let file = format!("noise-budget_comparison_{}.csv", words.join("_vs_"));

@@ -308,6 +308,37 @@ pub fn merge_missing(base: &mut Map<String, Value>, extra: &Map<String, Value>) 
     }
 }
 
+/// The words of a file name from a scenario's title: letters and digits kept (lower case), any
+/// run of other characters as one dash, at most `most` characters; `scenario` when nothing is
+/// left.
+///
+/// ```
+/// use noise_budget_web::fields::name_words;
+/// assert_eq!(name_words(Some("Dock, north camera (dusk)"), 60), "dock-north-camera-dusk");
+/// assert_eq!(name_words(Some(" — "), 60), "scenario");
+/// assert_eq!(name_words(None, 60), "scenario");
+/// ```
+#[must_use]
+pub fn name_words(title: Option<&str>, most: usize) -> String {
+    let mut name = String::new();
+    for c in title.unwrap_or("").chars().flat_map(char::to_lowercase) {
+        if c.is_alphanumeric() {
+            name.push(c);
+        } else if !name.is_empty() && !name.ends_with('-') {
+            name.push('-');
+        }
+        if name.chars().count() >= most {
+            break;
+        }
+    }
+    let name = name.trim_end_matches('-');
+    if name.is_empty() {
+        "scenario".into()
+    } else {
+        name.to_string()
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

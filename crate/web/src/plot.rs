@@ -7,6 +7,8 @@
 
 use engine::spectrum::{QeCurve, Spectrum};
 
+use crate::chart::escape;
+
 /// What to draw: a curve of (wavelength nm, value) and, for a single line, its wavelength.
 #[derive(Debug, Clone, PartialEq, Default)]
 pub struct Curve {
@@ -107,13 +109,6 @@ fn c(v: f64) -> i64 {
     #[allow(clippy::cast_possible_truncation)]
     let t = (v * 10.0).round() as i64;
     t
-}
-
-fn escape(text: &str) -> String {
-    text.replace('&', "&amp;")
-        .replace('<', "&lt;")
-        .replace('>', "&gt;")
-        .replace('"', "&quot;")
 }
 
 /// The SVG markup of one plot. `y_top`: the value at the top of the drawing (`None`: the
