@@ -11,7 +11,7 @@
     clippy::indexing_slicing
 )] // test code: a failure should panic
 
-use engine::report::Report;
+use engine::report::{LimitedBy, Report};
 use engine::{dark, photon, quantization, sense_node};
 use serde_json::{json, Value};
 
@@ -316,6 +316,55 @@ fn binning_check_values() {
     assert_rel(digital.snr.temporal, 4.588, FOUR_DIGITS, "digital 2×2");
     assert_rel(charge.noise_e.read, 3.0, SIX_DIGITS, "charge read noise");
     assert_rel(digital.noise_e.read, 6.0, SIX_DIGITS, "digital read noise");
+}
+
+#[test]
+fn charge_binning_saturates_where_the_sum_is_digitised() {
+    // Source: SCENARIO.md, revision of 2026-12-02: for `charge` binning
+    // L = min(full_well_e, L_adc/b², summing_well_e/b²), L_adc = (2^bits − 1 − black)/K.
+    // 12 bits, K = 1 DN/e⁻, no black level: L_adc = 4095 e⁻; b = 3 gives 4095/9 = 455 e⁻ per
+    // pixel, where the first text of the format gave 4095 e⁻ (dynamic range 9×, 19.08 dB, too high).
+    let case = |mode: &str, summing_well: Option<f64>| {
+        let mut v = json!({
+            "version": 1,
+            "sensor": {"pixel_pitch_um": 3, "quantum_efficiency": 1.0, "full_well_e": 100000,
+                "read_noise_e": 3.0, "dark_current_e_per_s": 0, "adc_bits": 12,
+                "system_gain_dn_per_e": 1.0},
+            "light": {"photons_per_pixel": 10}, "exposure": {"time_s": 0.01, "binning": 3,
+                "binning_mode": mode}
+        });
+        if let Some(w) = summing_well {
+            v["sensor"]["summing_well_e"] = json!(w);
+        }
+        eval(&v)
+    };
+    let charge = case("charge", None);
+    assert_rel(
+        charge.saturation.level_e,
+        455.0,
+        SIX_DIGITS,
+        "charge 3×3, ADC",
+    );
+    assert_eq!(charge.saturation.limited_by, LimitedBy::Adc);
+    let digital = case("digital", None);
+    assert_rel(
+        digital.saturation.level_e,
+        4095.0,
+        SIX_DIGITS,
+        "digital 3×3, ADC",
+    );
+    // A summing well of 2700 e⁻ holds 300 e⁻ per pixel, below the ADC's 455 e⁻.
+    let well = case("charge", Some(2700.0));
+    assert_rel(
+        well.saturation.level_e,
+        300.0,
+        SIX_DIGITS,
+        "charge 3×3, summing well",
+    );
+    assert_eq!(well.saturation.limited_by, LimitedBy::SummingWell);
+    // The summing well does not apply to digital binning.
+    let digital_well = case("digital", Some(2700.0));
+    assert_eq!(digital_well.saturation.limited_by, LimitedBy::Adc);
 }
 
 #[test]

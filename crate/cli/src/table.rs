@@ -165,6 +165,7 @@ pub fn render(scenario: &Scenario, r: &Report) -> String {
         match sat.limited_by {
             engine::report::LimitedBy::FullWell => "full well",
             engine::report::LimitedBy::Adc => "ADC range",
+            engine::report::LimitedBy::SummingWell => "summing well",
         },
         num(sat.capacity_e),
         sat.fill_fraction * 100.0,

@@ -194,14 +194,25 @@ pub fn evaluate_with(sc: &Scenario, lights: &Lights) -> Report {
         total_db: db(snr_total),
     };
 
-    // Saturation, per physical pixel.
+    // Saturation, per physical pixel (SCENARIO.md, revision of 2026-12-02): with `charge`
+    // binning the b² charges are summed and digitised once, so under uniform light each pixel
+    // may contribute at most L_adc/b² (and summing_well_e/b²); ties go to the earlier term.
     let full_scale_dn = f64::from(sensor.adc_bits).exp2() - 1.0;
     let adc_level_e = (full_scale_dn - sensor.black_level_dn) / K;
-    let (L, limited_by) = if sensor.full_well_e <= adc_level_e {
-        (sensor.full_well_e, LimitedBy::FullWell)
-    } else {
-        (adc_level_e, LimitedBy::Adc)
-    };
+    let summed_charge = exposure.binning_mode == BinningMode::Charge;
+    let per_pixel_share = if summed_charge { b2 } else { 1.0 };
+    let mut L = sensor.full_well_e;
+    let mut limited_by = LimitedBy::FullWell;
+    if adc_level_e / per_pixel_share < L {
+        L = adc_level_e / per_pixel_share;
+        limited_by = LimitedBy::Adc;
+    }
+    if let Some(well) = sensor.summing_well_e.filter(|_| summed_charge) {
+        if well / b2 < L {
+            L = well / b2;
+            limited_by = LimitedBy::SummingWell;
+        }
+    }
     // Background charge occupies the well like dark charge (both zero-free in version 1).
     let capacity = L - d - bg;
     let per_unit_photons = |unit: f64| unit * pitch2 * t;
@@ -400,6 +411,7 @@ pub fn evaluate_with(sc: &Scenario, lights: &Lights) -> Report {
     }
     if exposure.binning_mode == BinningMode::Charge
         && exposure.binning > 1
+        && sensor.summing_well_e.is_none()
         && b2 * (s + d) > sensor.full_well_e
     {
         warn(
@@ -408,7 +420,8 @@ pub fn evaluate_with(sc: &Scenario, lights: &Lights) -> Report {
             &["signal_e", "saturation.fill_fraction"],
             format!(
                 "Charge binning sums {} e⁻, more than one pixel's full well of {} e⁻: whether the \
-                 summing node holds it depends on the sensor, and this model does not check it.",
+                 summing node holds it depends on the sensor; give sensor.summing_well_e to have \
+                 the model check it.",
                 sig(b2 * (s + d)),
                 sig(sensor.full_well_e)
             ),
@@ -516,6 +529,7 @@ fn limited_by_words(l: LimitedBy) -> &'static str {
     match l {
         LimitedBy::FullWell => "full well",
         LimitedBy::Adc => "ADC full scale above the black level",
+        LimitedBy::SummingWell => "summing node of the charge binning",
     }
 }
 

@@ -110,8 +110,10 @@ pub struct Snr {
 pub enum LimitedBy {
     /// The full-well capacity.
     FullWell,
-    /// The ADC's full scale above the black level.
+    /// The ADC's full scale above the black level (divided by b² for `charge` binning).
     Adc,
+    /// The summing node of `charge` binning (`sensor.summing_well_e`, divided by b²).
+    SummingWell,
 }
 
 /// Saturation of one physical pixel.

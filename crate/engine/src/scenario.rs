@@ -98,6 +98,9 @@ pub struct Sensor {
     pub system_gain_dn_per_e: f64,
     /// Offset added before the ADC, DN.
     pub black_level_dn: f64,
+    /// Capacity of the node where charge-binned charge is summed (a CCD summing well or
+    /// output node, a shared floating diffusion), e⁻, when given; used only with `charge` binning.
+    pub summing_well_e: Option<f64>,
 }
 
 /// The exposure (`exposure`), with defaults applied.

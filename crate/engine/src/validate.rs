@@ -326,6 +326,12 @@ fn sensor(p: &mut Problems, f: &mut Fields<'_>) -> Option<Sensor> {
         Need::Default(0.0),
         Range::new().at_least(0.0),
     );
+    let summing_well_e = f.number(
+        p,
+        "summing_well_e",
+        Need::Optional,
+        positive().at_least_limit(1.0).at_most_limit(1e15),
+    );
     f.finish(p);
 
     if let (Some(bits), Some(black)) = (adc_bits, black_level_dn) {
@@ -375,6 +381,7 @@ fn sensor(p: &mut Problems, f: &mut Fields<'_>) -> Option<Sensor> {
         adc_bits: adc_bits?,
         system_gain_dn_per_e: system_gain_dn_per_e?,
         black_level_dn: black_level_dn?,
+        summing_well_e,
     })
 }
 
@@ -1390,6 +1397,10 @@ mod tests {
         check(
             |v| v["sensor"]["full_well_e"] = json!(-5),
             &["sensor.full_well_e: must be > 0, got -5"],
+        );
+        check(
+            |v| v["sensor"]["summing_well_e"] = json!(0),
+            &["sensor.summing_well_e: must be > 0, got 0"],
         );
         check(
             |v| v["sensor"]["quantum_efficiency"] = json!(1.2),

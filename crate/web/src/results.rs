@@ -182,6 +182,7 @@ fn words(s: &str) -> String {
     match s {
         "full_well" => "the full well".into(),
         "adc" => "the ADC range".into(),
+        "summing_well" => "the summing well".into(),
         other => other.replace('_', " "),
     }
 }
