@@ -14,6 +14,7 @@ pub mod curves;
 pub mod dark;
 pub mod demos;
 pub mod frames;
+mod input;
 pub mod light;
 pub mod model;
 pub mod photon;

@@ -6,7 +6,10 @@
 
 use std::fmt;
 
-use serde_json::{Map, Value};
+use serde_json::Value;
+
+pub use crate::input::Problem;
+use crate::input::{self, show, show_value, type_name, Fields, Need, Problems, Range};
 
 use crate::light::{Lens, Light, Response, SceneQuantity};
 use crate::scenario::{BinningMode, Exposure, Readout, Scenario, Sensor};
@@ -18,21 +21,6 @@ pub const FORMAT_VERSION: u64 = 1;
 /// Largest |(T − T_ref) / T_d| accepted, so that 2^x and everything multiplied by it stay finite.
 /// 2^200 ≈ 1.6e60; with the other limits below every figure stays far from f64 overflow.
 const MAX_DOUBLINGS: f64 = 200.0;
-
-/// One broken rule, naming the key it concerns.
-#[derive(Debug, Clone, PartialEq, Eq, serde::Serialize)]
-pub struct Problem {
-    /// Dot path of the key (`sensor.full_well_e`), or `scenario` for the document as a whole.
-    pub path: String,
-    /// What is wrong, in lower case, naming the rule and the value found.
-    pub message: String,
-}
-
-impl fmt::Display for Problem {
-    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        write!(f, "{}: {}", self.path, self.message)
-    }
-}
 
 /// A refused scenario: every problem found, in document order.
 #[derive(Debug, Clone, PartialEq, Eq)]
@@ -78,28 +66,11 @@ impl std::error::Error for ScenarioError {}
 /// assert!(err.to_string().starts_with("version:"));
 /// ```
 pub fn scenario_from_json(text: &str) -> Result<Scenario, ScenarioError> {
-    match serde_json::from_str::<Value>(text) {
+    match input::parse_json(text, "scenario") {
         Ok(v) => scenario_from_value(&v),
-        Err(e) => Err(ScenarioError {
-            problems: vec![Problem {
-                path: "scenario".into(),
-                message: format!(
-                    "not valid JSON: {} (line {}, column {})",
-                    json_error_kind(&e),
-                    e.line(),
-                    e.column()
-                ),
-            }],
+        Err(problem) => Err(ScenarioError {
+            problems: vec![problem],
         }),
-    }
-}
-
-fn json_error_kind(e: &serde_json::Error) -> String {
-    // serde_json's Display appends " at line L column C"; keep only the description.
-    let s = e.to_string();
-    match s.find(" at line ") {
-        Some(i) => s.get(..i).unwrap_or(&s).to_string(),
-        None => s,
     }
 }
 
@@ -114,7 +85,7 @@ pub fn scenario_from_value(v: &Value) -> Result<Scenario, ScenarioError> {
             "scenario",
             format!("must be a JSON object, got {}", type_name(v)),
         );
-        return Err(p.into_error());
+        return Err(ScenarioError::from_problems(p.into_problems()));
     };
     let mut top = Fields::new("", map);
 
@@ -132,7 +103,7 @@ pub fn scenario_from_value(v: &Value) -> Result<Scenario, ScenarioError> {
                     "this scenario is format version {n}, newer than this calculator reads (version 1)"
                 ),
             );
-            return Err(p.into_error());
+            return Err(ScenarioError::from_problems(p.into_problems()));
         }
         Some(other) => p.push("version", format!("must be 1, got {}", show_value(other))),
     }
@@ -204,7 +175,7 @@ pub fn scenario_from_value(v: &Value) -> Result<Scenario, ScenarioError> {
                 snr_threshold: snr,
             })
         }
-        _ => Err(p.into_error()),
+        _ => Err(ScenarioError::from_problems(p.into_problems())),
     }
 }
 
@@ -715,7 +686,7 @@ fn check_light(p: &mut Problems, prefix: &str, light: &Light, sensor: &Sensor) {
         } else {
             "required, missing: give it, or sensor.quantum_efficiency_curve".to_string()
         };
-        if !p.0.iter().any(|q| q.path == "sensor.quantum_efficiency") {
+        if !p.has_problem_at("sensor.quantum_efficiency") {
             p.push("sensor.quantum_efficiency", why);
         }
     }
@@ -834,526 +805,6 @@ fn exposure(p: &mut Problems, f: &mut Fields<'_>) -> Option<Exposure> {
 // ---------------------------------------------------------------------------------------------
 // The reader: typed access to one JSON object, remembering which keys were read.
 
-#[derive(Default)]
-struct Problems(Vec<Problem>);
-
-impl Problems {
-    fn push(&mut self, path: &str, message: String) {
-        self.0.push(Problem {
-            path: path.to_string(),
-            message,
-        });
-    }
-    fn is_empty(&self) -> bool {
-        self.0.is_empty()
-    }
-    fn into_error(self) -> ScenarioError {
-        ScenarioError { problems: self.0 }
-    }
-}
-
-/// Whether a key must be there, may be absent, or takes a default.
-#[derive(Clone, Copy)]
-enum Need {
-    Required,
-    Optional,
-    Default(f64),
-}
-
-/// The allowed range of a number: the format's rule, then this calculator's limits.
-#[derive(Clone, Copy, Default)]
-struct Range {
-    /// (bound, inclusive): the format's rule.
-    min: Option<(f64, bool)>,
-    max: Option<(f64, bool)>,
-}
-
-impl Range {
-    fn new() -> Self {
-        Self::default()
-    }
-    fn above(mut self, v: f64) -> Self {
-        self.min = Some((v, false));
-        self
-    }
-    fn at_most(mut self, v: f64) -> Self {
-        self.max = Some((v, true));
-        self
-    }
-    fn below(mut self, v: f64) -> Self {
-        self.max = Some((v, false));
-        self
-    }
-    fn at_least(mut self, v: f64) -> Self {
-        self.min = Some((v, true));
-        self
-    }
-    /// A lower limit of this calculator, tighter than the format's rule; checked after it.
-    fn at_least_limit(self, v: f64) -> RangeWithLimit {
-        RangeWithLimit {
-            rule: self,
-            low_limit: Some(v),
-            high_limit: None,
-        }
-    }
-    fn at_most_limit(self, v: f64) -> RangeWithLimit {
-        RangeWithLimit {
-            rule: self,
-            low_limit: None,
-            high_limit: Some(v),
-        }
-    }
-}
-
-/// A format rule plus this calculator's own limits (which keep every figure finite).
-#[derive(Clone, Copy)]
-struct RangeWithLimit {
-    rule: Range,
-    low_limit: Option<f64>,
-    high_limit: Option<f64>,
-}
-
-impl RangeWithLimit {
-    fn at_most_limit(mut self, v: f64) -> Self {
-        self.high_limit = Some(v);
-        self
-    }
-    fn at_most(mut self, v: f64) -> Self {
-        self.rule.max = Some((v, true));
-        self
-    }
-}
-
-impl From<Range> for RangeWithLimit {
-    fn from(rule: Range) -> Self {
-        RangeWithLimit {
-            rule,
-            low_limit: None,
-            high_limit: None,
-        }
-    }
-}
-
-impl RangeWithLimit {
-    /// The message for a value outside the range, or `None` when it is inside.
-    fn check(&self, v: f64) -> Option<String> {
-        if let Some((b, inclusive)) = self.rule.min {
-            let ok = if inclusive { v >= b } else { v > b };
-            if !ok {
-                let op = if inclusive { "≥" } else { ">" };
-                return Some(format!("must be {op} {}, got {}", show(b), show(v)));
-            }
-        }
-        if let Some((b, inclusive)) = self.rule.max {
-            let ok = if inclusive { v <= b } else { v < b };
-            if !ok {
-                let op = if inclusive { "≤" } else { "<" };
-                return Some(format!("must be {op} {}, got {}", show(b), show(v)));
-            }
-        }
-        if let Some(b) = self.low_limit {
-            if v < b {
-                return Some(format!(
-                    "must be at least {} (this calculator's limit), got {}",
-                    show(b),
-                    show(v)
-                ));
-            }
-        }
-        if let Some(b) = self.high_limit {
-            if v > b {
-                return Some(format!(
-                    "must be at most {} (this calculator's limit), got {}",
-                    show(b),
-                    show(v)
-                ));
-            }
-        }
-        None
-    }
-}
-
-struct Fields<'v> {
-    prefix: String,
-    map: &'v Map<String, Value>,
-    used: Vec<String>,
-}
-
-impl<'v> Fields<'v> {
-    fn new(prefix: &str, map: &'v Map<String, Value>) -> Self {
-        Fields {
-            prefix: prefix.to_string(),
-            map,
-            used: Vec::new(),
-        }
-    }
-
-    fn prefix(&self) -> String {
-        if self.prefix.is_empty() {
-            "scenario".to_string()
-        } else {
-            self.prefix.clone()
-        }
-    }
-
-    fn path_of(&self, key: &str) -> String {
-        if self.prefix.is_empty() {
-            key.to_string()
-        } else {
-            format!("{}.{key}", self.prefix)
-        }
-    }
-
-    fn has(&self, key: &str) -> bool {
-        self.map.get(key).is_some_and(|v| !v.is_null())
-    }
-
-    fn mark_used(&mut self, key: &str) {
-        self.used.push(key.to_string());
-    }
-
-    fn had_problem_at(&self, p: &Problems, key: &str) -> bool {
-        let path = self.path_of(key);
-        p.0.iter().any(|q| {
-            q.path == path
-                || q.path
-                    .strip_prefix(path.as_str())
-                    .is_some_and(|rest| rest.starts_with(['[', '.']))
-        })
-    }
-
-    /// The value of `key`, marking it read; `null` counts as absent.
-    fn get(&mut self, key: &str) -> Option<&'v Value> {
-        self.mark_used(key);
-        self.map.get(key).filter(|v| !v.is_null())
-    }
-
-    fn number(
-        &mut self,
-        p: &mut Problems,
-        key: &str,
-        need: Need,
-        range: impl Into<RangeWithLimit>,
-    ) -> Option<f64> {
-        let path = self.path_of(key);
-        let v = match (self.get(key), need) {
-            (None, Need::Required) => {
-                p.push(&path, "required, missing".into());
-                return None;
-            }
-            (None, Need::Optional) => return None,
-            (None, Need::Default(d)) => return Some(d),
-            (Some(v), _) => v,
-        };
-        let Some(x) = v.as_f64().filter(|x| x.is_finite()) else {
-            p.push(&path, format!("must be a number, got {}", show_value(v)));
-            return None;
-        };
-        match range.into().check(x) {
-            Some(msg) => {
-                p.push(&path, msg);
-                None
-            }
-            None => Some(x),
-        }
-    }
-
-    /// As [`Fields::number`], with a message of its own for a missing required key.
-    fn number_with(
-        &mut self,
-        p: &mut Problems,
-        key: &str,
-        need: Need,
-        range: impl Into<RangeWithLimit>,
-        missing: &str,
-    ) -> Option<f64> {
-        if matches!(need, Need::Required) && !self.has(key) {
-            self.mark_used(key);
-            p.push(&self.path_of(key), missing.to_string());
-            return None;
-        }
-        self.number(p, key, need, range)
-    }
-
-    /// An optional list of `[wavelength_nm, value]` pairs: at least 2, at most 10 000, with
-    /// wavelengths > 0 strictly increasing, values finite, ≥ 0, at most `max_value`, not all 0.
-    fn pairs(
-        &mut self,
-        p: &mut Problems,
-        key: &str,
-        max_value: Option<f64>,
-    ) -> Option<Vec<(f64, f64)>> {
-        let path = self.path_of(key);
-        let v = self.get(key)?;
-        let Some(items) = v.as_array() else {
-            p.push(
-                &path,
-                format!(
-                    "must be a list of [wavelength_nm, value] pairs, got {}",
-                    show_value(v)
-                ),
-            );
-            return None;
-        };
-        if items.len() < 2 || items.len() > 10_000 {
-            p.push(
-                &path,
-                format!("must have from 2 to 10000 points, got {}", items.len()),
-            );
-            return None;
-        }
-        let before = p.0.len();
-        let mut out: Vec<(f64, f64)> = Vec::with_capacity(items.len());
-        for (i, item) in items.iter().enumerate() {
-            let here = format!("{path}[{i}]");
-            let pair = item.as_array().filter(|a| a.len() == 2).and_then(|a| {
-                let x = a.first()?.as_f64()?;
-                let y = a.get(1)?.as_f64()?;
-                Some((x, y))
-            });
-            let Some((nm, y)) = pair else {
-                p.push(
-                    &here,
-                    format!(
-                        "must be a pair [wavelength_nm, value] of numbers, got {}",
-                        show_value(item)
-                    ),
-                );
-                continue;
-            };
-            if !(nm > 0.0 && nm <= 1e6) {
-                p.push(
-                    &here,
-                    format!(
-                        "wavelength must be > 0 nm and at most 1e6, got {}",
-                        show(nm)
-                    ),
-                );
-                continue;
-            }
-            if let Some(&(prev, _)) = out.last() {
-                if nm <= prev {
-                    p.push(
-                        &here,
-                        format!(
-                            "wavelengths must increase, got {} nm after {} nm",
-                            show(nm),
-                            show(prev)
-                        ),
-                    );
-                    continue;
-                }
-            }
-            if y < 0.0 || max_value.is_some_and(|m| y > m) {
-                let rule =
-                    max_value.map_or("≥ 0".to_string(), |m| format!("from 0 to {}", show(m)));
-                p.push(&here, format!("value must be {rule}, got {}", show(y)));
-                continue;
-            }
-            out.push((nm, y));
-        }
-        if p.0.len() > before {
-            return None;
-        }
-        if out.iter().all(|(_, y)| *y == 0.0) {
-            p.push(&path, "every value is 0".into());
-            return None;
-        }
-        Some(out)
-    }
-
-    fn integer(
-        &mut self,
-        p: &mut Problems,
-        key: &str,
-        default: Option<u32>,
-        min: u32,
-        max: u32,
-    ) -> Option<u32> {
-        let path = self.path_of(key);
-        let v = match (self.get(key), default) {
-            (None, Some(d)) => return Some(d),
-            (None, None) => {
-                p.push(&path, "required, missing".into());
-                return None;
-            }
-            (Some(v), _) => v,
-        };
-        let Some(x) = v.as_f64().filter(|x| x.is_finite()) else {
-            p.push(
-                &path,
-                format!("must be a whole number, got {}", show_value(v)),
-            );
-            return None;
-        };
-        if x.fract() != 0.0 {
-            p.push(&path, format!("must be a whole number, got {}", show(x)));
-            return None;
-        }
-        if x < f64::from(min) || x > f64::from(max) {
-            p.push(
-                &path,
-                format!(
-                    "must be a whole number from {min} to {max}, got {}",
-                    show(x)
-                ),
-            );
-            return None;
-        }
-        // OK because x is whole and within [min, max] ⊂ u32.
-        #[allow(clippy::cast_possible_truncation, clippy::cast_sign_loss)]
-        Some(x as u32)
-    }
-
-    fn choice(
-        &mut self,
-        p: &mut Problems,
-        key: &str,
-        allowed: &[&'static str],
-        default: Option<&'static str>,
-    ) -> Option<&'static str> {
-        let path = self.path_of(key);
-        let v = match (self.get(key), default) {
-            (None, Some(d)) => return Some(d),
-            (None, None) => {
-                p.push(&path, "required, missing".into());
-                return None;
-            }
-            (Some(v), _) => v,
-        };
-        let quoted: Vec<String> = allowed.iter().map(|a| format!("\"{a}\"")).collect();
-        match v.as_str().and_then(|s| allowed.iter().find(|a| **a == s)) {
-            Some(a) => Some(a),
-            None => {
-                p.push(
-                    &path,
-                    format!(
-                        "must be one of {}, got {}",
-                        quoted.join(", "),
-                        show_value(v)
-                    ),
-                );
-                None
-            }
-        }
-    }
-
-    fn string(&mut self, p: &mut Problems, key: &str) -> Option<String> {
-        match self.get(key) {
-            None => None,
-            Some(Value::String(s)) => Some(s.clone()),
-            Some(v) => {
-                p.push(
-                    &self.path_of(key),
-                    format!("must be text, got {}", show_value(v)),
-                );
-                None
-            }
-        }
-    }
-
-    fn object(&mut self, p: &mut Problems, key: &str, required: bool) -> Option<Fields<'v>> {
-        let path = self.path_of(key);
-        match self.get(key) {
-            None => {
-                if required {
-                    p.push(&path, "required, missing".into());
-                }
-                None
-            }
-            Some(Value::Object(m)) => Some(Fields::new(&path, m)),
-            Some(v) => {
-                p.push(&path, format!("must be an object, got {}", show_value(v)));
-                None
-            }
-        }
-    }
-
-    /// Report every key that was not read, except extension keys starting with `x_`.
-    fn finish(&self, p: &mut Problems) {
-        for key in self.map.keys() {
-            if key.starts_with("x_") || self.used.iter().any(|u| u == key) {
-                continue;
-            }
-            let hint = self
-                .used
-                .iter()
-                .find(|u| near_miss(u, key))
-                .map(|u| format!(" (did you mean \"{u}\"?)"))
-                .unwrap_or_default();
-            p.push(
-                &self.path_of(key),
-                format!("unknown key{hint}; keys of your own must start with \"x_\""),
-            );
-        }
-    }
-}
-
-/// Whether two key names differ only a little (a typo): same after dropping `_` and case,
-/// or one edit apart.
-fn near_miss(a: &str, b: &str) -> bool {
-    let norm = |s: &str| s.to_ascii_lowercase().replace('_', "");
-    if norm(a) == norm(b) {
-        return true;
-    }
-    edit_distance(a, b) <= 2
-}
-
-fn edit_distance(a: &str, b: &str) -> usize {
-    let a: Vec<char> = a.chars().collect();
-    let b: Vec<char> = b.chars().collect();
-    let mut prev: Vec<usize> = (0..=b.len()).collect();
-    for (i, ca) in a.iter().enumerate() {
-        let mut cur = Vec::with_capacity(b.len() + 1);
-        cur.push(i + 1);
-        for (j, cb) in b.iter().enumerate() {
-            let sub = prev.get(j).copied().unwrap_or(usize::MAX) + usize::from(ca != cb);
-            let del = prev
-                .get(j + 1)
-                .copied()
-                .unwrap_or(usize::MAX)
-                .saturating_add(1);
-            let ins = cur.get(j).copied().unwrap_or(usize::MAX).saturating_add(1);
-            cur.push(sub.min(del).min(ins));
-        }
-        prev = cur;
-    }
-    prev.last().copied().unwrap_or(0)
-}
-
-/// A JSON value's type in words, for messages.
-pub(crate) fn type_name(v: &Value) -> &'static str {
-    match v {
-        Value::Null => "null",
-        Value::Bool(_) => "true or false",
-        Value::Number(_) => "a number",
-        Value::String(_) => "text",
-        Value::Array(_) => "a list",
-        Value::Object(_) => "an object",
-    }
-}
-
-/// A value as it appears in a message: numbers and short text shown, the rest by type.
-pub(crate) fn show_value(v: &Value) -> String {
-    match v {
-        Value::Number(n) => n.to_string(),
-        Value::String(s) if s.chars().count() <= 40 => format!("\"{s}\""),
-        Value::String(_) => "long text".into(),
-        Value::Bool(b) => b.to_string(),
-        other => type_name(other).into(),
-    }
-}
-
-/// A number as it appears in a message: plain for everyday magnitudes, exponent otherwise.
-fn show(x: f64) -> String {
-    let a = x.abs();
-    if a != 0.0 && !(1e-4..1e6).contains(&a) {
-        format!("{x:e}")
-    } else {
-        format!("{x}")
-    }
-}
-
 #[cfg(test)]
 #[allow(clippy::unwrap_used, clippy::expect_used, clippy::indexing_slicing)]
 mod tests {
@@ -1463,7 +914,8 @@ mod tests {
         );
         check(
             |v| v["colour"] = json!("red"),
-            &["colour: unknown key; keys of your own must start with \"x_\""],
+            &["colour: unknown key; the keys here are background_light, exposure, light, sensor, \
+               snr_threshold, temperature_c, title, version; keys of your own must start with \"x_\""],
         );
     }
 

@@ -9,29 +9,15 @@
 use std::collections::BTreeMap;
 use std::fmt::Write as _;
 
-use serde_json::{Map, Value};
+use serde_json::Value;
 
 use super::{analyse, Characterization, FrameKind, Roi, StackAccumulator, StackSpec};
 use crate::frames::{self, Frame, RawGeometry};
-use crate::validate::{show_value, type_name};
+pub use crate::input::Problem;
+use crate::input::{self, show_value, type_name, Fields, Need, Problems, Range};
 
 /// The manifest format version this module reads.
 pub const MANIFEST_VERSION: u64 = 1;
-
-/// One problem in a manifest, naming its key.
-#[derive(Debug, Clone, PartialEq, Eq)]
-pub struct Problem {
-    /// Dot path of the key (`frames[2].kind`), or `manifest` for the document.
-    pub path: String,
-    /// What is wrong, lower case.
-    pub message: String,
-}
-
-impl std::fmt::Display for Problem {
-    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
-        write!(f, "{}: {}", self.path, self.message)
-    }
-}
 
 /// One frame entry of a checked manifest.
 #[derive(Debug, Clone, PartialEq)]
@@ -163,27 +149,13 @@ pub fn measure(
 /// Every problem found, each naming its key path.
 pub fn parse_manifest(text: &str) -> Result<Manifest, Vec<Problem>> {
     let mut p = Problems::default();
-    let v: Value = match serde_json::from_str(text) {
-        Ok(v) => v,
-        Err(e) => {
-            p.push(
-                "manifest",
-                format!(
-                    "not valid JSON: line {}, column {}: {}",
-                    e.line(),
-                    e.column(),
-                    e.to_string().split(" at line ").next().unwrap_or_default()
-                ),
-            );
-            return Err(p.0);
-        }
-    };
+    let v = input::parse_json(text, "manifest").map_err(|problem| vec![problem])?;
     let Some(top) = v.as_object() else {
         p.push(
             "manifest",
             format!("must be a JSON object, got {}", type_name(&v)),
         );
-        return Err(p.0);
+        return Err(p.into_problems());
     };
     let mut top = Fields::new("", top);
     match top.get("version") {
@@ -195,10 +167,10 @@ pub fn parse_manifest(text: &str) -> Result<Manifest, Vec<Problem>> {
         Some(other) => p.push("version", format!("must be 1, got {}", show_value(other))),
     }
     let default_raw = top
-        .object(&mut p, "raw")
+        .object(&mut p, "raw", false)
         .and_then(|mut f| raw(&mut p, &mut f));
     let roi = top
-        .object(&mut p, "roi")
+        .object(&mut p, "roi", false)
         .and_then(|mut f| roi(&mut p, &mut f));
     let mut entries = Vec::new();
     match top.get("frames") {
@@ -278,10 +250,10 @@ pub fn parse_manifest(text: &str) -> Result<Manifest, Vec<Problem>> {
             );
         }
     }
-    if p.0.is_empty() {
+    if p.is_empty() {
         Ok(Manifest { stacks, roi })
     } else {
-        Err(p.0)
+        Err(p.into_problems())
     }
 }
 
@@ -328,9 +300,12 @@ fn frame(
             None
         }
     };
-    let exposure = f.number(p, "exposure_time_s", true, |x| {
-        (x <= 0.0).then(|| format!("must be > 0, got {x}"))
-    });
+    let exposure = f.number(
+        p,
+        "exposure_time_s",
+        Need::Required,
+        Range::new().above(0.0),
+    );
     let level = match f.get("level") {
         None => None,
         Some(Value::String(s)) if !s.is_empty() => Some(s.clone()),
@@ -342,16 +317,19 @@ fn frame(
             None
         }
     };
-    let photons = f.number(p, "photons_per_pixel", false, |x| {
-        (x < 0.0).then(|| format!("must be ≥ 0, got {x}"))
-    });
+    let photons = f.number(
+        p,
+        "photons_per_pixel",
+        Need::Optional,
+        Range::new().at_least(0.0),
+    );
     if photons.is_some() && kind == Some(FrameKind::Dark) {
         p.push(
             &f.path_of("photons_per_pixel"),
             "only for flat frames: a dark frame receives no photons".into(),
         );
     }
-    let raw_here = f.object(p, "raw").and_then(|mut g| raw(p, &mut g));
+    let raw_here = f.object(p, "raw", false).and_then(|mut g| raw(p, &mut g));
     f.finish(p);
     let path = path?;
     Some(FrameEntry {
@@ -366,150 +344,29 @@ fn frame(
 }
 
 fn raw(p: &mut Problems, f: &mut Fields<'_>) -> Option<RawGeometry> {
-    let width = f.whole(p, "width", 1, u64::from(u32::MAX));
-    let height = f.whole(p, "height", 1, u64::from(u32::MAX));
-    let bits = f.whole(p, "bits", 1, 16);
+    let width = f.integer(p, "width", None, 1, u32::MAX);
+    let height = f.integer(p, "height", None, 1, u32::MAX);
+    let bits = f.integer(p, "bits", None, 1, 16);
     f.finish(p);
     Some(RawGeometry {
-        width: u32::try_from(width?).ok()?,
-        height: u32::try_from(height?).ok()?,
+        width: width?,
+        height: height?,
         bits: u8::try_from(bits?).ok()?,
     })
 }
 
 fn roi(p: &mut Problems, f: &mut Fields<'_>) -> Option<Roi> {
-    let max = u64::from(u32::MAX);
-    let x = f.whole(p, "x", 0, max);
-    let y = f.whole(p, "y", 0, max);
-    let width = f.whole(p, "width", 1, max);
-    let height = f.whole(p, "height", 1, max);
+    let x = f.integer(p, "x", None, 0, u32::MAX);
+    let y = f.integer(p, "y", None, 0, u32::MAX);
+    let width = f.integer(p, "width", None, 1, u32::MAX);
+    let height = f.integer(p, "height", None, 1, u32::MAX);
     f.finish(p);
     Some(Roi {
-        x: u32::try_from(x?).ok()?,
-        y: u32::try_from(y?).ok()?,
-        width: u32::try_from(width?).ok()?,
-        height: u32::try_from(height?).ok()?,
+        x: x?,
+        y: y?,
+        width: width?,
+        height: height?,
     })
-}
-
-#[derive(Default)]
-struct Problems(Vec<Problem>);
-
-impl Problems {
-    fn push(&mut self, path: &str, message: String) {
-        self.0.push(Problem {
-            path: path.to_string(),
-            message,
-        });
-    }
-}
-
-/// The keys of one JSON object, tracking which were read so unknown ones can be reported.
-struct Fields<'v> {
-    prefix: String,
-    map: &'v Map<String, Value>,
-    used: Vec<&'static str>,
-}
-
-impl<'v> Fields<'v> {
-    fn new(prefix: &str, map: &'v Map<String, Value>) -> Self {
-        Fields {
-            prefix: prefix.to_string(),
-            map,
-            used: Vec::new(),
-        }
-    }
-
-    fn path_of(&self, key: &str) -> String {
-        if self.prefix.is_empty() {
-            key.to_string()
-        } else {
-            format!("{}.{key}", self.prefix)
-        }
-    }
-
-    fn get(&mut self, key: &'static str) -> Option<&'v Value> {
-        self.used.push(key);
-        self.map.get(key).filter(|v| !v.is_null())
-    }
-
-    fn number(
-        &mut self,
-        p: &mut Problems,
-        key: &'static str,
-        required: bool,
-        rule: impl Fn(f64) -> Option<String>,
-    ) -> Option<f64> {
-        let path = self.path_of(key);
-        let v = match self.get(key) {
-            None if required => {
-                p.push(&path, "required, missing".into());
-                return None;
-            }
-            None => return None,
-            Some(v) => v,
-        };
-        let Some(x) = v.as_f64().filter(|x| x.is_finite()) else {
-            p.push(&path, format!("must be a number, got {}", show_value(v)));
-            return None;
-        };
-        match rule(x) {
-            Some(m) => {
-                p.push(&path, m);
-                None
-            }
-            None => Some(x),
-        }
-    }
-
-    fn whole(&mut self, p: &mut Problems, key: &'static str, min: u64, max: u64) -> Option<u64> {
-        let path = self.path_of(key);
-        let Some(v) = self.get(key) else {
-            p.push(&path, "required, missing".into());
-            return None;
-        };
-        match v.as_u64() {
-            Some(n) if (min..=max).contains(&n) => Some(n),
-            _ => {
-                p.push(
-                    &path,
-                    format!(
-                        "must be a whole number from {min} to {max}, got {}",
-                        show_value(v)
-                    ),
-                );
-                None
-            }
-        }
-    }
-
-    fn object(&mut self, p: &mut Problems, key: &'static str) -> Option<Fields<'v>> {
-        let path = self.path_of(key);
-        match self.get(key) {
-            None => None,
-            Some(Value::Object(m)) => Some(Fields::new(&path, m)),
-            Some(v) => {
-                p.push(&path, format!("must be an object, got {}", show_value(v)));
-                None
-            }
-        }
-    }
-
-    /// Report every key not read, except those starting with `x_`.
-    fn finish(&self, p: &mut Problems) {
-        for key in self.map.keys() {
-            if key.starts_with("x_") || self.used.iter().any(|u| u == key) {
-                continue;
-            }
-            p.push(
-                &self.path_of(key),
-                format!(
-                    "unknown key; the keys here are {}; keys of your own must start with \"x_\"",
-                    self.used.join(", ")
-                ),
-            );
-        }
-    }
 }
 
 #[cfg(test)]
