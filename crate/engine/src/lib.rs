@@ -8,6 +8,7 @@
 //! This crate does no I/O and knows nothing of the DOM, the terminal or files: it builds for
 //! native targets and for `wasm32-unknown-unknown` alike. It never panics on input.
 
+pub mod colour;
 pub mod compare;
 pub mod constants;
 pub mod curves;
@@ -17,6 +18,7 @@ pub mod frames;
 mod input;
 pub mod light;
 pub mod model;
+pub mod output_noise;
 pub mod photon;
 pub mod ptc;
 pub mod quantization;

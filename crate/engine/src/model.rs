@@ -13,6 +13,7 @@ use crate::roots::positive_root;
 use std::collections::BTreeMap;
 
 use crate::light::{self, ResolvedLight, Response};
+use crate::output_noise::OutputNoise;
 use crate::scenario::{BinningMode, Scenario};
 use crate::spectrum::Spectrum;
 use crate::{dark, quantization, sense_node};
@@ -151,17 +152,25 @@ pub fn evaluate_with(sc: &Scenario, lights: &Lights) -> Report {
     let S = b2 * s;
     let D = b2 * d;
     let B = b2 * bg;
-    let v_shot = S / N;
-    let v_dark = D / N;
-    let v_background = B / N;
-    let v_read = n * var_read / N;
-    let v_reset = n * var_reset / N;
-    let v_quant = n * var_quant / N;
-    let v_temporal = v_shot + v_dark + v_background + v_read + v_reset + v_quant;
-    let v_dsnu = b2 * sensor.dsnu_e * sensor.dsnu_e;
     // PRNU scales all photo-charge, the background's too (zero without one, as in SCENARIO.md).
-    let v_prnu = (p * (S + B)) * (p * (S + B)) / b2;
-    let v_total = v_temporal + v_dsnu + v_prnu;
+    let output_noise = OutputNoise {
+        frames: N,
+        reads: n,
+        pixels: b2,
+        dark_e: D,
+        background_e: B,
+        read_e2: var_read,
+        reset_e2: var_reset,
+        quantization_e2: var_quant,
+        dsnu_e2: sensor.dsnu_e * sensor.dsnu_e,
+        prnu: p,
+    };
+    let v = output_noise.at(S);
+    let (v_shot, v_dark, v_background) = (v.photon_shot, v.dark_shot, v.background_shot);
+    let (v_read, v_reset, v_quant) = (v.read, v.reset, v.quantization);
+    let (v_dsnu, v_prnu) = (v.dsnu, v.prnu);
+    let v_temporal = v.temporal();
+    let v_total = v.total();
 
     let noise_e = NoiseParts {
         photon_shot: v_shot.sqrt(),
