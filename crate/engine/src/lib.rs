@@ -15,6 +15,7 @@ pub mod curves;
 pub mod dark;
 pub mod demos;
 pub mod frames;
+pub mod hdr;
 mod input;
 pub mod light;
 pub mod model;
