@@ -15,6 +15,7 @@ pub mod dark;
 pub mod demos;
 pub mod frames;
 mod input;
+pub mod keys;
 pub mod light;
 pub mod model;
 pub mod photon;
