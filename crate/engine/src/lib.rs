@@ -17,6 +17,7 @@ pub mod demos;
 pub mod frames;
 pub mod hdr;
 mod input;
+pub mod keys;
 pub mod light;
 pub mod model;
 pub mod output_noise;
