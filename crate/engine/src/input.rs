@@ -253,7 +253,7 @@ pub(crate) const PAIRS_MIN_POINTS: usize = 2;
 pub(crate) const PAIRS_MAX_POINTS: u32 = 10_000;
 
 /// The most keys an unknown-key message lists (see [`Fields::finish`]).
-const MAX_KEYS_LISTED: usize = 10;
+const MAX_KEYS_LISTED: usize = 12;
 
 /// The keys of one JSON object, tracking which were read so unknown ones can be reported.
 pub(crate) struct Fields<'v> {
@@ -561,6 +561,101 @@ impl<'v> Fields<'v> {
         }
     }
 
+    /// An optional list of exactly `count` numbers, each within `range`; `None` when absent
+    /// or wrong (every wrong element is reported, at `key[i]`).
+    pub(crate) fn numbers(
+        &mut self,
+        p: &mut Problems,
+        key: &str,
+        count: u32,
+        range: RangeWithLimit,
+    ) -> Option<Vec<f64>> {
+        let path = self.path_of(key);
+        let v = self.get(key)?;
+        numbers_at(p, &path, v, count, range, "numbers")
+    }
+
+    /// An optional matrix: a list of `rows` lists of `columns` numbers, each within `range`.
+    pub(crate) fn matrix(
+        &mut self,
+        p: &mut Problems,
+        key: &str,
+        rows: u32,
+        columns: u32,
+        range: RangeWithLimit,
+    ) -> Option<Vec<Vec<f64>>> {
+        let path = self.path_of(key);
+        let v = self.get(key)?;
+        let shape = format!("a list of {rows} rows, each a list of {columns} numbers");
+        let Some(items) = v.as_array() else {
+            p.push(&path, format!("must be {shape}, got {}", show_value(v)));
+            return None;
+        };
+        if items.len() != rows as usize {
+            p.push(
+                &path,
+                format!("must be {shape}: {} rows given", items.len()),
+            );
+            return None;
+        }
+        let before = p.0.len();
+        let out: Vec<Vec<f64>> = items
+            .iter()
+            .enumerate()
+            .filter_map(|(i, row)| {
+                numbers_at(
+                    p,
+                    &format!("{path}[{i}]"),
+                    row,
+                    columns,
+                    range,
+                    "numbers (a row)",
+                )
+            })
+            .collect();
+        (p.0.len() == before && out.len() == rows as usize).then_some(out)
+    }
+
+    /// A list of `min` to `max` objects: each element's reader, at `key[i]`; `None` when
+    /// absent or not such a list.
+    pub(crate) fn list_of_objects(
+        &mut self,
+        p: &mut Problems,
+        key: &str,
+        min: u32,
+        max: u32,
+    ) -> Option<Vec<Fields<'v>>> {
+        let path = self.path_of(key);
+        let v = self.get(key)?;
+        let Some(items) = v.as_array() else {
+            p.push(
+                &path,
+                format!("must be a list of objects, got {}", show_value(v)),
+            );
+            return None;
+        };
+        if items.len() < min as usize || items.len() > max as usize {
+            p.push(
+                &path,
+                format!("must list from {min} to {max}, got {}", items.len()),
+            );
+            return None;
+        }
+        let before = p.0.len();
+        let mut out = Vec::with_capacity(items.len());
+        for (i, item) in items.iter().enumerate() {
+            let here = format!("{path}[{i}]");
+            match item {
+                Value::Object(m) => out.push(Fields::new(&here, m)),
+                other => p.push(
+                    &here,
+                    format!("must be an object, got {}", show_value(other)),
+                ),
+            }
+        }
+        (p.0.len() == before).then_some(out)
+    }
+
     /// Report every key that was not read, except extension keys starting with `x_`.
     pub(crate) fn finish(&self, p: &mut Problems) {
         for key in self.map.keys() {
@@ -650,4 +745,42 @@ pub(crate) fn show(x: f64) -> String {
     } else {
         format!("{x}")
     }
+}
+
+/// `v` as exactly `count` numbers within `range`, reporting each wrong element at `path[i]`.
+fn numbers_at(
+    p: &mut Problems,
+    path: &str,
+    v: &Value,
+    count: u32,
+    range: RangeWithLimit,
+    what: &str,
+) -> Option<Vec<f64>> {
+    let Some(items) = v.as_array() else {
+        p.push(
+            path,
+            format!("must be a list of {count} {what}, got {}", show_value(v)),
+        );
+        return None;
+    };
+    if items.len() != count as usize {
+        p.push(
+            path,
+            format!("must be a list of {count} {what}, got {}", items.len()),
+        );
+        return None;
+    }
+    let before = p.0.len();
+    let mut out = Vec::with_capacity(items.len());
+    for (i, item) in items.iter().enumerate() {
+        let here = format!("{path}[{i}]");
+        match item.as_f64().filter(|x| x.is_finite()) {
+            None => p.push(&here, format!("must be a number, got {}", show_value(item))),
+            Some(x) => match range.check(x) {
+                Some(msg) => p.push(&here, msg),
+                None => out.push(x),
+            },
+        }
+    }
+    (p.0.len() == before).then_some(out)
 }

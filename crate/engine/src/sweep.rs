@@ -418,6 +418,7 @@ fn set(sc: &mut Scenario, key: &str, v: f64) {
         "sensor.dark_current_reference_c" => s.dark_current_reference_c = v,
         "sensor.dark_current_doubling_c" => s.dark_current_doubling_c = v,
         "sensor.dsnu_e" => s.dsnu_e = v,
+        "sensor.dark_current_nonuniformity_percent" => s.dark_current_nonuniformity_percent = v,
         "sensor.prnu_percent" => s.prnu_percent = v,
         "sensor.adc_bits" => s.adc_bits = whole(v),
         "sensor.system_gain_dn_per_e" => s.system_gain_dn_per_e = v,

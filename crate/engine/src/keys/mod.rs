@@ -22,12 +22,23 @@
 //! at compile time, so a build that only validates (the page's wasm) carries the rules and
 //! names it uses, not the help texts.
 
+mod colour;
+mod hdr;
 mod light;
 mod scenario;
 mod sensor;
 mod words;
 
 pub use crate::input::{Range, RangeWithLimit};
+pub use colour::{
+    CHANNEL_B, CHANNEL_CORRELATION, CHANNEL_G, CHANNEL_QUANTUM_EFFICIENCY,
+    CHANNEL_QUANTUM_EFFICIENCY_CURVE, CHANNEL_R, COLOUR_MATRIX, PROCESSING, WHITE_BALANCE,
+};
+pub use hdr::{
+    BLEND_FRACTION, EXPOSURES, EXPOSURE_FULL_WELL_E, EXPOSURE_RATIO, EXPOSURE_READ_NOISE_E, HDR,
+    HDR_KIND, LOW_GAIN, LOW_GAIN_CONVERSION_GAIN_UV_PER_E, LOW_GAIN_FULL_WELL_E,
+    LOW_GAIN_READ_NOISE_E, LOW_GAIN_SYSTEM_GAIN_DN_PER_E, SWITCH_FRACTION,
+};
 pub use light::{
     light_kind, light_kind_name, LightKind, FIELD_ANGLE_DEG, F_NUMBER, ILLUMINANCE_LUX,
     IRRADIANCE_W_PER_M2, LENS_TRANSMISSION, LIGHT_KINDS, MAGNIFICATION, PHOTONS_PER_PIXEL,
@@ -40,10 +51,11 @@ pub use scenario::{
     BINNING, BINNING_MODE, FRAMES_AVERAGED, SNR_THRESHOLD, TEMPERATURE_C, TIME_S, TITLE, VERSION,
 };
 pub use sensor::{
-    ADC_BITS, BLACK_LEVEL_DN, CONVERSION_GAIN_UV_PER_E, DARK_CURRENT_DOUBLING_C,
-    DARK_CURRENT_E_PER_S, DARK_CURRENT_REFERENCE_C, DSNU_E, FULL_WELL_E, PIXEL_PITCH_UM,
-    PRNU_PERCENT, QUANTUM_EFFICIENCY, QUANTUM_EFFICIENCY_CURVE, READOUT, READ_NOISE_E,
-    RESPONSE_FROM_NM, RESPONSE_TO_NM, SENSE_NODE_CAPACITANCE_FF, SUMMING_WELL_E,
+    ADC_BITS, BAND_GAP_PARAMETERS, BLACK_LEVEL_DN, CFA, CHANNELS, CONVERSION_GAIN_UV_PER_E,
+    DARK_CURRENT_DOUBLING_C, DARK_CURRENT_E_PER_S, DARK_CURRENT_LAW,
+    DARK_CURRENT_NONUNIFORMITY_PERCENT, DARK_CURRENT_REFERENCE_C, DSNU_E, FULL_WELL_E,
+    PIXEL_PITCH_UM, PRNU_PERCENT, QUANTUM_EFFICIENCY, QUANTUM_EFFICIENCY_CURVE, READOUT,
+    READ_NOISE_E, RESPONSE_FROM_NM, RESPONSE_TO_NM, SENSE_NODE_CAPACITANCE_FF, SUMMING_WELL_E,
     SYSTEM_GAIN_DN_PER_E,
 };
 pub use words::number as number_words;
@@ -62,6 +74,19 @@ pub enum Object {
     Spectrum,
     /// `exposure`.
     Exposure,
+    /// `sensor.channels`: the colour channels under a colour filter array.
+    Channels,
+    /// One colour channel: `sensor.channels.R`, `.G`, `.B`.
+    Channel,
+    /// `processing`: white balance and the colour matrix.
+    Processing,
+    /// `hdr`: several readouts stitched into one output.
+    Hdr,
+    /// One shorter exposure of a multi-exposure HDR readout: `hdr.exposures[i]` (written
+    /// `hdr.exposures[]` in the catalogue's paths).
+    HdrExposure,
+    /// `hdr.low_gain`: the low conversion gain of a dual-gain readout.
+    HdrLowGain,
 }
 
 impl Object {
@@ -75,6 +100,16 @@ impl Object {
             Object::Light => &["light", "background_light"],
             Object::Spectrum => &["light.spectrum", "background_light.spectrum"],
             Object::Exposure => &["exposure"],
+            Object::Channels => &["sensor.channels"],
+            Object::Channel => &[
+                "sensor.channels.R",
+                "sensor.channels.G",
+                "sensor.channels.B",
+            ],
+            Object::Processing => &["processing"],
+            Object::Hdr => &["hdr"],
+            Object::HdrExposure => &["hdr.exposures[]"],
+            Object::HdrLowGain => &["hdr.low_gain"],
         }
     }
 }
@@ -97,6 +132,10 @@ pub enum Section {
     Exposure,
     /// The conditions of the measurement.
     Conditions,
+    /// Colour: the channels of a colour filter array, and the colour processing.
+    Colour,
+    /// High dynamic range: several readouts of the pixel.
+    Hdr,
 }
 
 /// A unit as shown to people (`e⁻ rms`) and as written in CSV headers (`e- rms`); empty for a
@@ -194,6 +233,36 @@ pub enum Rule {
         object: Object,
         /// Whether it must be given.
         required: bool,
+    },
+    /// A list of exactly `count` numbers (white-balance gains), optional.
+    Numbers {
+        /// How many.
+        count: u32,
+        /// The range of each.
+        range: RangeWithLimit,
+        /// What it is when left out, in words.
+        default_words: &'static str,
+    },
+    /// A matrix of numbers, a list of `rows` lists of `columns` each (a colour matrix),
+    /// optional.
+    Matrix {
+        /// Rows.
+        rows: u32,
+        /// Columns.
+        columns: u32,
+        /// The range of each element.
+        range: RangeWithLimit,
+        /// What it is when left out, in words.
+        default_words: &'static str,
+    },
+    /// A list of `min` to `max` objects of one kind (an HDR readout's exposures).
+    List {
+        /// The kind of each element.
+        object: Object,
+        /// Fewest elements.
+        min: u32,
+        /// Most elements.
+        max: u32,
     },
     /// The format version: must be 1 (the validator words a newer one on its own).
     Version,
@@ -364,15 +433,24 @@ impl Key {
     }
 }
 
-/// The catalogue, object by object (the sensor, a light, its spectrum, the exposure, the
-/// conditions), each in the order the page's form shows its keys.
+/// The catalogue, object by object (the sensor and its colour channels, a light, its spectrum,
+/// the exposure, the conditions, colour processing, HDR), each in the order the page's form
+/// shows its keys.
 pub const ALL: &[&[Key]] = &[
     scenario::HEAD,
     sensor::KEYS,
+    colour::CHANNELS_KEYS,
+    colour::CHANNEL_KEYS,
     light::KEYS,
     light::SPECTRUM_KEYS,
     scenario::EXPOSURE,
     scenario::CONDITIONS,
+    colour::TOP_KEYS,
+    colour::PROCESSING_KEYS,
+    hdr::TOP_KEYS,
+    hdr::HDR_KEYS,
+    hdr::EXPOSURE_KEYS,
+    hdr::LOW_GAIN_KEYS,
 ];
 
 /// Every key of the catalogue, in the page's order within each object.

@@ -3,7 +3,7 @@
 //! Entries only (see the module above for what each field means); the validator's reading of
 //! them is `validate/sensor.rs`.
 
-use super::{Key, Object, Presence, Range, Rule, Section, Unit};
+use super::{Key, Object, Presence, Range, Rule, Section, Unit, When};
 
 const fn sensor(path: &'static str, rule: Rule) -> Key {
     Key::new(Object::Sensor, Section::Sensor, path, rule)
@@ -208,6 +208,111 @@ pub const DARK_CURRENT_DOUBLING_C: Key = sensor(
     "dark current doubling temperature",
     "Temperature rise over which the dark current doubles.",
 )
+.sweepable()
+.when(When::Choice {
+    key: "dark_current_law",
+    values: &["doubling"],
+});
+
+/// The colour filter array over the pixels.
+pub const CFA: Key = sensor(
+    "sensor.cfa",
+    Rule::Choice {
+        values: &["mono", "RGGB", "BGGR", "GRBG", "GBRG"],
+        default: Some("mono"),
+    },
+)
+.words(
+    "Colour filter array",
+    "colour filter array",
+    "Mono: no colour filter. A Bayer pattern (named by its top-left 2 × 2 block) gives each \
+     pixel a red, green or blue filter, each with its own quantum efficiency below; the \
+     figures above are then the green channel's.",
+)
+.options(&[
+    ("mono", "None (monochrome)"),
+    ("RGGB", "Bayer RGGB"),
+    ("BGGR", "Bayer BGGR"),
+    ("GRBG", "Bayer GRBG"),
+    ("GBRG", "Bayer GBRG"),
+]);
+
+/// Each colour channel's response.
+pub const CHANNELS: Key = sensor(
+    "sensor.channels",
+    Rule::Object {
+        object: Object::Channels,
+        required: false,
+    },
+)
+.words(
+    "Colour channels",
+    "colour channels",
+    "The quantum efficiency of the red, green and blue pixels (R, G, B), each a value or a \
+     curve; required with a Bayer pattern, refused without one.",
+);
+
+/// The law by which the dark current changes with temperature.
+pub const DARK_CURRENT_LAW: Key = sensor(
+    "sensor.dark_current_law",
+    Rule::Choice {
+        values: &["doubling", "bandgap"],
+        default: Some("doubling"),
+    },
+)
+.words(
+    "Dark current against temperature",
+    "dark current law",
+    "Doubling: the dark current doubles every so many degrees (common practice). Band gap: \
+     depletion-region generation, T^1.5·exp(−E_g(T)/2kT), with silicon's band gap by \
+     Varshni's form; its doubling interval itself grows with temperature.",
+)
+.options(&[
+    ("doubling", "Doubles every so many degrees"),
+    ("bandgap", "Band-gap law of silicon"),
+]);
+
+/// The parameter set of silicon's band gap for the band-gap law.
+pub const BAND_GAP_PARAMETERS: Key = sensor(
+    "sensor.band_gap_parameters",
+    Rule::Choice {
+        values: &["varshni_1967", "thurmond_1975", "sze_ng_2007"],
+        default: Some("varshni_1967"),
+    },
+)
+.words(
+    "Band-gap parameters",
+    "band-gap parameter set",
+    "E_g(T) = E_g(0) − α·T²/(T + β): Varshni 1967 (1.1557 eV, 702.1 µeV/K, 1108 K), \
+     Thurmond 1975 (1.17 eV, 473 µeV/K, 636 K), or Sze & Ng 2007 (1.169 eV, 490 µeV/K, \
+     655 K).",
+)
+.options(&[
+    ("varshni_1967", "Varshni 1967"),
+    ("thurmond_1975", "Thurmond 1975"),
+    ("sze_ng_2007", "Sze & Ng 2007"),
+])
+.when(When::Choice {
+    key: "dark_current_law",
+    values: &["bandgap"],
+});
+
+/// Spatial non-uniformity of the dark current, growing with the dark charge.
+pub const DARK_CURRENT_NONUNIFORMITY_PERCENT: Key = sensor(
+    "sensor.dark_current_nonuniformity_percent",
+    number(
+        Presence::Default(0.0),
+        Range::new().at_least(0.0).at_most_limit(1000.0),
+    ),
+)
+.unit(Unit::same("% of dark current"))
+.words(
+    "Dark-current non-uniformity",
+    "dark-current non-uniformity",
+    "Pixel-to-pixel spread of the dark current, spatial rms, as a percentage of its mean: a \
+     fixed pattern that grows with the dark charge (exposure, temperature), added to the DSNU \
+     below in variance.",
+)
 .sweepable();
 
 /// Dark signal non-uniformity.
@@ -371,8 +476,13 @@ pub(super) const KEYS: &[Key] = &[
     PRNU_PERCENT,
     DARK_CURRENT_E_PER_S,
     DARK_CURRENT_REFERENCE_C,
+    DARK_CURRENT_LAW,
     DARK_CURRENT_DOUBLING_C,
+    BAND_GAP_PARAMETERS,
     DSNU_E,
+    DARK_CURRENT_NONUNIFORMITY_PERCENT,
+    CFA,
+    CHANNELS,
     READOUT,
     READ_NOISE_E,
     SENSE_NODE_CAPACITANCE_FF,

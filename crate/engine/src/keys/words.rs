@@ -48,6 +48,26 @@ pub(super) fn rule(k: &Key) -> String {
         } else {
             "Optional.".into()
         }),
+        Rule::Numbers {
+            count,
+            range,
+            default_words,
+        } => {
+            out.push(format!("Default: {default_words}."));
+            out.push(format!("{count} numbers; for each:"));
+            out.push(range_words(range));
+        }
+        Rule::Matrix {
+            rows,
+            columns,
+            range,
+            default_words,
+        } => {
+            out.push(format!("Default: {default_words}."));
+            out.push(format!("{rows} rows of {columns} numbers; for each:"));
+            out.push(range_words(range));
+        }
+        Rule::List { min, max, .. } => out.push(format!("From {min} to {max} of them.")),
         Rule::Version => out.push("Must be 1.".into()),
     }
     out.retain(|s| !s.is_empty());

@@ -187,37 +187,42 @@ fn spectrum(p: &mut Problems, f: &mut Fields<'_>) -> Option<Spectrum> {
     spectrum
 }
 
+/// One response the light must reach: the sensor's own QE (at `sensor`), or a colour
+/// channel's (at `sensor.channels.R` …).
+struct QeSource<'a> {
+    /// Where its keys are (`sensor`, `sensor.channels.G`).
+    at: String,
+    quantum_efficiency: Option<f64>,
+    curve: Option<&'a crate::spectrum::QeCurve>,
+}
+
+/// The responses of a sensor: its own, or each colour channel's.
+fn qe_sources(sensor: &Sensor) -> Vec<QeSource<'_>> {
+    match &sensor.colour {
+        None => vec![QeSource {
+            at: "sensor".into(),
+            quantum_efficiency: sensor.quantum_efficiency,
+            curve: sensor.quantum_efficiency_curve.as_ref(),
+        }],
+        Some(c) => crate::scenario::CHANNEL_NAMES
+            .iter()
+            .zip(&c.channels)
+            .map(|(name, ch)| QeSource {
+                at: format!("sensor.channels.{name}"),
+                quantum_efficiency: ch.quantum_efficiency,
+                curve: ch.quantum_efficiency_curve.as_ref(),
+            })
+            .collect(),
+    }
+}
+
 /// Rules joining the light (or background light, at `prefix`) with the sensor's response.
 pub(super) fn check_light(p: &mut Problems, prefix: &str, light: &Light, sensor: &Sensor) {
     let band = sensor.response_band_nm;
     let spectrum = light.spectrum();
-    let has_curve = sensor.quantum_efficiency_curve.is_some();
-    if let (Some(curve), Light::Irradiance { wavelength_nm, .. }) =
-        (&sensor.quantum_efficiency_curve, light)
-    {
-        if curve.at(*wavelength_nm) < MIN_EFFECTIVE_QE {
-            p.push(
-                &format!("{prefix}.wavelength_nm"),
-                format!(
-                    "sensor.quantum_efficiency_curve is zero at {} nm: this sensor does not see this light",
-                    show(*wavelength_nm)
-                ),
-            );
-        }
-    }
-    let curve_usable =
-        has_curve && (spectrum.is_some() || matches!(light, Light::Irradiance { .. }));
-    if sensor.quantum_efficiency.is_none() && !curve_usable {
-        let why = if has_curve {
-            format!(
-                "required: {prefix} has no spectrum or wavelength to weight sensor.quantum_efficiency_curve with"
-            )
-        } else {
-            "required, missing: give it, or sensor.quantum_efficiency_curve".to_string()
-        };
-        if !p.has_problem_at("sensor.quantum_efficiency") {
-            p.push("sensor.quantum_efficiency", why);
-        }
+    let sources = qe_sources(sensor);
+    for src in &sources {
+        check_presence(p, prefix, light, src);
     }
     let Some(spectrum) = spectrum else { return };
     if let Some((lo, hi)) = spectrum.defined_range_nm() {
@@ -261,7 +266,8 @@ pub(super) fn check_light(p: &mut Problems, prefix: &str, light: &Light, sensor:
                 ..
             }
     );
-    if let Some(curve) = &sensor.quantum_efficiency_curve {
+    for src in &sources {
+        let Some(curve) = src.curve else { continue };
         let response = Response {
             quantum_efficiency: None,
             curve: Some(curve),
@@ -272,7 +278,7 @@ pub(super) fn check_light(p: &mut Problems, prefix: &str, light: &Light, sensor:
             crate::spectrum::electrons_per_unit(spectrum, band, |nm| response.qe_at(nm));
         if photons > 0.0 && electrons / photons < MIN_EFFECTIVE_QE {
             p.push(
-                "sensor.quantum_efficiency_curve",
+                &format!("{}.quantum_efficiency_curve", src.at),
                 format!(
                     "is zero (below {}) wherever {prefix}.spectrum has photons within the response band: \
                      this sensor does not see this light",
@@ -298,5 +304,38 @@ pub(super) fn check_light(p: &mut Problems, prefix: &str, light: &Light, sensor:
                 show(band.1)
             ),
         );
+    }
+}
+
+/// A response must have a QE value, or a curve the light can weight (a spectrum or a
+/// wavelength) that is not zero at a monochromatic light's wavelength.
+fn check_presence(p: &mut Problems, prefix: &str, light: &Light, src: &QeSource<'_>) {
+    let at = &src.at;
+    if let (Some(curve), Light::Irradiance { wavelength_nm, .. }) = (src.curve, light) {
+        if curve.at(*wavelength_nm) < MIN_EFFECTIVE_QE {
+            p.push(
+                &format!("{prefix}.wavelength_nm"),
+                format!(
+                    "{at}.quantum_efficiency_curve is zero at {} nm: this sensor does not see this light",
+                    show(*wavelength_nm)
+                ),
+            );
+        }
+    }
+    let has_curve = src.curve.is_some();
+    let curve_usable =
+        has_curve && (light.spectrum().is_some() || matches!(light, Light::Irradiance { .. }));
+    if src.quantum_efficiency.is_none() && !curve_usable {
+        let why = if has_curve {
+            format!(
+                "required: {prefix} has no spectrum or wavelength to weight {at}.quantum_efficiency_curve with"
+            )
+        } else {
+            format!("required, missing: give it, or {at}.quantum_efficiency_curve")
+        };
+        let path = format!("{at}.quantum_efficiency");
+        if !p.has_problem_at(&path) {
+            p.push(&path, why);
+        }
     }
 }

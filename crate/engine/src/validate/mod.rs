@@ -18,7 +18,9 @@ use crate::input::{self, show, show_value, type_name, Fields, Need, Problems};
 use crate::keys::{self, Presence, Rule};
 use crate::scenario::Scenario;
 
+mod colour;
 mod exposure;
+mod hdr;
 mod light;
 mod sensor;
 #[cfg(test)]
@@ -132,6 +134,15 @@ pub fn scenario_from_value(v: &Value) -> Result<Scenario, ScenarioError> {
         .and_then(|mut f| exposure::exposure(&mut p, &mut f));
     let temperature_c = top.number_key(&mut p, keys::TEMPERATURE_C.name, keys::TEMPERATURE_C.rule);
     let snr_threshold = top.number_key(&mut p, keys::SNR_THRESHOLD.name, keys::SNR_THRESHOLD.rule);
+    let processing_given = top.has(keys::PROCESSING.name);
+    let processing = match top.object_key(&mut p, keys::PROCESSING.name, keys::PROCESSING.rule) {
+        Some(mut f) => colour::processing(&mut p, &mut f),
+        None => Some(crate::colour::Processing::default()),
+    };
+    let hdr = top
+        .object_key(&mut p, keys::HDR.name, keys::HDR.rule)
+        .and_then(|mut f| hdr::hdr(&mut p, &mut f, sensor.as_ref()));
+    let hdr_failed = top.had_problem_at(&p, keys::HDR.name);
     top.finish(&mut p);
 
     // Rules that join keys, checked only where both sides were readable.
@@ -143,9 +154,51 @@ pub fn scenario_from_value(v: &Value) -> Result<Scenario, ScenarioError> {
             light::check_light(&mut p, "background_light", b, s);
         }
     }
+    if let Some(s) = &sensor {
+        if processing_given && s.colour.is_none() {
+            p.push(
+                keys::PROCESSING.name,
+                "only with a Bayer pattern (sensor.cfa): a monochrome sensor has no colours to \
+                 balance or mix"
+                    .into(),
+            );
+        }
+        if let Some(crate::scenario::Hdr {
+            readouts: crate::scenario::HdrReadouts::DualGain(low),
+            ..
+        }) = &hdr
+        {
+            if low.system_gain_dn_per_e >= s.system_gain_dn_per_e {
+                p.push(
+                    "hdr.low_gain.system_gain_dn_per_e",
+                    format!(
+                        "must be below the high gain's sensor.system_gain_dn_per_e ({}), got {}",
+                        show(s.system_gain_dn_per_e),
+                        show(low.system_gain_dn_per_e)
+                    ),
+                );
+            }
+        }
+    }
     if let (Some(s), Some(t)) = (&sensor, temperature_c) {
+        if let crate::scenario::DarkCurrentLaw::Bandgap(gap) = s.dark_current_law {
+            let factor = crate::dark::bandgap_factor(t, s.dark_current_reference_c, &gap);
+            if !(factor.is_finite() && factor <= MAX_DOUBLINGS.exp2()) {
+                p.push(
+                    "sensor.dark_current_reference_c",
+                    format!(
+                        "the band-gap law would multiply the dark current by more than 2^{MAX_DOUBLINGS} \
+                         between sensor.dark_current_reference_c and temperature_c (this calculator's limit)"
+                    ),
+                );
+            }
+        }
+        let doubling = matches!(
+            s.dark_current_law,
+            crate::scenario::DarkCurrentLaw::Doubling
+        );
         let doublings = (t - s.dark_current_reference_c) / s.dark_current_doubling_c;
-        if doublings.abs() > MAX_DOUBLINGS {
+        if doubling && doublings.abs() > MAX_DOUBLINGS {
             p.push(
                 "sensor.dark_current_doubling_c",
                 format!(
@@ -157,20 +210,34 @@ pub fn scenario_from_value(v: &Value) -> Result<Scenario, ScenarioError> {
         }
     }
 
-    match (title, sensor, light, exposure, temperature_c, snr_threshold) {
-        (title, Some(sensor), Some(light), Some(exposure), Some(temperature_c), Some(snr))
-            if p.is_empty() =>
-        {
-            Ok(Scenario {
-                title,
-                sensor,
-                light,
-                background_light,
-                exposure,
-                temperature_c,
-                snr_threshold: snr,
-            })
-        }
+    match (
+        title,
+        sensor,
+        light,
+        exposure,
+        temperature_c,
+        snr_threshold,
+        processing,
+    ) {
+        (
+            title,
+            Some(sensor),
+            Some(light),
+            Some(exposure),
+            Some(temperature_c),
+            Some(snr),
+            Some(processing),
+        ) if p.is_empty() && !hdr_failed => Ok(Scenario {
+            title,
+            sensor,
+            light,
+            background_light,
+            exposure,
+            temperature_c,
+            snr_threshold: snr,
+            processing,
+            hdr,
+        }),
         _ => Err(ScenarioError::from_problems(p.into_problems())),
     }
 }
@@ -200,6 +267,12 @@ trait ReadKey<'v> {
     fn pairs_key(&mut self, p: &mut Problems, name: &str, rule: Rule) -> Option<Vec<(f64, f64)>>;
     /// A nested object (`Rule::Object`).
     fn object_key(&mut self, p: &mut Problems, name: &str, rule: Rule) -> Option<Fields<'v>>;
+    /// A list of numbers (`Rule::Numbers`).
+    fn numbers_key(&mut self, p: &mut Problems, name: &str, rule: Rule) -> Option<Vec<f64>>;
+    /// A matrix (`Rule::Matrix`).
+    fn matrix_key(&mut self, p: &mut Problems, name: &str, rule: Rule) -> Option<Vec<Vec<f64>>>;
+    /// A list of objects (`Rule::List`).
+    fn list_key(&mut self, p: &mut Problems, name: &str, rule: Rule) -> Option<Vec<Fields<'v>>>;
 }
 
 impl<'v> ReadKey<'v> for Fields<'v> {
@@ -275,6 +348,33 @@ impl<'v> ReadKey<'v> for Fields<'v> {
             return not_this_kind(self, p, name, "an object");
         };
         self.object(p, name, required)
+    }
+
+    fn numbers_key(&mut self, p: &mut Problems, name: &str, rule: Rule) -> Option<Vec<f64>> {
+        let Rule::Numbers { count, range, .. } = rule else {
+            return not_this_kind(self, p, name, "a list of numbers");
+        };
+        self.numbers(p, name, count, range)
+    }
+
+    fn matrix_key(&mut self, p: &mut Problems, name: &str, rule: Rule) -> Option<Vec<Vec<f64>>> {
+        let Rule::Matrix {
+            rows,
+            columns,
+            range,
+            ..
+        } = rule
+        else {
+            return not_this_kind(self, p, name, "a matrix");
+        };
+        self.matrix(p, name, rows, columns, range)
+    }
+
+    fn list_key(&mut self, p: &mut Problems, name: &str, rule: Rule) -> Option<Vec<Fields<'v>>> {
+        let Rule::List { min, max, .. } = rule else {
+            return not_this_kind(self, p, name, "a list of objects");
+        };
+        self.list_of_objects(p, name, min, max)
     }
 }
 

@@ -5,9 +5,10 @@
 //! The rules joining the sensor with the light are in `light.rs`.
 
 use super::ReadKey;
+use crate::dark;
 use crate::input::{show, Fields, Problems};
 use crate::keys::{self, Presence, Rule};
-use crate::scenario::{Readout, Sensor};
+use crate::scenario::{DarkCurrentLaw, Readout, Sensor};
 use crate::spectrum::QeCurve;
 
 /// The response band when neither it nor a QE curve is given: the visible band over which
@@ -30,10 +31,11 @@ const fn fallback(rule: Rule) -> f64 {
 
 pub(super) fn sensor(p: &mut Problems, f: &mut Fields<'_>) -> Option<Sensor> {
     use keys::{
-        ADC_BITS, BLACK_LEVEL_DN, CONVERSION_GAIN_UV_PER_E, DARK_CURRENT_DOUBLING_C,
-        DARK_CURRENT_E_PER_S, DARK_CURRENT_REFERENCE_C, DSNU_E, FULL_WELL_E, PIXEL_PITCH_UM,
-        PRNU_PERCENT, QUANTUM_EFFICIENCY, QUANTUM_EFFICIENCY_CURVE, READOUT, READ_NOISE_E,
-        RESPONSE_FROM_NM, RESPONSE_TO_NM, SENSE_NODE_CAPACITANCE_FF, SUMMING_WELL_E,
+        ADC_BITS, BAND_GAP_PARAMETERS, BLACK_LEVEL_DN, CFA, CHANNELS, CONVERSION_GAIN_UV_PER_E,
+        DARK_CURRENT_DOUBLING_C, DARK_CURRENT_E_PER_S, DARK_CURRENT_LAW,
+        DARK_CURRENT_NONUNIFORMITY_PERCENT, DARK_CURRENT_REFERENCE_C, DSNU_E, FULL_WELL_E,
+        PIXEL_PITCH_UM, PRNU_PERCENT, QUANTUM_EFFICIENCY, QUANTUM_EFFICIENCY_CURVE, READOUT,
+        READ_NOISE_E, RESPONSE_FROM_NM, RESPONSE_TO_NM, SENSE_NODE_CAPACITANCE_FF, SUMMING_WELL_E,
         SYSTEM_GAIN_DN_PER_E,
     };
     let pixel_pitch_um = f.number_key(p, PIXEL_PITCH_UM.name, PIXEL_PITCH_UM.rule);
@@ -99,7 +101,51 @@ pub(super) fn sensor(p: &mut Problems, f: &mut Fields<'_>) -> Option<Sensor> {
         DARK_CURRENT_DOUBLING_C.name,
         DARK_CURRENT_DOUBLING_C.rule,
     );
+    let law_name = f.choice_key(p, DARK_CURRENT_LAW.name, DARK_CURRENT_LAW.rule);
+    let gap_given = f.has(BAND_GAP_PARAMETERS.name);
+    let gap = f
+        .choice_key(p, BAND_GAP_PARAMETERS.name, BAND_GAP_PARAMETERS.rule)
+        .map(|name| match name {
+            "thurmond_1975" => dark::THURMOND_1975,
+            "sze_ng_2007" => dark::SZE_NG_2007,
+            _ => dark::VARSHNI_1967,
+        });
+    let dark_current_law = match law_name {
+        Some("bandgap") => {
+            if f.has(DARK_CURRENT_DOUBLING_C.name) {
+                p.push(
+                    &f.path_of(DARK_CURRENT_DOUBLING_C.name),
+                    "not used with the band-gap law: leave it out, or set \
+                     sensor.dark_current_law to \"doubling\""
+                        .into(),
+                );
+            }
+            gap.map(DarkCurrentLaw::Bandgap)
+        }
+        Some(_) => {
+            if gap_given {
+                p.push(
+                    &f.path_of(BAND_GAP_PARAMETERS.name),
+                    "used only with the band-gap law: set sensor.dark_current_law to \"bandgap\", \
+                     or leave it out"
+                        .into(),
+                );
+            }
+            Some(DarkCurrentLaw::Doubling)
+        }
+        None => None,
+    };
     let dsnu_e = f.number_key(p, DSNU_E.name, DSNU_E.rule);
+    let dark_nonuniformity = f.number_key(
+        p,
+        DARK_CURRENT_NONUNIFORMITY_PERCENT.name,
+        DARK_CURRENT_NONUNIFORMITY_PERCENT.rule,
+    );
+    let cfa = f.choice_key(p, CFA.name, CFA.rule);
+    let channels = f
+        .object_key(p, CHANNELS.name, CHANNELS.rule)
+        .and_then(|mut c| super::colour::channels(p, &mut c));
+    let channels_failed = f.had_problem_at(p, CHANNELS.name);
     let prnu_percent = f.number_key(p, PRNU_PERCENT.name, PRNU_PERCENT.rule);
     let adc_bits = f.whole_key(p, ADC_BITS.name, ADC_BITS.rule);
     let system_gain_dn_per_e =
@@ -137,6 +183,49 @@ pub(super) fn sensor(p: &mut Problems, f: &mut Fields<'_>) -> Option<Sensor> {
         }
     }
 
+    let colour = match (cfa.and_then(super::colour::pattern), channels) {
+        (Some(pattern), Some(channels)) => {
+            Some(crate::scenario::ColourFilter { pattern, channels })
+        }
+        (Some(_), None) => {
+            if !channels_failed {
+                p.push(
+                    &f.path_of(CHANNELS.name),
+                    "required with a Bayer pattern (sensor.cfa): give the quantum efficiency of \
+                     R, G and B"
+                        .into(),
+                );
+            }
+            None
+        }
+        (None, Some(_)) => {
+            if cfa.is_some() {
+                p.push(
+                    &f.path_of(CHANNELS.name),
+                    "only with a Bayer pattern: set sensor.cfa, or leave the channels out".into(),
+                );
+            }
+            None
+        }
+        (None, None) => None,
+    };
+    let bayer = cfa.is_some_and(|c| c != "mono");
+    if bayer {
+        for (given, key) in [
+            (quantum_efficiency.is_some(), QUANTUM_EFFICIENCY.name),
+            (qe_curve.is_some(), QUANTUM_EFFICIENCY_CURVE.name),
+        ] {
+            if given {
+                p.push(
+                    &f.path_of(key),
+                    "not used with a Bayer pattern: give each channel's in sensor.channels \
+                     instead"
+                        .into(),
+                );
+            }
+        }
+    }
+
     Some(Sensor {
         pixel_pitch_um: pixel_pitch_um?,
         quantum_efficiency,
@@ -150,6 +239,9 @@ pub(super) fn sensor(p: &mut Problems, f: &mut Fields<'_>) -> Option<Sensor> {
         dark_current_e_per_s: dark_current_e_per_s?,
         dark_current_reference_c: dark_current_reference_c?,
         dark_current_doubling_c: dark_current_doubling_c?,
+        dark_current_law: dark_current_law?,
+        dark_current_nonuniformity_percent: dark_nonuniformity?,
+        colour: if bayer { Some(colour?) } else { None },
         dsnu_e: dsnu_e?,
         prnu_percent: prnu_percent?,
         adc_bits: adc_bits?,
