@@ -13,6 +13,7 @@ pub mod constants;
 pub mod curves;
 pub mod dark;
 pub mod demos;
+pub mod detection;
 pub mod frames;
 mod input;
 pub mod light;
