@@ -184,7 +184,8 @@ pub struct ChargeDistribution {
 }
 
 /// The charge distributions of dark-only and signal-plus-dark outputs on one axis, from a
-/// little below zero to well above the signal (mean + 6 standard deviations), with up to
+/// little below zero to well above the signal (mean + 6 standard deviations; for σ = 0 the
+/// whole numbers up to where less than 2.3e-16 of the mass is left), with up to
 /// `points` points (2 ..= [`MAX_PLOT_POINTS`]; the step shrinks to σ/5 when σ < ½ e⁻ so that
 /// the peaks show, within that limit).
 ///
@@ -218,7 +219,9 @@ pub fn charge_distribution(
     let mu = dark_e + signal_e;
     let upper = mu + 6.0 * (mu + sigma_e * sigma_e).sqrt() + 1.0;
     if sigma_e == 0.0 {
-        let top = upper.ceil().min(MAX_PLOT_POINTS as f64 - 1.0);
+        // Up to where the Poisson's upper tail is below e⁻³⁶ = 2.3e-16 (Bernstein bound).
+        let (_, hi) = super::poisson::window(mu, 36.0);
+        let top = hi.min(MAX_PLOT_POINTS as f64 - 1.0);
         #[allow(clippy::cast_possible_truncation, clippy::cast_sign_loss)] // 0 ≤ top ≤ 4000
         let n_max = top as u64;
         let charge_e: Vec<f64> = (0..=n_max).map(|n| n as f64).collect();

@@ -77,7 +77,8 @@ pub fn threshold(dark_e: f64, sigma_e: f64, p_fa: f64) -> Option<Threshold> {
     }
     let l = (2.0 / p_fa).ln();
     let a = l / 3.0 + (l * l / 9.0 + 2.0 * l * dark_e).sqrt();
-    let lo = sigma_e * normal::inverse_survival(p_fa)?;
+    // The root is exactly σ·Q⁻¹(p_fa) when d = 0; step a hair below so the bracket holds.
+    let lo = sigma_e * (normal::inverse_survival(p_fa)? - 1e-6);
     let hi = (dark_e + a + sigma_e * normal::inverse_survival(0.5 * p_fa)?) * (1.0 + 1e-12) + 1e-12;
     let lnp = p_fa.ln();
     let ln_q = (-p_fa).ln_1p();
