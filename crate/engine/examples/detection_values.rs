@@ -7,6 +7,9 @@ use engine::detection::neyman_pearson as np;
 use engine::detection::{counting, PoissonGaussian};
 use serde_json::{json, Value};
 
+/// A patch's (mean e⁻, variance e⁻²).
+type MeanVariance = (f64, f64);
+
 fn main() {
     // (dark e⁻, σ e⁻, p_fa, p_d): REFERENCES.md §8's row, the sub-electron case, and corners.
     let solves: &[(f64, f64, f64, f64)] = &[
@@ -60,7 +63,7 @@ fn main() {
         })
         .collect();
     // (target mean, variance), (reference mean, variance), ε.
-    let pairs: &[((f64, f64), (f64, f64), f64)] = &[
+    let pairs: &[(MeanVariance, MeanVariance, f64)] = &[
         ((110.0, 125.0), (100.0, 115.0), 0.5),
         ((3.0, 7.0), (2.0, 6.0), 0.5),
         ((50.0, 60.0), (100.0, 110.0), 0.5),
