@@ -14,6 +14,7 @@ pub mod constants;
 pub mod curves;
 pub mod dark;
 pub mod demos;
+pub mod detection;
 pub mod frames;
 pub mod hdr;
 mod input;
