@@ -598,7 +598,16 @@ fn what_cannot_be_simulated_is_refused_by_name() {
     );
     // The frame itself has no such limit: a 20-bit output is scaled down into 16 bits.
     let f = simulate::frame(&wide, 1, FrameSize::new(8, 8).unwrap()).unwrap();
-    assert_eq!(f.to_16_bit().scale_log2, -5);
+    let s = f.to_16_bit();
+    assert_eq!(s.scale_log2, -5);
+    assert!(
+        !s.exact,
+        "a 20-bit output cannot be held exactly in 16 bits"
+    );
+    // Nor can 4 averaged frames of a 16-bit ADC (quarter-DN steps at scale 1).
+    let averaged = with("cooled-scientific", |_| {});
+    let f = simulate::frame(&averaged, 1, FrameSize::new(24, 16).unwrap()).unwrap();
+    assert!(!f.to_16_bit().exact);
 }
 
 #[test]
@@ -607,7 +616,7 @@ fn sixteen_bit_samples_and_the_display_follow_their_stated_rules() {
     let f = simulate::frame(&sc, 4, FrameSize::new(48, 32).unwrap()).unwrap();
     let s = f.to_16_bit();
     // 12-bit: full scale 4095 × 16 = 65 520 ≤ 65 535, × 32 would not fit.
-    assert_eq!((s.scale, s.scale_log2), (16.0, 4));
+    assert_eq!((s.scale, s.scale_log2, s.exact), (16.0, 4, true));
     for (v, q) in f.values_dn.iter().zip(&s.samples) {
         assert_eq!(f64::from(*q), v * 16.0);
     }

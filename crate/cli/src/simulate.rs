@@ -158,6 +158,16 @@ pub fn run(r: &Request<'_>) -> ExitCode {
             },
             Container::Pgm => pgm_16(frame, &samples.samples, samples.scale, r.seed),
         };
+        if !samples.exact {
+            eprintln!(
+                "caution: {}: 16 bits cannot hold every output value exactly (range {} DN, \
+                 steps of 1/{} DN from averaging): the file's samples are rounded; the summary's \
+                 patch figures are from the exact values",
+                path.display(),
+                frame.output_full_scale_dn,
+                scenario.exposure().frames_averaged
+            );
+        }
         if let Err(e) = std::fs::write(path, bytes) {
             eprintln!("noise-budget: cannot write {}: {e}", path.display());
             return ExitCode::from(1);
@@ -170,6 +180,7 @@ pub fn run(r: &Request<'_>) -> ExitCode {
                 json!(if *c == Container::Png { "png" } else { "pgm" }),
             );
             m.insert("sample_scale".into(), json!(samples.scale));
+            m.insert("samples_exact".into(), json!(samples.exact));
         }
         summary["frame"] = v;
     }

@@ -115,6 +115,8 @@ fn the_frame_is_a_16_bit_png_of_the_engines_samples() {
             "3",
         ]);
         assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
+        // Four averaged frames of a 16-bit ADC have quarter-DN steps a 16-bit file cannot hold.
+        assert!(stderr(&out).starts_with("caution: "), "{}", stderr(&out));
     }
     let frame = engine::simulate::frame(
         &scenario(&path),

@@ -110,6 +110,10 @@ pub struct Samples16 {
     pub scale: f64,
     /// The scale as an exponent of two.
     pub scale_log2: i32,
+    /// Whether every output value is held exactly (each value × scale a whole number). False
+    /// when the output's range exceeds 16 bits, or when averaging makes finer steps than the
+    /// scale can hold (e.g. 4 frames of a 16-bit ADC).
+    pub exact: bool,
 }
 
 /// A simulated frame of the test scene.
@@ -365,6 +369,10 @@ impl SceneFrame {
             log2 += 1;
         }
         let scale = 2f64.powi(log2);
+        let exact = self
+            .values_dn
+            .iter()
+            .all(|v| (v * scale).fract() == 0.0 && v * scale <= 65_535.0);
         let samples = self
             .values_dn
             .iter()
@@ -379,6 +387,7 @@ impl SceneFrame {
             samples,
             scale,
             scale_log2: log2,
+            exact,
         }
     }
 
