@@ -451,6 +451,30 @@ fn saturated_patches_clip_where_the_model_says() {
 }
 
 #[test]
+fn a_frame_cautions_where_the_model_approximates() {
+    let codes = |sc: &Scenario| -> Vec<&'static str> {
+        let f = simulate::frame(sc, 1, FrameSize::new(12, 8).unwrap()).unwrap();
+        f.cautions.iter().map(|c| c.code).collect()
+    };
+    assert!(codes(&demo("global-shutter-machine-vision")).is_empty());
+    // 1 µm demo: K·σ = 0.22 × 1.3 = 0.29 DN per read.
+    assert_eq!(
+        codes(&demo("small-pixel-rolling-shutter")),
+        ["quantization_regime"]
+    );
+    let photon_counting = with("global-shutter-machine-vision", |v| {
+        v["sensor"]["read_noise_e"] = serde_json::json!(0.3);
+        v["sensor"]["system_gain_dn_per_e"] = serde_json::json!(5.0);
+        v["sensor"]["prnu_percent"] = serde_json::json!(25.0);
+        v["sensor"]["adc_bits"] = serde_json::json!(16);
+    });
+    assert_eq!(
+        codes(&photon_counting),
+        ["prnu_gain_clipped", "sub_electron_read_noise"]
+    );
+}
+
+#[test]
 fn no_light_scales_the_scene_to_the_detection_limit() {
     let sc = with("global-shutter-machine-vision", |v| {
         v["light"] = serde_json::json!({"photons_per_pixel": 0});

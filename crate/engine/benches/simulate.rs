@@ -53,7 +53,9 @@ fn main() {
     {
         let mut g = c.benchmark_group("simulate_12mp");
         g.throughput(Throughput::Elements(u64::from(WIDTH * HEIGHT)));
-        g.bench_function("frame", |b| b.iter(|| frame(black_box(&sc), 1, size).unwrap()));
+        g.bench_function("frame", |b| {
+            b.iter(|| frame(black_box(&sc), 1, size).unwrap())
+        });
         g.finish();
     }
     c.final_summary();
@@ -77,7 +79,10 @@ fn main() {
         println!("  numpy: skipped (no .venv; run scripts/setup)");
         return;
     }
-    let path = std::env::temp_dir().join(format!("noise-budget-bench-sim-{}.json", std::process::id()));
+    let path = std::env::temp_dir().join(format!(
+        "noise-budget-bench-sim-{}.json",
+        std::process::id()
+    ));
     std::fs::write(&path, &text).unwrap();
     let out = Command::new(&python)
         .arg(root.join("tests/python/bench_simulate.py"))

@@ -249,6 +249,26 @@ pub(crate) fn simulate(sc: &Scenario, seed: u64, size: FrameSize) -> SceneFrame 
         ));
     }
 
+    let read_dn = K * chain.readout.analog_noise_e;
+    if read_dn < 0.5 {
+        cautions.push(Caution::new(
+            "quantization_regime",
+            format!(
+                "one read's noise is {read_dn:.3} DN, below half a DN: quantization is not the \
+                 1/12 DN² the model assumes, so dim patches' measured SNR can differ from the \
+                 model's (the frame shows the real rounding)"
+            ),
+        ));
+    }
+    if chain.readout.analog_noise_e < crate::model::SUB_ELECTRON_READ_NOISE_E {
+        cautions.push(Caution::new(
+            "sub_electron_read_noise",
+            "read noise below 0.5 e⁻: the frame counts electrons exactly (Poisson), while the \
+             model's SNR is a Gaussian approximation; at a few electrons the two differ"
+                .into(),
+        ));
+    }
+
     let layout = Layout::new(size.width, size.height);
     let width = size.width as usize;
     let mut values = vec![0.0; width * size.height as usize];
