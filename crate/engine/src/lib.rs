@@ -29,6 +29,7 @@ pub mod report;
 pub mod roots;
 pub mod scenario;
 pub mod sense_node;
+pub mod simulate;
 pub mod spectrum;
 pub mod sweep;
 pub mod validate;
