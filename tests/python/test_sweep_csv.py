@@ -45,10 +45,21 @@ def tool(*args):
     return r.stdout.decode("utf-8")
 
 
+# Report sections present only for colour or HDR scenarios (docs/scenario-format.md).
+OPTIONAL_SECTIONS = ("channels", "colour", "hdr")
+
+
 def at(report, path):
+    """The value at a dot path; a list's element is named by its "name" (channels.R); a
+    section the report leaves out (hdr of a single-readout scenario) is None."""
     v = report
     for k in path.split("."):
-        v = v[k]
+        if isinstance(v, list):
+            v = next(e for e in v if e.get("name") == k)
+        elif v is report and k in OPTIONAL_SECTIONS and k not in v:
+            return None
+        else:
+            v = v[k]
     return v
 
 

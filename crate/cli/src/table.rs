@@ -209,6 +209,8 @@ pub fn render(scenario: &Scenario, r: &Report) -> String {
             .map(|t| format!("{} s", num(t)))
             .unwrap_or_else(|| "does not apply (light given per pixel, or no light)".into())
     );
+    colour_block(&mut o, r);
+    hdr_block(&mut o, r);
     if !r.warnings.is_empty() {
         let _ = writeln!(o);
         let _ = writeln!(o, "warnings");
@@ -217,6 +219,112 @@ pub fn render(scenario: &Scenario, r: &Report) -> String {
         }
     }
     o
+}
+
+/// A colour sensor's channels and output colours (nothing for mono).
+fn colour_block(o: &mut String, r: &Report) {
+    let (Some(channels), Some(colour)) = (&r.channels, &r.colour) else {
+        return;
+    };
+    let _ = writeln!(o);
+    let _ = writeln!(
+        o,
+        "colour channels (figures above: G)   signal      noise temporal / total   SNR total"
+    );
+    for c in channels {
+        let _ = writeln!(
+            o,
+            "  {:<3} QE {:<8} {:>10} e⁻  {:>10} / {:<10} e⁻  {}{}",
+            c.name,
+            num(c.quantum_efficiency),
+            num(c.signal_e),
+            num(c.noise_e.temporal),
+            num(c.noise_e.total),
+            db(c.snr.total_db),
+            if c.saturated { ", SATURATED" } else { "" }
+        );
+    }
+    let wb = colour.white_balance;
+    let _ = writeln!(
+        o,
+        "output colours (white balance {} / {} / {}, then the colour matrix; one 2×2 quad each)",
+        num(wb[0]),
+        num(wb[1]),
+        num(wb[2])
+    );
+    for c in colour
+        .outputs
+        .iter()
+        .chain(std::iter::once(&colour.luminance))
+    {
+        let _ = writeln!(
+            o,
+            "  {:<3} {:>10} e⁻  noise {:>10} / {:<10} e⁻  SNR {} temporal, {} total{}",
+            c.name,
+            num(c.signal_e),
+            num(c.noise_e),
+            num(c.noise_e_total),
+            db(c.snr.temporal_db),
+            db(c.snr.total_db),
+            c.noise_gain
+                .map(|g| format!(", matrix noise gain {}", num(g)))
+                .unwrap_or_default()
+        );
+    }
+}
+
+/// An HDR readout's combined output (nothing without one).
+fn hdr_block(o: &mut String, r: &Report) {
+    let Some(h) = &r.hdr else { return };
+    let _ = writeln!(o);
+    let _ = writeln!(
+        o,
+        "HDR output ({}; figures above: readout 1)   SNR here {} temporal, {} total (readout {}{})",
+        h.kind.replace('_', " "),
+        db(h.snr.temporal_db),
+        db(h.snr.total_db),
+        h.readout_in_use + 1,
+        if h.saturated { ", SATURATED" } else { "" }
+    );
+    for (i, x) in h.readouts.iter().enumerate() {
+        let _ = writeln!(
+            o,
+            "  readout {}: {} s, ×{} scale, read noise {} e⁻, K {} DN/e⁻, capacity {} e⁻",
+            i + 1,
+            num(x.exposure_time_s),
+            num(x.scale),
+            num(x.read_noise_e),
+            num(x.system_gain_dn_per_e),
+            num(x.capacity_e)
+        );
+    }
+    for t in &h.transitions {
+        let _ = writeln!(
+            o,
+            "  switch {}→{} at {} e⁻ ({} photons/pixel): SNR {} below, {} above, dip {:.2} dB{}",
+            t.from + 1,
+            t.to + 1,
+            num(t.level_e),
+            num(t.photons_per_pixel),
+            db(t.snr_below_db),
+            db(t.snr_above_db),
+            t.dip_db,
+            if t.next_saturated {
+                ", NEXT READOUT SATURATED"
+            } else {
+                ""
+            }
+        );
+    }
+    let dr = &h.dynamic_range;
+    let _ = writeln!(
+        o,
+        "  combined dynamic range {} ({}, {} stops)   max SNR {}",
+        opt(dr.ratio, ""),
+        db(dr.db),
+        opt(dr.stops, ""),
+        opt(h.max_snr, "")
+    );
 }
 
 /// Values in the units the light was given in, each with the quantity's words and unit from the

@@ -107,6 +107,39 @@ pub const FIGURES: &[(&str, &str, &str, Change, Getter)] = &[
         Change::Ratio,
         |r| r.max_snr,
     ),
+    // Colour and HDR: empty for a scenario without them.
+    (
+        "colour.luminance.snr.total_db",
+        "luminance SNR, total",
+        "dB",
+        Change::Difference,
+        |r| r.colour.as_ref().and_then(|c| c.luminance.snr.total_db),
+    ),
+    (
+        "hdr.snr.total_db",
+        "HDR output SNR, total",
+        "dB",
+        Change::Difference,
+        |r| r.hdr.as_ref().and_then(|h| h.snr.total_db),
+    ),
+    (
+        "hdr.dynamic_range.db",
+        "HDR dynamic range",
+        "dB",
+        Change::Difference,
+        |r| r.hdr.as_ref().and_then(|h| h.dynamic_range.db),
+    ),
+    (
+        "hdr.deepest_dip_db",
+        "deepest HDR SNR dip",
+        "dB",
+        Change::Difference,
+        |r| {
+            r.hdr
+                .as_ref()
+                .and_then(|h| h.transitions.iter().map(|t| t.dip_db).reduce(f64::max))
+        },
+    ),
 ];
 
 /// One figure across the scenarios compared.

@@ -320,7 +320,47 @@ pub const CSV_COLUMNS: &[(&str, &str, Getter)] = &[
     ("variance_share.prnu", "fraction", |r| {
         Some(r.variance_share.prnu)
     }),
+    // Colour channels and outputs, and the HDR output: empty for a scenario without them.
+    // A list's element is named by its `name` (`channels.R` is the element named R).
+    ("channels.R.snr.total_db", "dB", |r| channel_snr_db(r, 0)),
+    ("channels.G.snr.total_db", "dB", |r| channel_snr_db(r, 1)),
+    ("channels.B.snr.total_db", "dB", |r| channel_snr_db(r, 2)),
+    ("colour.outputs.R.snr.total_db", "dB", |r| {
+        output_snr_db(r, 0)
+    }),
+    ("colour.outputs.G.snr.total_db", "dB", |r| {
+        output_snr_db(r, 1)
+    }),
+    ("colour.outputs.B.snr.total_db", "dB", |r| {
+        output_snr_db(r, 2)
+    }),
+    ("colour.luminance.snr.temporal_db", "dB", |r| {
+        r.colour.as_ref().and_then(|c| c.luminance.snr.temporal_db)
+    }),
+    ("colour.luminance.snr.total_db", "dB", |r| {
+        r.colour.as_ref().and_then(|c| c.luminance.snr.total_db)
+    }),
+    ("hdr.snr.temporal_db", "dB", |r| {
+        r.hdr.as_ref().and_then(|h| h.snr.temporal_db)
+    }),
+    ("hdr.snr.total_db", "dB", |r| {
+        r.hdr.as_ref().and_then(|h| h.snr.total_db)
+    }),
+    ("hdr.readout_in_use", "index", |r| {
+        r.hdr.as_ref().map(|h| h.readout_in_use as f64)
+    }),
+    ("hdr.dynamic_range.db", "dB", |r| {
+        r.hdr.as_ref().and_then(|h| h.dynamic_range.db)
+    }),
 ];
+
+fn channel_snr_db(r: &Report, i: usize) -> Option<f64> {
+    r.channels.as_ref()?.get(i)?.snr.total_db
+}
+
+fn output_snr_db(r: &Report, i: usize) -> Option<f64> {
+    r.colour.as_ref()?.outputs.get(i)?.snr.total_db
+}
 
 /// The sweep as CSV text (RFC 4180: CRLF line ends, a header row, fields quoted where needed).
 ///
