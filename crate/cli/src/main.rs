@@ -5,6 +5,7 @@
 
 mod characterize;
 mod demos;
+mod human;
 mod simulate;
 mod table;
 

@@ -6,6 +6,7 @@
 //! `engine::simulate`; this file parses the size, encodes the PNG container, writes files and
 //! formats numbers for people.
 
+use crate::human::quantity;
 use std::fmt::Write as _;
 use std::path::{Path, PathBuf};
 use std::process::ExitCode;
@@ -274,48 +275,6 @@ fn pgm_16(frame: &SceneFrame, samples: &[u16], scale: f64, seed: u64) -> Vec<u8>
 
 // ---- table ----------------------------------------------------------------------------------
 
-/// 4 significant digits, trailing zeros dropped (formatting only).
-fn digits(v: f64) -> String {
-    // OK because the count is clamped to 0..=6.
-    #[allow(clippy::cast_possible_truncation, clippy::cast_sign_loss)]
-    let decimals = (3.0 - v.abs().log10().floor()).clamp(0.0, 6.0) as usize;
-    let t = format!("{v:.decimals$}");
-    if t.contains('.') {
-        t.trim_end_matches('0').trim_end_matches('.').to_string()
-    } else {
-        t
-    }
-}
-
-/// A number with its unit: plain from 0.001 to 9999, with an SI prefix beyond (never
-/// E-notation). `small_prefixes` allows m, µ, n below 1 (for times).
-fn num(x: f64, unit: &str, small_prefixes: bool) -> String {
-    const PREFIXES: [(f64, &str); 8] = [
-        (1e12, "T"),
-        (1e9, "G"),
-        (1e6, "M"),
-        (1e3, "k"),
-        (1.0, ""),
-        (1e-3, "m"),
-        (1e-6, "µ"),
-        (1e-9, "n"),
-    ];
-    let a = x.abs();
-    let with_unit = |t: String, prefix: &str| format!("{t} {prefix}{unit}").trim_end().to_string();
-    if x == 0.0 || !x.is_finite() {
-        return with_unit(format!("{x}"), "");
-    }
-    if (1e-3..1e4).contains(&a) && !(small_prefixes && a < 1.0) {
-        return with_unit(digits(x), "");
-    }
-    let (scale, prefix) = PREFIXES
-        .iter()
-        .find(|(s, _)| a >= *s)
-        .copied()
-        .unwrap_or((1e-9, "n"));
-    with_unit(digits(x / scale), prefix)
-}
-
 /// A light factor: whole stops below 1 as 1/2ⁿ.
 fn factor(f: f64) -> String {
     if f > 0.0 && f < 1.0 && (1.0 / f).fract() == 0.0 {
@@ -342,7 +301,7 @@ fn render_table(
         let _ = writeln!(
             o,
             "  reference level (light ×1): {} per pixel ({})",
-            num(f.reference_signal_e, "e⁻", false),
+            quantity(f.reference_signal_e, "e⁻", false),
             match f.reference {
                 simulate::ReferenceLevel::ScenarioSignal => "the scenario's signal",
                 simulate::ReferenceLevel::MinimumDetectable => "the minimum detectable signal",
@@ -357,11 +316,11 @@ fn render_table(
             let model = p
                 .model
                 .as_ref()
-                .map_or_else(|| "—".into(), |m| num(m.snr_total, "", false));
+                .map_or_else(|| "—".into(), |m| quantity(m.snr_total, "", false));
             let measured = p.measured.as_ref().and_then(|m| {
                 m.snr.map(|s| match m.snr_uncertainty {
-                    Some(u) => format!("{} ± {}", num(s, "", false), num(u, "", false)),
-                    None => num(s, "", false),
+                    Some(u) => format!("{} ± {}", quantity(s, "", false), quantity(u, "", false)),
+                    None => quantity(s, "", false),
                 })
             });
             let note = if p.model.as_ref().is_some_and(|m| m.saturated) {
@@ -375,7 +334,7 @@ fn render_table(
                 o,
                 "  {:>8} {:>14} {:>12} {:>20}  {note}",
                 factor(p.light_factor),
-                num(p.signal_e_per_pixel, "e⁻", false),
+                quantity(p.signal_e_per_pixel, "e⁻", false),
                 model,
                 measured.unwrap_or_else(|| "—".into()),
             );
@@ -403,15 +362,27 @@ fn render_table(
         );
         let e = &plan.expected;
         let rows = [
-            ("system gain K", num(e.system_gain_dn_per_e, "DN/e⁻", false)),
-            ("read noise", num(e.read_noise_e, "e⁻", false)),
-            ("full well (L)", num(e.full_well_e, "e⁻", false)),
-            ("dark current", num(e.dark_current_e_per_s, "e⁻/s", false)),
-            ("DSNU", num(e.dsnu_e, "e⁻", false)),
-            ("PRNU", num(e.prnu_percent, "%", false)),
-            ("quantum efficiency", num(e.quantum_efficiency, "", false)),
-            ("black level", num(e.black_level_dn, "DN", false)),
-            ("longest flat", num(plan.longest_flat_exposure_s, "s", true)),
+            (
+                "system gain K",
+                quantity(e.system_gain_dn_per_e, "DN/e⁻", false),
+            ),
+            ("read noise", quantity(e.read_noise_e, "e⁻", false)),
+            ("full well (L)", quantity(e.full_well_e, "e⁻", false)),
+            (
+                "dark current",
+                quantity(e.dark_current_e_per_s, "e⁻/s", false),
+            ),
+            ("DSNU", quantity(e.dsnu_e, "e⁻", false)),
+            ("PRNU", quantity(e.prnu_percent, "%", false)),
+            (
+                "quantum efficiency",
+                quantity(e.quantum_efficiency, "", false),
+            ),
+            ("black level", quantity(e.black_level_dn, "DN", false)),
+            (
+                "longest flat",
+                quantity(plan.longest_flat_exposure_s, "s", true),
+            ),
         ];
         let _ = writeln!(o, "  what characterize should find:");
         for (label, value) in rows {
@@ -441,13 +412,6 @@ mod tests {
 
     #[test]
     fn numbers_for_people() {
-        assert_eq!(num(10_500.0, "e⁻", false), "10.5 ke⁻");
-        assert_eq!(num(2013.4, "e⁻", false), "2013 e⁻");
-        assert_eq!(num(0.002, "s", true), "2 ms");
-        assert_eq!(num(0.38, "DN/e⁻", false), "0.38 DN/e⁻");
-        assert_eq!(num(24.934, "", false), "24.93");
-        assert_eq!(num(0.0, "e⁻", false), "0 e⁻");
-        assert_eq!(num(0.000_014_85, "e⁻/s", false), "14.85 µe⁻/s");
         assert_eq!(factor(1.0 / 256.0), "×1/256");
         assert_eq!(factor(4.0), "×4");
         assert_eq!(factor(0.0), "×0");

@@ -33,13 +33,13 @@ pub fn render(scenario: &Scenario, r: &Report) -> String {
     let _ = writeln!(o, "{}", scenario.title().unwrap_or("noise budget"));
     let _ = writeln!(
         o,
-        "  {} µm pixel, QE {}, K {} DN/e⁻, {} readout, {} s exposure, {} frame(s) averaged, \
+        "  {} µm pixel, QE {}, K {} DN/e⁻, {} readout, {} exposure, {} frame(s) averaged, \
          {b}×{b} {} binning, {} °C",
         num(s.pixel_pitch_um),
         num(r.light.effective_quantum_efficiency),
         num(s.system_gain_dn_per_e),
         s.readout.as_str(),
-        num(x.time_s),
+        crate::human::seconds(x.time_s),
         x.frames_averaged,
         x.binning_mode.as_str(),
         num(scenario.temperature_c()),
@@ -206,7 +206,7 @@ pub fn render(scenario: &Scenario, r: &Report) -> String {
         "exposure for SNR {}: {}",
         num(k),
         r.exposure_for_threshold_s
-            .map(|t| format!("{} s", num(t)))
+            .map(crate::human::seconds)
             .unwrap_or_else(|| "does not apply (light given per pixel, or no light)".into())
     );
     colour_block(&mut o, r);
@@ -289,9 +289,9 @@ fn hdr_block(o: &mut String, r: &Report) {
     for (i, x) in h.readouts.iter().enumerate() {
         let _ = writeln!(
             o,
-            "  readout {}: {} s, ×{} scale, read noise {} e⁻, K {} DN/e⁻, capacity {} e⁻",
+            "  readout {}: {}, ×{} scale, read noise {} e⁻, K {} DN/e⁻, capacity {} e⁻",
             i + 1,
-            num(x.exposure_time_s),
+            crate::human::seconds(x.exposure_time_s),
             num(x.scale),
             num(x.read_noise_e),
             num(x.system_gain_dn_per_e),
@@ -348,22 +348,7 @@ fn opt(v: Option<f64>, unit: &str) -> String {
     v.map_or_else(|| "—".to_string(), |x| format!("{}{unit}", num(x)))
 }
 
-/// A number for people: 4 significant digits, exponent form for very large or small values.
+/// A number for people: 4 significant digits, never E-notation.
 fn num(x: f64) -> String {
-    let a = x.abs();
-    if a == 0.0 {
-        return "0".into();
-    }
-    if !(1e-3..1e7).contains(&a) {
-        return format!("{x:.3e}");
-    }
-    // OK because a is within [1e-3, 1e7): the count is between 0 and 6.
-    #[allow(clippy::cast_possible_truncation, clippy::cast_sign_loss)]
-    let decimals = (3.0 - a.log10().floor()).max(0.0) as usize;
-    let t = format!("{x:.decimals$}");
-    if t.contains('.') {
-        t.trim_end_matches('0').trim_end_matches('.').to_string()
-    } else {
-        t
-    }
+    crate::human::plain(x)
 }
