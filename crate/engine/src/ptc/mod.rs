@@ -13,11 +13,14 @@
 //! plot-ready series of a result.
 
 mod analysis;
+mod cfa;
 mod curve;
+mod fft;
 mod fit;
 mod formulas;
 mod manifest;
 mod pair;
+mod spatial;
 mod stack;
 
 pub use analysis::{
@@ -25,6 +28,7 @@ pub use analysis::{
     LinearityFit, MeasuredSensor, NonUniformityFit, PtcPoint, ReadNoiseFit, ResponsivityFit,
     SaturationFit, GAIN_FIT_MAX_FRACTION, LINEARITY_RANGE_FRACTION, PRNU_FRACTION,
 };
+pub use cfa::{Cfa, CFA_NAMES, CHANNEL_NAMES};
 pub use curve::{curve_series, CurvePoint, CurveSeries};
 pub use fit::{fit_line, LineFit};
 pub use formulas::{
@@ -36,7 +40,11 @@ pub use manifest::{
     measure, parse_manifest, Failure, FrameEntry, Manifest, Problem, MANIFEST_VERSION,
 };
 pub use pair::{pair_sums, PairSums};
+pub use spatial::{
+    split_variance, HighNoise, Histogram, SpatialSummary, VarianceSplit, DEFECT_SIGMAS,
+    HIGH_NOISE_FACTOR, HIGH_NOISE_MIN_PAIRS, HISTOGRAM_BINS,
+};
 pub use stack::{
-    spatial_variance_corrected_dn2, FrameKind, Roi, StackAccumulator, StackError, StackSpec,
-    StackStats, MAX_FRAMES_PER_STACK,
+    spatial_variance_corrected_dn2, FrameKind, GroupStats, Roi, SampleInfo, StackAccumulator,
+    StackError, StackSpec, StackStats, MAX_FRAMES_PER_STACK,
 };

@@ -247,8 +247,202 @@ fn pair_sums_portable(a: &[u16], b: &[u16]) -> PairSums {
     out
 }
 
+// ---- the stack accumulator's fused pass ------------------------------------------------------
+
+/// Pixels per step of the fused pass: 16 lanes, each summing the samples at its own offset, so
+/// a lane's parity is the sample's column parity within the row (the caller's rows start at an
+/// even or odd column, which it knows).
+const LANES: usize = 16;
+
+/// What one pass over a row of a frame pair gives besides the per-pixel updates.
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq)]
+pub(crate) struct RowPass {
+    /// Sums over the samples at even offsets from the row's first sample, then at odd offsets.
+    pub parity: [PairSums; 2],
+    /// Bitwise OR of every sample of both rows (its trailing zeros give the sample step).
+    pub or: u16,
+    /// Largest sample of both rows.
+    pub max: u16,
+}
+
+/// One pass over a row pair (a, b): the pair's sums split by column parity, the OR and the
+/// maximum of the samples, and per pixel `sums += a + b` and (when `dsq` is not empty)
+/// `dsq += (a − b)²`, saturating.
+///
+/// Exact: within a block of [`BLOCK`] pixels each 32-bit lane receives BLOCK/16 = 2^11 samples
+/// (< 2^27); a per-pixel sum of at most 2^16 frames of 16-bit samples is below 2^32 (the
+/// stack's frame limit); (a − b)² < 2^32 fits a `u32`. A per-pixel `dsq` that saturates marks
+/// a pixel far noisier than any threshold, which is what it is used for.
+pub(crate) fn pair_pass(a: &[u16], b: &[u16], sums: &mut [u32], dsq: &mut [u32]) -> RowPass {
+    #[cfg(target_arch = "x86_64")]
+    {
+        if std::is_x86_feature_detected!("avx2") {
+            // SAFETY: the processor supports AVX2, checked just above; the function is the
+            // portable loop compiled with that feature enabled and touches no memory otherwise.
+            return unsafe { pair_pass_avx2(a, b, sums, dsq) };
+        }
+    }
+    pair_pass_portable(a, b, sums, dsq)
+}
+
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx2")]
+unsafe fn pair_pass_avx2(a: &[u16], b: &[u16], sums: &mut [u32], dsq: &mut [u32]) -> RowPass {
+    pair_pass_portable(a, b, sums, dsq)
+}
+
+#[inline(always)]
+fn pair_pass_portable(a: &[u16], b: &[u16], sums: &mut [u32], dsq: &mut [u32]) -> RowPass {
+    if dsq.is_empty() {
+        pass::<false>(a, b, sums, dsq)
+    } else {
+        pass::<true>(a, b, sums, dsq)
+    }
+}
+
+#[derive(Default)]
+struct Lanes {
+    sa: [u32; LANES],
+    sb: [u32; LANES],
+    dd: [u64; LANES],
+    ss: [u64; LANES],
+    or: [u16; LANES],
+    mx: [u16; LANES],
+}
+
+#[inline(always)]
+#[allow(clippy::indexing_slicing)] // OK because every index is j < LANES into arrays of LANES
+fn step<const DSQ: bool>(
+    l: &mut Lanes,
+    x: &[u16; LANES],
+    y: &[u16; LANES],
+    s: &mut [u32; LANES],
+    d: &mut [u32; LANES],
+) {
+    for j in 0..LANES {
+        let (xj, yj) = (u32::from(x[j]), u32::from(y[j]));
+        l.sa[j] += xj;
+        l.sb[j] += yj;
+        let dj = xj.abs_diff(yj);
+        let d2 = dj * dj;
+        l.dd[j] += u64::from(d2);
+        let sj = xj + yj;
+        l.ss[j] += u64::from(sj) * u64::from(sj);
+        l.or[j] |= x[j] | y[j];
+        l.mx[j] = l.mx[j].max(x[j].max(y[j]));
+        s[j] = s[j].wrapping_add(sj);
+        if DSQ {
+            d[j] = d[j].saturating_add(d2);
+        }
+    }
+}
+
+#[inline(always)]
+fn pass<const DSQ: bool>(a: &[u16], b: &[u16], sums: &mut [u32], dsq: &mut [u32]) -> RowPass {
+    let mut n = a.len().min(b.len()).min(sums.len());
+    if DSQ {
+        n = n.min(dsq.len());
+    }
+    let mut l = Lanes::default();
+    let mut totals = [[0u64; 2]; 2]; // [parity][a or b]
+    let mut scratch = [0u32; LANES];
+    let mut start = 0;
+    while start < n {
+        let end = (start + BLOCK).min(n);
+        let ca = a.get(start..end).unwrap_or_default();
+        let cb = b.get(start..end).unwrap_or_default();
+        let cs = sums.get_mut(start..end).unwrap_or_default();
+        l.sa = [0; LANES];
+        l.sb = [0; LANES];
+        let (xa, xb) = (ca.chunks_exact(LANES), cb.chunks_exact(LANES));
+        let mut xs = cs.chunks_exact_mut(LANES);
+        if DSQ {
+            let cd = dsq.get_mut(start..end).unwrap_or_default();
+            for ((x, y), (s, d)) in xa.zip(xb).zip(xs.by_ref().zip(cd.chunks_exact_mut(LANES))) {
+                if let (Ok(x), Ok(y), Ok(s), Ok(d)) = (
+                    <&[u16; LANES]>::try_from(x),
+                    <&[u16; LANES]>::try_from(y),
+                    <&mut [u32; LANES]>::try_from(s),
+                    <&mut [u32; LANES]>::try_from(d),
+                ) {
+                    step::<true>(&mut l, x, y, s, d);
+                }
+            }
+        } else {
+            for ((x, y), s) in xa.zip(xb).zip(xs.by_ref()) {
+                if let (Ok(x), Ok(y), Ok(s)) = (
+                    <&[u16; LANES]>::try_from(x),
+                    <&[u16; LANES]>::try_from(y),
+                    <&mut [u32; LANES]>::try_from(s),
+                ) {
+                    step::<false>(&mut l, x, y, s, &mut scratch);
+                }
+            }
+        }
+        for (j, (sa, sb)) in l.sa.iter().zip(&l.sb).enumerate() {
+            if let Some(t) = totals.get_mut(j % 2) {
+                t[0] += u64::from(*sa);
+                t[1] += u64::from(*sb);
+            }
+        }
+        start = end;
+    }
+    // The last pixels that do not fill 16 lanes, one by one (the blocks are multiples of 16,
+    // so only the row's end has them; their offsets keep their parity).
+    let full = n - n % LANES;
+    let mut tail = [PairSums::default(); 2];
+    let (mut or, mut max) = (0u16, 0u16);
+    for i in full..n {
+        let (Some(&x), Some(&y)) = (a.get(i), b.get(i)) else {
+            continue;
+        };
+        let (x32, y32) = (u32::from(x), u32::from(y));
+        let d2 = x32.abs_diff(y32).pow(2);
+        let s = x32 + y32;
+        if let Some(t) = tail.get_mut(i % 2) {
+            *t = t.merged(PairSums {
+                pixels: 1,
+                sum_a: u64::from(x32),
+                sum_b: u64::from(y32),
+                sum_diff_sq: u64::from(d2),
+                sum_sum_sq: u64::from(s) * u64::from(s),
+            });
+        }
+        or |= x | y;
+        max = max.max(x.max(y));
+        if let Some(v) = sums.get_mut(i) {
+            *v = v.wrapping_add(s);
+        }
+        if DSQ {
+            if let Some(v) = dsq.get_mut(i) {
+                *v = v.saturating_add(d2);
+            }
+        }
+    }
+    let mut out = RowPass {
+        parity: tail,
+        or: l.or.iter().fold(or, |acc, v| acc | v),
+        max: l.mx.iter().fold(max, |acc, v| acc.max(*v)),
+    };
+    for (j, (dd, ss)) in l.dd.iter().zip(&l.ss).enumerate() {
+        if let Some(p) = out.parity.get_mut(j % 2) {
+            p.sum_diff_sq += dd;
+            p.sum_sum_sq += ss;
+        }
+    }
+    for (parity, p) in out.parity.iter_mut().enumerate() {
+        // Pixels at even offsets among the first `full`: full/2 each parity (full is even).
+        p.pixels += (full / 2) as u64;
+        if let Some(t) = totals.get(parity) {
+            p.sum_a += t[0];
+            p.sum_b += t[1];
+        }
+    }
+    out
+}
+
 #[cfg(test)]
-#[allow(clippy::unwrap_used)] // OK because a failing test should stop loudly
+#[allow(clippy::unwrap_used, clippy::indexing_slicing)] // OK because a failing test should stop loudly
 mod tests {
     use super::*;
 
@@ -287,6 +481,41 @@ mod tests {
             .map(|i| (i.wrapping_mul(40_503) >> 3) as u16)
             .collect();
         assert_eq!(pair_sums(&a, &b), pair_sums_portable(&a, &b));
+    }
+
+    #[test]
+    fn fused_pass_matches_the_plain_sums_by_parity() {
+        // The fused pass over a row of odd length (three blocks and a tail) against pair_sums
+        // of the even- and odd-offset samples taken apart: the same integers.
+        let n = 2 * BLOCK + 37;
+        let a: Vec<u16> = (0..n as u32)
+            .map(|i| (i.wrapping_mul(2_654_435_761) >> 16) as u16)
+            .collect();
+        let b: Vec<u16> = (0..n as u32)
+            .map(|i| (i.wrapping_mul(40_503) >> 3) as u16)
+            .collect();
+        let mut sums = vec![1u32; n];
+        let mut dsq = vec![0u32; n];
+        let got = pair_pass(&a, &b, &mut sums, &mut dsq);
+        for parity in 0..2 {
+            let pick = |v: &[u16]| {
+                v.iter()
+                    .skip(parity)
+                    .step_by(2)
+                    .copied()
+                    .collect::<Vec<_>>()
+            };
+            assert_eq!(got.parity[parity], pair_sums(&pick(&a), &pick(&b)));
+        }
+        assert_eq!(got.or, a.iter().chain(&b).fold(0, |o, v| o | v));
+        assert_eq!(got.max, *a.iter().chain(&b).max().unwrap());
+        for i in [0, 1, 17, BLOCK, n - 1] {
+            assert_eq!(sums[i], 1 + u32::from(a[i]) + u32::from(b[i]));
+            assert_eq!(dsq[i], u32::from(a[i].abs_diff(b[i])).pow(2));
+        }
+        let mut sums2 = vec![1u32; n];
+        assert_eq!(pair_pass(&a, &b, &mut sums2, &mut []), got);
+        assert_eq!(sums2, sums);
     }
 
     #[test]
