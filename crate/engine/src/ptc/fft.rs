@@ -53,24 +53,26 @@ impl Fft {
         let mut half = 1;
         while half < n {
             let stride = n / (2 * half);
-            for start in (0..n).step_by(2 * half) {
-                for k in 0..half {
-                    let (wr, wi) = self.twiddles.get(k * stride).copied().unwrap_or((1.0, 0.0));
-                    let (i, j) = (start + k, start + k + half);
-                    let (Some(&xr), Some(&xi), Some(&yr), Some(&yi)) =
-                        (re.get(i), im.get(i), re.get(j), im.get(j))
-                    else {
-                        continue;
-                    };
-                    let (tr, ti) = (yr * wr - yi * wi, yr * wi + yi * wr);
-                    if let (Some(a), Some(b)) = (re.get_mut(i), im.get_mut(i)) {
-                        *a = xr + tr;
-                        *b = xi + ti;
-                    }
-                    if let (Some(a), Some(b)) = (re.get_mut(j), im.get_mut(j)) {
-                        *a = xr - tr;
-                        *b = xi - ti;
-                    }
+            for (block_re, block_im) in re
+                .chunks_exact_mut(2 * half)
+                .zip(im.chunks_exact_mut(2 * half))
+            {
+                let (lo_re, hi_re) = block_re.split_at_mut(half);
+                let (lo_im, hi_im) = block_im.split_at_mut(half);
+                let tw = self.twiddles.iter().step_by(stride);
+                for ((((xr, xi), yr), yi), (wr, wi)) in lo_re
+                    .iter_mut()
+                    .zip(lo_im.iter_mut())
+                    .zip(hi_re.iter_mut())
+                    .zip(hi_im.iter_mut())
+                    .zip(tw)
+                {
+                    let (tr, ti) = (*yr * wr - *yi * wi, *yr * wi + *yi * wr);
+                    let (ar, ai) = (*xr, *xi);
+                    *xr = ar + tr;
+                    *xi = ai + ti;
+                    *yr = ar - tr;
+                    *yi = ai - ti;
                 }
             }
             half *= 2;

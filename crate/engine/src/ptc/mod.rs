@@ -15,7 +15,10 @@
 mod analysis;
 mod cfa;
 mod curve;
+mod depth;
+mod export;
 mod fft;
+mod figures;
 mod fit;
 mod formulas;
 mod manifest;
@@ -24,13 +27,17 @@ mod spatial;
 mod stack;
 
 pub use analysis::{
-    analyse, AnalysisError, Characterization, DarkCurrentFit, Diagnostic, FitReport, GainFit,
-    LinearityFit, MeasuredSensor, NonUniformityFit, PtcPoint, ReadNoiseFit, ResponsivityFit,
-    SaturationFit, GAIN_FIT_MAX_FRACTION, LINEARITY_RANGE_FRACTION, PRNU_FRACTION,
+    analyse, analyse_with, AnalysisError, AnalysisOptions, ChannelResult, Characterization,
+    ColourSummary, DarkCurrentFit, Diagnostic, FitReport, GainFit, LinearityFit, MeasuredSensor,
+    NonUniformityFit, PtcPoint, ReadNoiseFit, ResponsivityFit, SaturationFit, SpatialFit,
+    DEFECT_RULE, GAIN_FIT_MAX_FRACTION, LINEARITY_FIT, LINEARITY_RANGE_FRACTION, PRNU_FRACTION,
 };
 pub use cfa::{Cfa, CFA_NAMES, CHANNEL_NAMES};
 pub use curve::{curve_series, CurvePoint, CurveSeries};
-pub use fit::{fit_line, LineFit};
+pub use depth::{sample_depth, DepthContradiction, DepthSource, SampleDepth};
+pub use export::{spatial_csv, spatial_series, SpatialSeries};
+pub use figures::Figure;
+pub use fit::{fit_line, fit_line_weighted, LineFit};
 pub use formulas::{
     dark_current_e_per_s, dark_current_from_variance_e_per_s, dsnu_e, linearity_error_percent,
     prnu_percent, quantum_efficiency, read_noise_e, read_noise_upper_bound_e,
@@ -42,7 +49,7 @@ pub use manifest::{
 pub use pair::{pair_sums, PairSums};
 pub use spatial::{
     split_variance, HighNoise, Histogram, SpatialSummary, VarianceSplit, DEFECT_SIGMAS,
-    HIGH_NOISE_FACTOR, HIGH_NOISE_MIN_PAIRS, HISTOGRAM_BINS,
+    HIGH_NOISE_FACTOR, HIGH_NOISE_MIN_PAIRS, HISTOGRAM_BINS, SPECTROGRAM_MAX_LINES,
 };
 pub use stack::{
     spatial_variance_corrected_dn2, FrameKind, GroupStats, Roi, SampleInfo, StackAccumulator,

@@ -300,41 +300,98 @@ fn pair_pass_portable(a: &[u16], b: &[u16], sums: &mut [u32], dsq: &mut [u32]) -
     }
 }
 
-#[derive(Default)]
-struct Lanes {
-    sa: [u32; LANES],
-    sb: [u32; LANES],
-    dd: [u64; LANES],
-    ss: [u64; LANES],
-    or: [u16; LANES],
-    mx: [u16; LANES],
-}
-
+/// The per-pixel part of the pass: `sums += a + b`, and with `DSQ` `dsq += (a − b)²`
+/// (saturating); returns the OR and the maximum of the samples. A plain loop over equal-length
+/// slices, which the compiler vectorises.
 #[inline(always)]
-#[allow(clippy::indexing_slicing)] // OK because every index is j < LANES into arrays of LANES
-fn step<const DSQ: bool>(
-    l: &mut Lanes,
-    x: &[u16; LANES],
-    y: &[u16; LANES],
-    s: &mut [u32; LANES],
-    d: &mut [u32; LANES],
-) {
-    for j in 0..LANES {
-        let (xj, yj) = (u32::from(x[j]), u32::from(y[j]));
-        l.sa[j] += xj;
-        l.sb[j] += yj;
-        let dj = xj.abs_diff(yj);
-        let d2 = dj * dj;
-        l.dd[j] += u64::from(d2);
-        let sj = xj + yj;
-        l.ss[j] += u64::from(sj) * u64::from(sj);
-        l.or[j] |= x[j] | y[j];
-        l.mx[j] = l.mx[j].max(x[j].max(y[j]));
-        s[j] = s[j].wrapping_add(sj);
-        if DSQ {
-            d[j] = d[j].saturating_add(d2);
+fn per_pixel<const DSQ: bool>(
+    a: &[u16],
+    b: &[u16],
+    sums: &mut [u32],
+    dsq: &mut [u32],
+) -> (u16, u16) {
+    let (mut or, mut max) = (0u16, 0u16);
+    if DSQ {
+        for (((x, y), s), d) in a.iter().zip(b).zip(sums.iter_mut()).zip(dsq.iter_mut()) {
+            let (x32, y32) = (u32::from(*x), u32::from(*y));
+            *s = s.wrapping_add(x32 + y32);
+            let diff = x32.abs_diff(y32);
+            *d = d.saturating_add(diff * diff);
+            or |= *x | *y;
+            max = max.max((*x).max(*y));
+        }
+    } else {
+        for ((x, y), s) in a.iter().zip(b).zip(sums.iter_mut()) {
+            *s = s.wrapping_add(u32::from(*x) + u32::from(*y));
+            or |= *x | *y;
+            max = max.max((*x).max(*y));
         }
     }
+    (or, max)
+}
+
+/// The reduction part: the pair sums of the samples at even and at odd offsets, in 16 lanes
+/// (lane j takes the offsets ≡ j mod 16, so its parity is j's).
+#[inline(always)]
+#[allow(clippy::indexing_slicing)] // OK because every index is j < LANES into arrays of LANES
+fn parity_sums(a: &[u16], b: &[u16]) -> [PairSums; 2] {
+    let n = a.len().min(b.len());
+    let mut out = [PairSums::default(); 2];
+    let mut dd = [0u64; LANES];
+    let mut ss = [0u64; LANES];
+    let mut start = 0;
+    while start < n {
+        let end = (start + BLOCK).min(n);
+        let ca = a.get(start..end).unwrap_or_default();
+        let cb = b.get(start..end).unwrap_or_default();
+        let mut sa = [0u32; LANES];
+        let mut sb = [0u32; LANES];
+        for (x, y) in ca.chunks_exact(LANES).zip(cb.chunks_exact(LANES)) {
+            let (Ok(x), Ok(y)) = (<&[u16; LANES]>::try_from(x), <&[u16; LANES]>::try_from(y))
+            else {
+                continue;
+            };
+            for j in 0..LANES {
+                let (xj, yj) = (u32::from(x[j]), u32::from(y[j]));
+                sa[j] += xj;
+                sb[j] += yj;
+                let d = xj.abs_diff(yj);
+                dd[j] += u64::from(d * d);
+                let s = u64::from(xj + yj);
+                ss[j] += s * s;
+            }
+        }
+        for j in 0..LANES {
+            out[j % 2].sum_a += u64::from(sa[j]);
+            out[j % 2].sum_b += u64::from(sb[j]);
+        }
+        start = end;
+    }
+    for j in 0..LANES {
+        out[j % 2].sum_diff_sq += dd[j];
+        out[j % 2].sum_sum_sq += ss[j];
+    }
+    let full = n - n % LANES;
+    for p in &mut out {
+        p.pixels = (full / 2) as u64;
+    }
+    // The last pixels that do not fill 16 lanes (only at the row's end: blocks are multiples
+    // of 16, so offsets keep their parity).
+    for i in full..n {
+        let (Some(&x), Some(&y)) = (a.get(i), b.get(i)) else {
+            continue;
+        };
+        let (x, y) = (u32::from(x), u32::from(y));
+        let s = u64::from(x + y);
+        out[i % 2] = out[i % 2].merged(PairSums {
+            pixels: 1,
+            sum_a: u64::from(x),
+            sum_b: u64::from(y),
+            sum_diff_sq: u64::from(x.abs_diff(y).pow(2)),
+            sum_sum_sq: s * s,
+        });
+    }
+    out
 }
 
 #[inline(always)]
@@ -343,102 +400,19 @@ fn pass<const DSQ: bool>(a: &[u16], b: &[u16], sums: &mut [u32], dsq: &mut [u32]
     if DSQ {
         n = n.min(dsq.len());
     }
-    let mut l = Lanes::default();
-    let mut totals = [[0u64; 2]; 2]; // [parity][a or b]
-    let mut scratch = [0u32; LANES];
-    let mut start = 0;
-    while start < n {
-        let end = (start + BLOCK).min(n);
-        let ca = a.get(start..end).unwrap_or_default();
-        let cb = b.get(start..end).unwrap_or_default();
-        let cs = sums.get_mut(start..end).unwrap_or_default();
-        l.sa = [0; LANES];
-        l.sb = [0; LANES];
-        let (xa, xb) = (ca.chunks_exact(LANES), cb.chunks_exact(LANES));
-        let mut xs = cs.chunks_exact_mut(LANES);
-        if DSQ {
-            let cd = dsq.get_mut(start..end).unwrap_or_default();
-            for ((x, y), (s, d)) in xa.zip(xb).zip(xs.by_ref().zip(cd.chunks_exact_mut(LANES))) {
-                if let (Ok(x), Ok(y), Ok(s), Ok(d)) = (
-                    <&[u16; LANES]>::try_from(x),
-                    <&[u16; LANES]>::try_from(y),
-                    <&mut [u32; LANES]>::try_from(s),
-                    <&mut [u32; LANES]>::try_from(d),
-                ) {
-                    step::<true>(&mut l, x, y, s, d);
-                }
-            }
-        } else {
-            for ((x, y), s) in xa.zip(xb).zip(xs.by_ref()) {
-                if let (Ok(x), Ok(y), Ok(s)) = (
-                    <&[u16; LANES]>::try_from(x),
-                    <&[u16; LANES]>::try_from(y),
-                    <&mut [u32; LANES]>::try_from(s),
-                ) {
-                    step::<false>(&mut l, x, y, s, &mut scratch);
-                }
-            }
-        }
-        for (j, (sa, sb)) in l.sa.iter().zip(&l.sb).enumerate() {
-            if let Some(t) = totals.get_mut(j % 2) {
-                t[0] += u64::from(*sa);
-                t[1] += u64::from(*sb);
-            }
-        }
-        start = end;
-    }
-    // The last pixels that do not fill 16 lanes, one by one (the blocks are multiples of 16,
-    // so only the row's end has them; their offsets keep their parity).
-    let full = n - n % LANES;
-    let mut tail = [PairSums::default(); 2];
-    let (mut or, mut max) = (0u16, 0u16);
-    for i in full..n {
-        let (Some(&x), Some(&y)) = (a.get(i), b.get(i)) else {
-            continue;
-        };
-        let (x32, y32) = (u32::from(x), u32::from(y));
-        let d2 = x32.abs_diff(y32).pow(2);
-        let s = x32 + y32;
-        if let Some(t) = tail.get_mut(i % 2) {
-            *t = t.merged(PairSums {
-                pixels: 1,
-                sum_a: u64::from(x32),
-                sum_b: u64::from(y32),
-                sum_diff_sq: u64::from(d2),
-                sum_sum_sq: u64::from(s) * u64::from(s),
-            });
-        }
-        or |= x | y;
-        max = max.max(x.max(y));
-        if let Some(v) = sums.get_mut(i) {
-            *v = v.wrapping_add(s);
-        }
-        if DSQ {
-            if let Some(v) = dsq.get_mut(i) {
-                *v = v.saturating_add(d2);
-            }
-        }
-    }
-    let mut out = RowPass {
-        parity: tail,
-        or: l.or.iter().fold(or, |acc, v| acc | v),
-        max: l.mx.iter().fold(max, |acc, v| acc.max(*v)),
+    let a = a.get(..n).unwrap_or_default();
+    let b = b.get(..n).unwrap_or_default();
+    let sums = sums.get_mut(..n).unwrap_or_default();
+    let (or, max) = if DSQ {
+        per_pixel::<true>(a, b, sums, dsq.get_mut(..n).unwrap_or_default())
+    } else {
+        per_pixel::<false>(a, b, sums, &mut [])
     };
-    for (j, (dd, ss)) in l.dd.iter().zip(&l.ss).enumerate() {
-        if let Some(p) = out.parity.get_mut(j % 2) {
-            p.sum_diff_sq += dd;
-            p.sum_sum_sq += ss;
-        }
+    RowPass {
+        parity: parity_sums(a, b),
+        or,
+        max,
     }
-    for (parity, p) in out.parity.iter_mut().enumerate() {
-        // Pixels at even offsets among the first `full`: full/2 each parity (full is even).
-        p.pixels += (full / 2) as u64;
-        if let Some(t) = totals.get(parity) {
-            p.sum_a += t[0];
-            p.sum_b += t[1];
-        }
-    }
-    out
 }
 
 #[cfg(test)]
