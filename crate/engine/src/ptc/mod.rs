@@ -33,7 +33,7 @@ pub use analysis::{
     DEFECT_RULE, GAIN_FIT_MAX_FRACTION, LINEARITY_FIT, LINEARITY_RANGE_FRACTION, PRNU_FRACTION,
 };
 pub use cfa::{Cfa, CFA_NAMES, CHANNEL_NAMES};
-pub use curve::{curve_series, CurvePoint, CurveSeries};
+pub use curve::{curve_series, curve_series_of_fit, CurvePoint, CurveSeries};
 pub use depth::{sample_depth, DepthContradiction, DepthSource, SampleDepth};
 pub use export::{spatial_csv, spatial_series, SpatialSeries};
 pub use figures::Figure;
