@@ -1383,6 +1383,7 @@ fn analyse_one(stacks: &[StackStats]) -> Result<Single, AnalysisError> {
             prnu_point.map(|p| p.s),
             prnu_point.map_or(0.0, |p| p.x),
             k,
+            (dsnu.is_some(), prnu.is_some()),
             &mut diagnostics,
         )
     });
@@ -1429,6 +1430,7 @@ fn spatial_fit(
     flat: Option<&StackStats>,
     flat_above_dark_dn: f64,
     k: f64,
+    (dsnu_resolved, prnu_resolved): (bool, bool),
     diagnostics: &mut Vec<Diagnostic>,
 ) -> Option<SpatialFit> {
     let d = dark.spatial.as_ref()?;
@@ -1439,7 +1441,10 @@ fn spatial_fit(
     };
     let fs = f.and_then(|f| f.split);
     let ds = d.split;
-    let both = ds.zip(fs);
+    // The parts are reported only where the whole is resolved: a part of a DSNU or PRNU below
+    // what the frames resolve would be sampling noise given a name.
+    let both = ds.zip(fs).filter(|_| prnu_resolved);
+    let dsr = ds.filter(|_| dsnu_resolved);
     let high: Option<&HighNoise> = d.high_noise.as_ref();
     if high.is_some_and(|h| h.count.is_none()) {
         diag(
@@ -1464,9 +1469,9 @@ fn spatial_fit(
         flat_frames: flat.map(|s| s.spec.frames),
         dark_split_dn2: ds,
         flat_split_dn2: fs,
-        dsnu_row_e: ds.map(|s| root(s.row_dn2) / k),
-        dsnu_column_e: ds.map(|s| root(s.column_dn2) / k),
-        dsnu_pixel_e: ds.map(|s| root(s.pixel_dn2) / k),
+        dsnu_row_e: dsr.map(|s| root(s.row_dn2) / k),
+        dsnu_column_e: dsr.map(|s| root(s.column_dn2) / k),
+        dsnu_pixel_e: dsr.map(|s| root(s.pixel_dn2) / k),
         prnu_row_percent: both.and_then(|(d, f)| prnu_part(f.row_dn2, d.row_dn2)),
         prnu_column_percent: both.and_then(|(d, f)| prnu_part(f.column_dn2, d.column_dn2)),
         prnu_pixel_percent: both.and_then(|(d, f)| prnu_part(f.pixel_dn2, d.pixel_dn2)),
