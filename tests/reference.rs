@@ -435,6 +435,79 @@ fn temperature_doubling_law() {
     }
 }
 
+/// Source: REFERENCES.md §7, silicon band gap E_g [eV] by Varshni's form (Varshni, Physica 34,
+/// 149, 1967) for parameter sets (a), (b), (c), computed there with numpy; quoted to 6 digits.
+const BAND_GAP_TABLE: &[(f64, [f64; 3])] = &[
+    (173.15, [1.13927, 1.15247, 1.15126]),
+    (233.15, [1.12724, 1.14042, 1.13901]),
+    (253.15, [1.12264, 1.13591, 1.13442]),
+    (273.15, [1.11777, 1.13118, 1.12961]),
+    (293.15, [1.11264, 1.12625, 1.12459]),
+    (300.00, [1.11082, 1.12452, 1.12282]),
+    (323.15, [1.10447, 1.11850, 1.11669]),
+];
+
+#[test]
+fn silicon_band_gap_by_varshni() {
+    let sets = [dark::VARSHNI_1967, dark::THURMOND_1975, dark::SZE_NG_2007];
+    for &(t, gaps) in BAND_GAP_TABLE {
+        for (set, want) in sets.iter().zip(gaps) {
+            assert_rel(set.band_gap_ev(t), want, SIX_DIGITS, "E_g(T)");
+        }
+    }
+}
+
+/// Source: REFERENCES.md §7, Janesick's dark-current figure of merit
+/// D_R ∝ T^1.5·exp(−E_g/2kT) with set (a) (Janesick, *Scientific CCDs*, 2001, from memory):
+/// D_R/D_R(300 K), 4 significant digits.
+const BANDGAP_RATIO_TABLE: &[(f64, f64)] = &[
+    (173.15, 2.468e-8),
+    (233.15, 9.616e-4),
+    (253.15, 0.01109),
+    (273.15, 0.09071),
+    (293.15, 0.5640),
+    (300.00, 1.0),
+    (323.15, 5.839),
+];
+
+/// Source: REFERENCES.md §7, "doubling interval implied by the physics", depletion model,
+/// set (a) and set (b) (derived there with numpy), 4 significant digits.
+const BANDGAP_DOUBLING_TABLE: &[(f64, f64, f64)] = &[
+    (233.15, 5.239, 5.187),
+    (253.15, 6.134, 6.077),
+    (273.15, 7.092, 7.031),
+    (293.15, 8.112, 8.047),
+    (300.00, 8.475, 8.410),
+    (313.15, 9.192, 9.126),
+];
+
+#[test]
+fn dark_current_by_the_bandgap_law() {
+    let celsius = |k: f64| k - 273.15;
+    for &(t, want) in BANDGAP_RATIO_TABLE {
+        assert_rel(
+            dark::bandgap_factor(celsius(t), celsius(300.0), &dark::VARSHNI_1967),
+            want,
+            FOUR_DIGITS,
+            "D_R/D_R(300 K)",
+        );
+    }
+    for &(t, set_a, set_b) in BANDGAP_DOUBLING_TABLE {
+        assert_rel(
+            dark::bandgap_doubling_k(celsius(t), &dark::VARSHNI_1967),
+            set_a,
+            FOUR_DIGITS,
+            "doubling, set (a)",
+        );
+        assert_rel(
+            dark::bandgap_doubling_k(celsius(t), &dark::THURMOND_1975),
+            set_b,
+            FOUR_DIGITS,
+            "doubling, set (b)",
+        );
+    }
+}
+
 // ---- §5 photometry and spectra ---------------------------------------------------------------
 
 use engine::spectrum::{self, Spectrum};

@@ -5,6 +5,7 @@
 
 mod characterize;
 mod demos;
+mod simulate;
 mod table;
 
 use std::io::{self, Read, Write};
@@ -82,6 +83,37 @@ enum Command {
         /// The manifest file (JSON).
         manifest: PathBuf,
     },
+    /// Simulate the scenario's camera: a frame of an invented test scene, and a photon transfer
+    /// series of its sensor to measure with `characterize`.
+    ///
+    /// --frame writes the test scene (patches a stop apart around the scenario's level, a
+    /// ramp, bars at 50 % and 10 % contrast) as a 16-bit greyscale PNG, or PGM when OUT ends
+    /// in .pgm; samples are DN times the power of two that fills 16 bits. --series writes dark
+    /// and flat pairs from a few electrons to 1.2 × saturation as 16-bit PGM with
+    /// manifest.json. Prints what was written, with each patch's SNR measured on the frame
+    /// beside the model's (JSON by default). Exit status as for `eval`; a simulation the
+    /// engine refuses (too much work, more than 16 ADC bits for a series) is 2.
+    Simulate {
+        /// Write the test-scene frame to this file (.png or .pgm).
+        #[arg(long, value_name = "OUT")]
+        frame: Option<PathBuf>,
+        /// Write a photon transfer series (PGM files and manifest.json) into this folder,
+        /// created when missing.
+        #[arg(long, value_name = "DIR")]
+        series: Option<PathBuf>,
+        /// The seed: the same seed gives the same frames.
+        #[arg(long, value_name = "N", default_value_t = 1)]
+        seed: u64,
+        /// Output pixels, WIDTHxHEIGHT (after binning); 640x480 for --frame and 256x256 for
+        /// --series when not given.
+        #[arg(long, value_name = "WxH", value_parser = simulate::parse_size)]
+        size: Option<(u32, u32)>,
+        /// Print a readable summary instead of JSON.
+        #[arg(long)]
+        table: bool,
+        /// The scenario file (JSON); `-` reads standard input.
+        file: PathBuf,
+    },
     /// Print an invented demo scenario, valid input for `eval`.
     Example {
         /// Which demo to print (see --list); the first one by default.
@@ -102,6 +134,21 @@ fn main() -> ExitCode {
             spatial_csv,
             manifest,
         } => characterize::run(&manifest, table, spatial_csv.as_deref()),
+        Command::Simulate {
+            frame,
+            series,
+            seed,
+            size,
+            table,
+            file,
+        } => simulate::run(&simulate::Request {
+            scenario: &file,
+            frame: frame.as_ref(),
+            series: series.as_ref(),
+            seed,
+            size,
+            table,
+        }),
         Command::Sweep {
             vary,
             from,

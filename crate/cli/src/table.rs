@@ -1,10 +1,12 @@
 //! The readable noise-budget table printed by `noise-budget eval --table`.
 //!
-//! Formatting only: every number comes from the engine's report; nothing is computed here
-//! beyond unit prefixes and rounding for display.
+//! Formatting only: every number comes from the engine's report, and every unit and light
+//! quantity's words from the engine's key catalogue (`engine::keys`); nothing is computed here
+//! beyond rounding for display.
 
 use std::fmt::Write as _;
 
+use engine::keys;
 use engine::report::Report;
 use engine::scenario::Scenario;
 
@@ -71,12 +73,20 @@ pub fn render(scenario: &Scenario, r: &Report) -> String {
         );
     }
     if let Some(f) = l.photon_flux_per_um2_s {
-        let mut at_sensor = format!("{} photons/µm²/s", num(f));
+        let mut at_sensor = format!("{} {}", num(f), keys::PHOTON_FLUX_PER_UM2_S.unit.shown);
         if let Some(lux) = l.sensor_illuminance_lux {
-            at_sensor.push_str(&format!(", {} lx", num(lux)));
+            at_sensor.push_str(&format!(
+                ", {} {}",
+                num(lux),
+                keys::ILLUMINANCE_LUX.unit.shown
+            ));
         }
         if let Some(w) = l.sensor_irradiance_w_per_m2 {
-            at_sensor.push_str(&format!(", {} W/m²", num(w)));
+            at_sensor.push_str(&format!(
+                ", {} {}",
+                num(w),
+                keys::IRRADIANCE_W_PER_M2.unit.shown
+            ));
         }
         let _ = writeln!(o, "at the sensor {at_sensor}");
     }
@@ -151,7 +161,11 @@ pub fn render(scenario: &Scenario, r: &Report) -> String {
         "              = {} photons per pixel{}",
         num(md.photons_per_pixel),
         md.photon_flux_per_um2_s
-            .map(|f| format!(", {} photons/µm²/s at the sensor", num(f)))
+            .map(|f| format!(
+                ", {} {} at the sensor",
+                num(f),
+                keys::PHOTON_FLUX_PER_UM2_S.unit.shown
+            ))
             .unwrap_or_default()
     );
     if !md.light_units.is_empty() {
@@ -205,22 +219,14 @@ pub fn render(scenario: &Scenario, r: &Report) -> String {
     o
 }
 
-/// Values in the units the light was given in, e.g. "0.8 lx at the scene, 0.02 lx at the sensor".
+/// Values in the units the light was given in, each with the quantity's words and unit from the
+/// key catalogue, e.g. "0.02 lx (illuminance at the sensor), 0.8 lx (illuminance on the scene)".
 fn units_line(units: &std::collections::BTreeMap<&'static str, f64>) -> String {
     units
         .iter()
-        .map(|(k, v)| {
-            let (unit, place) = match *k {
-                "illuminance_lux" => ("lx", "at the sensor"),
-                "irradiance_w_per_m2" => ("W/m²", "at the sensor"),
-                "photon_flux_per_um2_s" => ("photons/µm²/s", "at the sensor"),
-                "scene_illuminance_lux" => ("lx", "on the scene"),
-                "scene_irradiance_w_per_m2" => ("W/m²", "on the scene"),
-                "scene_luminance_cd_per_m2" => ("cd/m²", "scene luminance"),
-                "scene_radiance_w_per_m2_sr" => ("W/m²/sr", "scene radiance"),
-                other => (other, ""),
-            };
-            format!("{} {unit} {place}", num(*v))
+        .map(|(k, v)| match keys::find(&format!("light.{k}")) {
+            Some(key) => format!("{} {} ({})", num(*v), key.unit.shown, key.quantity),
+            None => format!("{k} {}", num(*v)),
         })
         .collect::<Vec<_>>()
         .join(", ")

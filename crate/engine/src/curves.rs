@@ -9,6 +9,7 @@
 use serde::Serialize;
 use serde_json::Value;
 
+use crate::keys;
 use crate::light::{Light, SceneQuantity};
 use crate::scenario::Scenario;
 use crate::sweep::{regimes, sweep, with_key, Spacing, Sweep, SweepRequest};
@@ -61,21 +62,11 @@ const FALLBACK_DECADES: f64 = 3.0;
 /// Steps taken towards the scenario's value when a calculator limit refuses an end.
 const MAX_PULLS: u32 = 60;
 
-/// The key the light's amount is set by, for each light kind (the key a light view sweeps).
+/// The key the light's amount is set by, for each light kind (the key a light view sweeps):
+/// [`keys::LightKind::amount`] of the light's kind.
 #[must_use]
 pub fn amount_key(light: &Light) -> &'static str {
-    match light {
-        Light::PhotonFlux { .. } => "light.photon_flux_per_um2_s",
-        Light::Irradiance { .. } | Light::SpectralIrradiance { .. } => "light.irradiance_w_per_m2",
-        Light::PhotonsPerPixel { .. } => "light.photons_per_pixel",
-        Light::Illuminance { .. } => "light.illuminance_lux",
-        Light::Scene { quantity, .. } => match quantity {
-            SceneQuantity::Illuminance { .. } => "light.scene_illuminance_lux",
-            SceneQuantity::Irradiance { .. } => "light.scene_irradiance_w_per_m2",
-            SceneQuantity::Luminance { .. } => "light.scene_luminance_cd_per_m2",
-            SceneQuantity::Radiance { .. } => "light.scene_radiance_w_per_m2_sr",
-        },
-    }
+    keys::light_kind(light).map_or(keys::PHOTON_FLUX_PER_UM2_S.path, |k| k.amount)
 }
 
 /// The light's amount, in the unit of [`amount_key`].
@@ -118,10 +109,10 @@ pub fn amount(light: &Light) -> f64 {
 pub fn request(sc: &Scenario, view: View, points: u32) -> SweepRequest {
     let (key, value) = match view {
         View::Light => (amount_key(&sc.light), amount(&sc.light)),
-        View::Exposure => ("exposure.time_s", sc.exposure.time_s),
+        View::Exposure => (keys::TIME_S.path, sc.exposure.time_s),
         View::Temperature => {
             return SweepRequest {
-                key: "temperature_c".into(),
+                key: keys::TEMPERATURE_C.path.into(),
                 from: sc.temperature_c - TEMPERATURE_SPAN_C,
                 to: sc.temperature_c + TEMPERATURE_SPAN_C,
                 points,

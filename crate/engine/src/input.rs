@@ -78,67 +78,123 @@ pub(crate) enum Need {
     Default(f64),
 }
 
-/// The allowed range of a number: the format's rule, then this calculator's limits.
-#[derive(Clone, Copy, Default)]
-pub(crate) struct Range {
+/// The allowed range of a number as the format states it (its rule); with this calculator's
+/// limits added it is a [`RangeWithLimit`]. Built by `const` functions, so that the key
+/// catalogue (`crate::keys`) states each rule once as data.
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+pub struct Range {
     /// (bound, inclusive): the format's rule.
     min: Option<(f64, bool)>,
     max: Option<(f64, bool)>,
 }
 
 impl Range {
-    pub(crate) fn new() -> Self {
-        Self::default()
+    /// Any number.
+    #[must_use]
+    pub const fn new() -> Self {
+        Range {
+            min: None,
+            max: None,
+        }
     }
-    pub(crate) fn above(mut self, v: f64) -> Self {
+    /// Greater than `v`.
+    #[must_use]
+    pub const fn above(mut self, v: f64) -> Self {
         self.min = Some((v, false));
         self
     }
-    pub(crate) fn at_most(mut self, v: f64) -> Self {
+    /// At most `v`.
+    #[must_use]
+    pub const fn at_most(mut self, v: f64) -> Self {
         self.max = Some((v, true));
         self
     }
-    pub(crate) fn below(mut self, v: f64) -> Self {
+    /// Less than `v`.
+    #[must_use]
+    pub const fn below(mut self, v: f64) -> Self {
         self.max = Some((v, false));
         self
     }
-    pub(crate) fn at_least(mut self, v: f64) -> Self {
+    /// At least `v`.
+    #[must_use]
+    pub const fn at_least(mut self, v: f64) -> Self {
         self.min = Some((v, true));
         self
     }
     /// A lower limit of this calculator, tighter than the format's rule; checked after it.
-    pub(crate) fn at_least_limit(self, v: f64) -> RangeWithLimit {
+    #[must_use]
+    pub const fn at_least_limit(self, v: f64) -> RangeWithLimit {
         RangeWithLimit {
             rule: self,
             low_limit: Some(v),
             high_limit: None,
         }
     }
-    pub(crate) fn at_most_limit(self, v: f64) -> RangeWithLimit {
+    /// An upper limit of this calculator, tighter than the format's rule; checked after it.
+    #[must_use]
+    pub const fn at_most_limit(self, v: f64) -> RangeWithLimit {
         RangeWithLimit {
             rule: self,
             low_limit: None,
             high_limit: Some(v),
         }
     }
+    /// This rule with no limit of the calculator's own.
+    #[must_use]
+    pub const fn unlimited(self) -> RangeWithLimit {
+        RangeWithLimit {
+            rule: self,
+            low_limit: None,
+            high_limit: None,
+        }
+    }
+    /// The lower bound and whether it is allowed itself.
+    #[must_use]
+    pub const fn min(&self) -> Option<(f64, bool)> {
+        self.min
+    }
+    /// The upper bound and whether it is allowed itself.
+    #[must_use]
+    pub const fn max(&self) -> Option<(f64, bool)> {
+        self.max
+    }
 }
 
 /// A format rule plus this calculator's own limits (which keep every figure finite).
-#[derive(Clone, Copy)]
-pub(crate) struct RangeWithLimit {
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct RangeWithLimit {
     rule: Range,
     low_limit: Option<f64>,
     high_limit: Option<f64>,
 }
 
 impl RangeWithLimit {
-    pub(crate) fn at_most_limit(mut self, v: f64) -> Self {
+    /// An upper limit of this calculator, tighter than the format's rule.
+    #[must_use]
+    pub const fn at_most_limit(mut self, v: f64) -> Self {
         self.high_limit = Some(v);
         self
     }
-    pub(crate) fn at_most(mut self, v: f64) -> Self {
+    /// The format's rule: at most `v`.
+    #[must_use]
+    pub const fn at_most(mut self, v: f64) -> Self {
         self.rule.max = Some((v, true));
         self
+    }
+    /// The format's rule.
+    #[must_use]
+    pub const fn rule(&self) -> Range {
+        self.rule
+    }
+    /// This calculator's lower limit, if it has one.
+    #[must_use]
+    pub const fn low_limit(&self) -> Option<f64> {
+        self.low_limit
+    }
+    /// This calculator's upper limit, if it has one.
+    #[must_use]
+    pub const fn high_limit(&self) -> Option<f64> {
+        self.high_limit
     }
 }
 
@@ -154,7 +210,8 @@ impl From<Range> for RangeWithLimit {
 
 impl RangeWithLimit {
     /// The message for a value outside the range, or `None` when it is inside.
-    pub(crate) fn check(&self, v: f64) -> Option<String> {
+    #[must_use]
+    pub fn check(&self, v: f64) -> Option<String> {
         if let Some((b, inclusive)) = self.rule.min {
             let ok = if inclusive { v >= b } else { v > b };
             if !ok {
@@ -191,8 +248,12 @@ impl RangeWithLimit {
     }
 }
 
+/// Fewest and most points of a list of `[wavelength_nm, value]` pairs (see [`Fields::pairs`]).
+pub(crate) const PAIRS_MIN_POINTS: usize = 2;
+pub(crate) const PAIRS_MAX_POINTS: u32 = 10_000;
+
 /// The most keys an unknown-key message lists (see [`Fields::finish`]).
-const MAX_KEYS_LISTED: usize = 10;
+const MAX_KEYS_LISTED: usize = 12;
 
 /// The keys of one JSON object, tracking which were read so unknown ones can be reported.
 pub(crate) struct Fields<'v> {
@@ -317,10 +378,14 @@ impl<'v> Fields<'v> {
             );
             return None;
         };
-        if items.len() < 2 || items.len() > 10_000 {
+        let most = usize::try_from(PAIRS_MAX_POINTS).unwrap_or(usize::MAX);
+        if items.len() < PAIRS_MIN_POINTS || items.len() > most {
             p.push(
                 &path,
-                format!("must have from 2 to 10000 points, got {}", items.len()),
+                format!(
+                    "must have from {PAIRS_MIN_POINTS} to {PAIRS_MAX_POINTS} points, got {}",
+                    items.len()
+                ),
             );
             return None;
         }
@@ -512,6 +577,101 @@ impl<'v> Fields<'v> {
         }
     }
 
+    /// An optional list of exactly `count` numbers, each within `range`; `None` when absent
+    /// or wrong (every wrong element is reported, at `key[i]`).
+    pub(crate) fn numbers(
+        &mut self,
+        p: &mut Problems,
+        key: &str,
+        count: u32,
+        range: RangeWithLimit,
+    ) -> Option<Vec<f64>> {
+        let path = self.path_of(key);
+        let v = self.get(key)?;
+        numbers_at(p, &path, v, count, range, "numbers")
+    }
+
+    /// An optional matrix: a list of `rows` lists of `columns` numbers, each within `range`.
+    pub(crate) fn matrix(
+        &mut self,
+        p: &mut Problems,
+        key: &str,
+        rows: u32,
+        columns: u32,
+        range: RangeWithLimit,
+    ) -> Option<Vec<Vec<f64>>> {
+        let path = self.path_of(key);
+        let v = self.get(key)?;
+        let shape = format!("a list of {rows} rows, each a list of {columns} numbers");
+        let Some(items) = v.as_array() else {
+            p.push(&path, format!("must be {shape}, got {}", show_value(v)));
+            return None;
+        };
+        if items.len() != rows as usize {
+            p.push(
+                &path,
+                format!("must be {shape}: {} rows given", items.len()),
+            );
+            return None;
+        }
+        let before = p.0.len();
+        let out: Vec<Vec<f64>> = items
+            .iter()
+            .enumerate()
+            .filter_map(|(i, row)| {
+                numbers_at(
+                    p,
+                    &format!("{path}[{i}]"),
+                    row,
+                    columns,
+                    range,
+                    "numbers (a row)",
+                )
+            })
+            .collect();
+        (p.0.len() == before && out.len() == rows as usize).then_some(out)
+    }
+
+    /// A list of `min` to `max` objects: each element's reader, at `key[i]`; `None` when
+    /// absent or not such a list.
+    pub(crate) fn list_of_objects(
+        &mut self,
+        p: &mut Problems,
+        key: &str,
+        min: u32,
+        max: u32,
+    ) -> Option<Vec<Fields<'v>>> {
+        let path = self.path_of(key);
+        let v = self.get(key)?;
+        let Some(items) = v.as_array() else {
+            p.push(
+                &path,
+                format!("must be a list of objects, got {}", show_value(v)),
+            );
+            return None;
+        };
+        if items.len() < min as usize || items.len() > max as usize {
+            p.push(
+                &path,
+                format!("must list from {min} to {max}, got {}", items.len()),
+            );
+            return None;
+        }
+        let before = p.0.len();
+        let mut out = Vec::with_capacity(items.len());
+        for (i, item) in items.iter().enumerate() {
+            let here = format!("{path}[{i}]");
+            match item {
+                Value::Object(m) => out.push(Fields::new(&here, m)),
+                other => p.push(
+                    &here,
+                    format!("must be an object, got {}", show_value(other)),
+                ),
+            }
+        }
+        (p.0.len() == before).then_some(out)
+    }
+
     /// Report every key that was not read, except extension keys starting with `x_`.
     pub(crate) fn finish(&self, p: &mut Problems) {
         for key in self.map.keys() {
@@ -601,4 +761,42 @@ pub(crate) fn show(x: f64) -> String {
     } else {
         format!("{x}")
     }
+}
+
+/// `v` as exactly `count` numbers within `range`, reporting each wrong element at `path[i]`.
+fn numbers_at(
+    p: &mut Problems,
+    path: &str,
+    v: &Value,
+    count: u32,
+    range: RangeWithLimit,
+    what: &str,
+) -> Option<Vec<f64>> {
+    let Some(items) = v.as_array() else {
+        p.push(
+            path,
+            format!("must be a list of {count} {what}, got {}", show_value(v)),
+        );
+        return None;
+    };
+    if items.len() != count as usize {
+        p.push(
+            path,
+            format!("must be a list of {count} {what}, got {}", items.len()),
+        );
+        return None;
+    }
+    let before = p.0.len();
+    let mut out = Vec::with_capacity(items.len());
+    for (i, item) in items.iter().enumerate() {
+        let here = format!("{path}[{i}]");
+        match item.as_f64().filter(|x| x.is_finite()) {
+            None => p.push(&here, format!("must be a number, got {}", show_value(item))),
+            Some(x) => match range.check(x) {
+                Some(msg) => p.push(&here, msg),
+                None => out.push(x),
+            },
+        }
+    }
+    (p.0.len() == before).then_some(out)
 }

@@ -8,15 +8,20 @@
 //! This crate does no I/O and knows nothing of the DOM, the terminal or files: it builds for
 //! native targets and for `wasm32-unknown-unknown` alike. It never panics on input.
 
+pub mod colour;
 pub mod compare;
 pub mod constants;
 pub mod curves;
 pub mod dark;
 pub mod demos;
+pub mod detection;
 pub mod frames;
+pub mod hdr;
 mod input;
+pub mod keys;
 pub mod light;
 pub mod model;
+pub mod output_noise;
 pub mod photon;
 pub mod ptc;
 pub mod quantization;
@@ -24,6 +29,7 @@ pub mod report;
 pub mod roots;
 pub mod scenario;
 pub mod sense_node;
+pub mod simulate;
 pub mod spectrum;
 pub mod sweep;
 pub mod validate;

@@ -13,7 +13,10 @@ use crate::roots::positive_root;
 use std::collections::BTreeMap;
 
 use crate::light::{self, ResolvedLight, Response};
-use crate::scenario::{BinningMode, Scenario};
+use crate::output_noise::OutputNoise;
+use crate::scenario::{BinningMode, DarkCurrentLaw, Exposure, Scenario, Sensor};
+
+mod extras;
 use crate::spectrum::Spectrum;
 use crate::{dark, quantization, sense_node};
 
@@ -47,11 +50,15 @@ pub fn evaluate(sc: &Scenario) -> Report {
 
 /// The scenario's light and background light resolved to photons at the sensor: the spectral
 /// integrals, which do not depend on the exposure, the pixel or the readout. A sweep that
-/// varies none of the light's keys resolves once and reuses them.
+/// varies none of the light's keys resolves once and reuses them. For a colour sensor, the
+/// lights are resolved for each channel's response (R, G, B), and the scenario's own figures
+/// are the green channel's.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Lights {
     light: ResolvedLight,
     background: Option<ResolvedLight>,
+    /// Per colour channel (R, G, B), the light and background light; empty for mono.
+    channels: Vec<(ResolvedLight, Option<ResolvedLight>)>,
 }
 
 impl Lights {
@@ -62,34 +69,112 @@ impl Lights {
         Lights {
             light: self.light.at_amount(amount),
             background: self.background.clone(),
+            channels: self
+                .channels
+                .iter()
+                .map(|(l, b)| (l.at_amount(amount), b.clone()))
+                .collect(),
         }
     }
 }
+
+/// Index of the green channel in [`CHANNEL_NAMES`]: a colour sensor's own figures are its.
+const GREEN: usize = 1;
 
 /// Resolve the scenario's lights (see [`Lights`]).
 #[must_use]
 pub fn resolve_lights(sc: &Scenario) -> Lights {
     let sensor = &sc.sensor;
-    let response = Response {
-        quantum_efficiency: sensor.quantum_efficiency,
-        curve: sensor.quantum_efficiency_curve.as_ref(),
-        band_nm: sensor.response_band_nm,
+    let resolve = |quantum_efficiency: Option<f64>, curve: Option<&crate::spectrum::QeCurve>| {
+        let response = Response {
+            quantum_efficiency,
+            curve,
+            band_nm: sensor.response_band_nm,
+        };
+        (
+            light::resolve(&sc.light, &response),
+            sc.background_light
+                .as_ref()
+                .map(|l| light::resolve(l, &response)),
+        )
     };
-    Lights {
-        light: light::resolve(&sc.light, &response),
-        background: sc
-            .background_light
-            .as_ref()
-            .map(|l| light::resolve(l, &response)),
+    match &sensor.colour {
+        None => {
+            let (light, background) = resolve(
+                sensor.quantum_efficiency,
+                sensor.quantum_efficiency_curve.as_ref(),
+            );
+            Lights {
+                light,
+                background,
+                channels: Vec::new(),
+            }
+        }
+        Some(cfa) => {
+            let channels: Vec<_> = cfa
+                .channels
+                .iter()
+                .map(|c| resolve(c.quantum_efficiency, c.quantum_efficiency_curve.as_ref()))
+                .collect();
+            let (light, background) = match channels.get(GREEN) {
+                Some(g) => g.clone(),
+                None => resolve(None, None),
+            };
+            Lights {
+                light,
+                background,
+                channels,
+            }
+        }
     }
 }
 
 /// [`evaluate`] with the lights already resolved for this scenario.
 #[must_use]
-#[allow(non_snake_case)] // symbols as in SCENARIO.md
 pub fn evaluate_with(sc: &Scenario, lights: &Lights) -> Report {
-    let sensor = &sc.sensor;
-    let exposure = &sc.exposure;
+    let base = pixel(
+        sc,
+        &sc.sensor,
+        &sc.exposure,
+        &lights.light,
+        lights.background.as_ref(),
+    );
+    let mut report = base.report;
+    if sc.sensor.colour.is_some() {
+        extras::add_colour(sc, lights, &mut report);
+    }
+    if let Some(hdr) = &sc.hdr {
+        extras::add_hdr(
+            sc,
+            hdr,
+            lights,
+            &base.noise,
+            base.capacity_out_e,
+            &mut report,
+        );
+    }
+    report
+}
+
+/// One pixel evaluated: its report, its noise terms and its output-pixel capacity
+/// b²(L − d − background), e⁻ (≤ 0 when the dark fills it).
+pub(crate) struct Pixel {
+    pub(crate) report: Report,
+    pub(crate) noise: OutputNoise,
+    pub(crate) capacity_out_e: f64,
+}
+
+/// The version-1 model for one readout: `sensor` and `exposure` may differ from the
+/// scenario's (an HDR readout's exposure time, read noise or gain), and `light` is resolved
+/// for the response in question (the sensor's, or a colour channel's).
+#[allow(non_snake_case)] // symbols as in SCENARIO.md
+pub(crate) fn pixel(
+    sc: &Scenario,
+    sensor: &Sensor,
+    exposure: &Exposure,
+    light: &ResolvedLight,
+    background: Option<&ResolvedLight>,
+) -> Pixel {
     let t = exposure.time_s;
     let pitch2 = sensor.pixel_pitch_um * sensor.pixel_pitch_um;
     let b = f64::from(exposure.binning);
@@ -106,7 +191,6 @@ pub fn evaluate_with(sc: &Scenario, lights: &Lights) -> Report {
 
     // Light: photon flux Φ (photons µm⁻² s⁻¹) where the light kind has one, μp per pixel, and
     // the photon-weighted QE η (the single QE for light without a spectrum).
-    let light = &lights.light;
     let flux = light.photon_flux_per_um2_s;
     let eta = light.effective_qe;
     let mu_p = light
@@ -115,7 +199,6 @@ pub fn evaluate_with(sc: &Scenario, lights: &Lights) -> Report {
 
     // Background light: photons that are not signal. Its electrons per pixel per second (a
     // rate, for light given as flux) and per frame (for light given per pixel).
-    let background = lights.background.as_ref();
     let (bg_rate, bg_per_frame) = background.map_or((0.0, 0.0), |l| {
         let rate = l
             .photon_flux_per_um2_s
@@ -128,12 +211,21 @@ pub fn evaluate_with(sc: &Scenario, lights: &Lights) -> Report {
     // Per physical pixel, one frame.
     let s = eta * mu_p;
     let dark_rate = sensor.dark_current_e_per_s
-        * dark::temperature_factor(
-            sc.temperature_c,
-            sensor.dark_current_reference_c,
-            sensor.dark_current_doubling_c,
-        );
+        * match sensor.dark_current_law {
+            DarkCurrentLaw::Doubling => dark::temperature_factor(
+                sc.temperature_c,
+                sensor.dark_current_reference_c,
+                sensor.dark_current_doubling_c,
+            ),
+            DarkCurrentLaw::Bandgap(gap) => {
+                dark::bandgap_factor(sc.temperature_c, sensor.dark_current_reference_c, &gap)
+            }
+        };
     let d = dark_rate * t;
+    // DSNU of one pixel: the fixed offset spread, and the dark current's own spread, which
+    // grows with the dark charge: DSNU² = dsnu_e² + (p_d·d)².
+    let dark_spread_e = sensor.dark_current_nonuniformity_percent / 100.0 * d;
+    let dsnu_e2 = sensor.dsnu_e * sensor.dsnu_e + dark_spread_e * dark_spread_e;
     let capacitance_ff = sensor.sense_node_capacitance_ff.or(sensor
         .conversion_gain_uv_per_e
         .map(sense_node::capacitance_ff));
@@ -151,17 +243,25 @@ pub fn evaluate_with(sc: &Scenario, lights: &Lights) -> Report {
     let S = b2 * s;
     let D = b2 * d;
     let B = b2 * bg;
-    let v_shot = S / N;
-    let v_dark = D / N;
-    let v_background = B / N;
-    let v_read = n * var_read / N;
-    let v_reset = n * var_reset / N;
-    let v_quant = n * var_quant / N;
-    let v_temporal = v_shot + v_dark + v_background + v_read + v_reset + v_quant;
-    let v_dsnu = b2 * sensor.dsnu_e * sensor.dsnu_e;
     // PRNU scales all photo-charge, the background's too (zero without one, as in SCENARIO.md).
-    let v_prnu = (p * (S + B)) * (p * (S + B)) / b2;
-    let v_total = v_temporal + v_dsnu + v_prnu;
+    let output_noise = OutputNoise {
+        frames: N,
+        reads: n,
+        pixels: b2,
+        dark_e: D,
+        background_e: B,
+        read_e2: var_read,
+        reset_e2: var_reset,
+        quantization_e2: var_quant,
+        dsnu_e2,
+        prnu: p,
+    };
+    let v = output_noise.at(S);
+    let (v_shot, v_dark, v_background) = (v.photon_shot, v.dark_shot, v.background_shot);
+    let (v_read, v_reset, v_quant) = (v.read, v.reset, v.quantization);
+    let (v_dsnu, v_prnu) = (v.dsnu, v.prnu);
+    let v_temporal = v.temporal();
+    let v_total = v.total();
 
     let noise_e = NoiseParts {
         photon_shot: v_shot.sqrt(),
@@ -248,7 +348,7 @@ pub fn evaluate_with(sc: &Scenario, lights: &Lights) -> Report {
     let min_total = positive_root(
         prnu_coefficient,
         k2 / N + 2.0 * k2 * p * p * B / b2,
-        k2 * (sigma0_sq / N + b2 * sensor.dsnu_e * sensor.dsnu_e + p * p * B * B / b2),
+        k2 * (sigma0_sq / N + b2 * dsnu_e2 + p * p * B * B / b2),
     );
     let min_photons = min_t / (b2 * eta);
     let min_detectable = MinDetectable {
@@ -483,7 +583,7 @@ pub fn evaluate_with(sc: &Scenario, lights: &Lights) -> Report {
         }
     }
 
-    Report {
+    let report = Report {
         version: 1,
         photons_per_pixel: mu_p,
         signal_e: S,
@@ -504,7 +604,16 @@ pub fn evaluate_with(sc: &Scenario, lights: &Lights) -> Report {
         dynamic_range,
         max_snr,
         exposure_for_threshold_s,
+        dark_current_law: sensor.dark_current_law.as_str(),
+        channels: None,
+        colour: None,
+        hdr: None,
         warnings,
+    };
+    Pixel {
+        report,
+        noise: output_noise,
+        capacity_out_e: b2 * capacity,
     }
 }
 

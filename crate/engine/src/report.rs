@@ -207,6 +207,12 @@ pub enum WarningCode {
     LightOutsideBand,
     /// A line or near-infrared source: eye safety is not assessed here.
     EyeSafety,
+    /// A colour channel saturates at the scenario's light (the green channel's figures may not show it).
+    ChannelSaturated,
+    /// At an HDR switch point the next readout is already saturated: the output clips there.
+    HdrNextSaturatedAtSwitch,
+    /// An HDR transition's SNR dip is large (6 dB or more).
+    HdrDeepDip,
 }
 
 impl WarningCode {
@@ -231,6 +237,9 @@ impl WarningCode {
             WarningCode::NoLight => "no_light",
             WarningCode::LightOutsideBand => "light_outside_band",
             WarningCode::EyeSafety => "eye_safety",
+            WarningCode::ChannelSaturated => "channel_saturated",
+            WarningCode::HdrNextSaturatedAtSwitch => "hdr_next_saturated_at_switch",
+            WarningCode::HdrDeepDip => "hdr_deep_dip",
         }
     }
 }
@@ -287,6 +296,150 @@ pub struct Report {
     pub max_snr: Option<f64>,
     /// Exposure time that reaches the threshold (temporal SNR), s.
     pub exposure_for_threshold_s: Option<f64>,
+    /// The law that scaled the dark current to the temperature: `doubling` or `bandgap`.
+    pub dark_current_law: &'static str,
+    /// A colour sensor's channels R, G, B, each its own noise budget (absent for mono; the
+    /// figures above are then the green channel's).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub channels: Option<Vec<ChannelFigures>>,
+    /// A colour sensor's output colours after white balance and the colour matrix, and the
+    /// luminance (absent for mono).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub colour: Option<ColourFigures>,
+    /// The combined output of an HDR readout (absent without one; the figures above are then
+    /// the first readout's).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub hdr: Option<HdrFigures>,
     /// Conditions the user must see.
     pub warnings: Vec<Warning>,
+}
+
+/// One colour channel of a colour sensor: its own noise budget at the scenario's light.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ChannelFigures {
+    /// `R`, `G` or `B`.
+    pub name: &'static str,
+    /// The channel's photon-weighted quantum efficiency for this light.
+    pub quantum_efficiency: f64,
+    /// Signal per output pixel, e⁻.
+    pub signal_e: f64,
+    /// K·S, DN above the black level.
+    pub signal_dn: f64,
+    /// Its noise budget, e⁻ rms.
+    pub noise_e: NoiseParts,
+    /// Its signal-to-noise ratios.
+    pub snr: Snr,
+    /// (s + d)/L of its pixels.
+    pub fill_fraction: f64,
+    /// Its pixels saturate.
+    pub saturated: bool,
+    /// Its temporal minimum detectable signal per output pixel, e⁻.
+    pub min_detectable_e: f64,
+}
+
+/// One output colour (or the luminance) after white balance and the colour matrix.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct OutputColour {
+    /// `R`, `G`, `B`, or `Y` for the luminance.
+    pub name: &'static str,
+    /// Its mean, in raw electrons through the gains and the matrix.
+    pub signal_e: f64,
+    /// Temporal noise, same units.
+    pub noise_e: f64,
+    /// Temporal and fixed-pattern noise, same units.
+    pub noise_e_total: f64,
+    /// Its signal-to-noise ratios (0 where the signal is 0 or below).
+    pub snr: Snr,
+    /// The matrix's noise gain on this channel (temporal noise after the matrix over that
+    /// after white balance alone); `None` for the luminance.
+    pub noise_gain: Option<f64>,
+}
+
+/// A colour sensor's output colours.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ColourFigures {
+    /// The white-balance gains used.
+    pub white_balance: [f64; 3],
+    /// Output R, G, B.
+    pub outputs: Vec<OutputColour>,
+    /// The luminance Y = 0.2126 R + 0.7152 G + 0.0722 B (ITU-R BT.709) of the outputs.
+    pub luminance: OutputColour,
+}
+
+/// One readout of an HDR pixel.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct HdrReadoutFigures {
+    /// Its exposure time, s.
+    pub exposure_time_s: f64,
+    /// Electrons of the first readout per electron of this one.
+    pub scale: f64,
+    /// Its read noise, e⁻ rms.
+    pub read_noise_e: f64,
+    /// Its system gain, DN/e⁻.
+    pub system_gain_dn_per_e: f64,
+    /// Its usable level L per physical pixel, e⁻.
+    pub level_e: f64,
+    /// What sets that level.
+    pub limited_by: LimitedBy,
+    /// Its signal capacity per output pixel, b²(L − d − background), e⁻.
+    pub capacity_e: f64,
+    /// Its own temporal SNR at the scenario's light.
+    pub snr_temporal: f64,
+}
+
+/// One switch of the HDR output from a readout to the next.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct HdrTransition {
+    /// The readout left (index into `readouts`).
+    pub from: usize,
+    /// The readout taken.
+    pub to: usize,
+    /// The scene level at the switch, as signal of the first readout per output pixel, e⁻.
+    pub level_e: f64,
+    /// Where the blend below it starts, same units (= `level_e` for a hard switch).
+    pub blend_start_e: f64,
+    /// The switch level as photons per physical pixel in the first readout's exposure.
+    pub photons_per_pixel: f64,
+    /// The switch level in each unit the light was given in.
+    pub light_units: BTreeMap<&'static str, f64>,
+    /// Temporal SNR just below the transition, dB.
+    pub snr_below_db: Option<f64>,
+    /// The lowest temporal SNR from there to just above it, dB.
+    pub snr_above_db: Option<f64>,
+    /// The dip: `snr_below_db` − `snr_above_db`, dB.
+    pub dip_db: f64,
+    /// Total SNR just below, dB.
+    pub snr_total_below_db: Option<f64>,
+    /// The lowest total SNR above, dB.
+    pub snr_total_above_db: Option<f64>,
+    /// The dip of the total SNR, dB.
+    pub dip_db_total: f64,
+    /// The next readout is already saturated at the switch.
+    pub next_saturated: bool,
+}
+
+/// The combined output of an HDR readout.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct HdrFigures {
+    /// `exposures` or `dual_gain`.
+    pub kind: &'static str,
+    /// Each readout, the first (the scenario's own) first.
+    pub readouts: Vec<HdrReadoutFigures>,
+    /// The combined output's SNR at the scenario's light.
+    pub snr: Snr,
+    /// The readout in use at the scenario's light.
+    pub readout_in_use: usize,
+    /// The next readout's weight in the blend at the scenario's light (0 outside a blend).
+    pub blend_weight: f64,
+    /// The last readout saturates at the scenario's light: the combined output clips.
+    pub saturated: bool,
+    /// The combined dynamic range: the last readout's top over the first readout's temporal
+    /// minimum detectable signal.
+    pub dynamic_range: DynamicRange,
+    /// Temporal SNR of the combined output at its top.
+    pub max_snr: Option<f64>,
+    /// The highest scene level it holds, e⁻ of the first readout per output pixel.
+    pub top_level_e: Option<f64>,
+    /// Each switch between readouts.
+    pub transitions: Vec<HdrTransition>,
 }

@@ -58,8 +58,125 @@ impl BinningMode {
     }
 }
 
+pub use crate::colour::Processing;
+use crate::dark::Varshni;
 pub use crate::light::Light;
 use crate::spectrum::QeCurve;
+
+/// How the dark current changes with temperature (`sensor.dark_current_law`).
+#[derive(Debug, Clone, Copy, PartialEq)]
+#[non_exhaustive]
+pub enum DarkCurrentLaw {
+    /// Doubles every `sensor.dark_current_doubling_c` degrees.
+    Doubling,
+    /// Depletion-region generation, T^1.5·exp(−E_g(T)/2kT), with these band-gap parameters.
+    Bandgap(Varshni),
+}
+
+impl DarkCurrentLaw {
+    /// The format's name for this law.
+    #[must_use]
+    pub fn as_str(self) -> &'static str {
+        match self {
+            DarkCurrentLaw::Doubling => "doubling",
+            DarkCurrentLaw::Bandgap(_) => "bandgap",
+        }
+    }
+}
+
+/// The arrangement of a Bayer colour filter array, named by its top-left 2 × 2 block.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[non_exhaustive]
+pub enum BayerPattern {
+    /// R G / G B.
+    Rggb,
+    /// B G / G R.
+    Bggr,
+    /// G R / B G.
+    Grbg,
+    /// G B / R G.
+    Gbrg,
+}
+
+impl BayerPattern {
+    /// The format's name for this pattern.
+    #[must_use]
+    pub fn as_str(self) -> &'static str {
+        match self {
+            BayerPattern::Rggb => "RGGB",
+            BayerPattern::Bggr => "BGGR",
+            BayerPattern::Grbg => "GRBG",
+            BayerPattern::Gbrg => "GBRG",
+        }
+    }
+}
+
+/// One colour channel's response: a QE value, a QE curve, or both (the curve for light with
+/// a spectrum).
+#[derive(Debug, Clone, PartialEq)]
+pub struct ChannelResponse {
+    /// Quantum efficiency through the channel's filter, one value.
+    pub quantum_efficiency: Option<f64>,
+    /// Quantum efficiency against wavelength, filter included.
+    pub quantum_efficiency_curve: Option<QeCurve>,
+}
+
+/// A colour filter array over the pixels and its three channels.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ColourFilter {
+    /// The Bayer arrangement.
+    pub pattern: BayerPattern,
+    /// R, G and B, in that order.
+    pub channels: [ChannelResponse; 3],
+}
+
+/// The names of the colour channels, in the order of [`ColourFilter::channels`].
+pub const CHANNEL_NAMES: [&str; 3] = ["R", "G", "B"];
+
+/// One shorter exposure of a multi-exposure HDR readout.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct HdrExposure {
+    /// How many times shorter than the exposure before it, ≥ 1.
+    pub ratio: f64,
+    /// Read noise of its read, e⁻ rms.
+    pub read_noise_e: f64,
+    /// Full well during it, e⁻.
+    pub full_well_e: f64,
+}
+
+/// The low conversion gain of a dual-gain readout.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct LowGain {
+    /// System gain K at the low gain, DN/e⁻.
+    pub system_gain_dn_per_e: f64,
+    /// Read noise of the low-gain read, e⁻ rms.
+    pub read_noise_e: f64,
+    /// Most charge the low-gain reading holds, e⁻.
+    pub full_well_e: f64,
+    /// Conversion gain at the low gain, µV/e⁻, when given.
+    pub conversion_gain_uv_per_e: Option<f64>,
+}
+
+/// How the HDR readouts differ.
+#[derive(Debug, Clone, PartialEq)]
+#[non_exhaustive]
+pub enum HdrReadouts {
+    /// The exposure time, then 1 to 3 shorter exposures.
+    Exposures(Vec<HdrExposure>),
+    /// The same charge read at the sensor's (high) gain and at a low gain.
+    DualGain(LowGain),
+}
+
+/// An HDR readout (`hdr`): several readouts stitched into one linear output.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Hdr {
+    /// The readouts after the first.
+    pub readouts: HdrReadouts,
+    /// The output leaves a readout at this fraction of its saturation, 0 < f ≤ 1.
+    pub switch_fraction: f64,
+    /// Blend width below each switch point, as a fraction of its level, 0 ≤ β < 1.
+    pub blend_fraction: f64,
+}
 
 /// The sensor and its readout (`sensor`), with defaults applied.
 #[derive(Debug, Clone, PartialEq)]
@@ -86,8 +203,14 @@ pub struct Sensor {
     pub dark_current_e_per_s: f64,
     /// Temperature at which the dark current is given, °C.
     pub dark_current_reference_c: f64,
-    /// Temperature rise that doubles the dark current, °C.
+    /// Temperature rise that doubles the dark current, °C (the doubling law's).
     pub dark_current_doubling_c: f64,
+    /// How the dark current changes with temperature.
+    pub dark_current_law: DarkCurrentLaw,
+    /// Spatial rms of the dark current, percent of its mean: DSNU that grows with the dark charge.
+    pub dark_current_nonuniformity_percent: f64,
+    /// A colour filter array, when the sensor is a colour sensor.
+    pub colour: Option<ColourFilter>,
     /// Dark signal non-uniformity, spatial rms per pixel, e⁻.
     pub dsnu_e: f64,
     /// Photo-response non-uniformity, spatial rms, percent of signal.
@@ -126,6 +249,8 @@ pub struct Scenario {
     pub(crate) exposure: Exposure,
     pub(crate) temperature_c: f64,
     pub(crate) snr_threshold: f64,
+    pub(crate) processing: Processing,
+    pub(crate) hdr: Option<Hdr>,
 }
 
 impl Scenario {
@@ -163,5 +288,15 @@ impl Scenario {
     #[must_use]
     pub fn snr_threshold(&self) -> f64 {
         self.snr_threshold
+    }
+    /// White balance and colour matrix (identity without a `processing` object).
+    #[must_use]
+    pub fn processing(&self) -> &Processing {
+        &self.processing
+    }
+    /// The HDR readout, if any.
+    #[must_use]
+    pub fn hdr(&self) -> Option<&Hdr> {
+        self.hdr.as_ref()
     }
 }

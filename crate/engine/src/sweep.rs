@@ -10,6 +10,7 @@ use serde::Serialize;
 use serde_json::Value;
 
 use crate::evaluate;
+use crate::keys::{self, LIGHT_AMOUNTS, SWEEPABLE};
 use crate::model::{evaluate_with, resolve_lights};
 use crate::report::Report;
 use crate::scenario::{Light, Scenario};
@@ -17,39 +18,6 @@ use crate::validate::{scenario_from_value, Problem, ScenarioError};
 
 /// Most points one sweep may have: far more than a plot can show, and a bound on the work.
 pub const MAX_POINTS: u32 = 100_000;
-
-/// The numeric keys a sweep may vary: dot path, unit (for headers and axes), whole number?
-pub const SWEEPABLE: &[(&str, &str, bool)] = &[
-    ("sensor.pixel_pitch_um", "µm", false),
-    ("sensor.quantum_efficiency", "1", false),
-    ("sensor.full_well_e", "e-", false),
-    ("sensor.read_noise_e", "e- rms", false),
-    ("sensor.sense_node_capacitance_ff", "fF", false),
-    ("sensor.conversion_gain_uv_per_e", "µV/e-", false),
-    ("sensor.dark_current_e_per_s", "e-/s", false),
-    ("sensor.dark_current_reference_c", "°C", false),
-    ("sensor.dark_current_doubling_c", "°C", false),
-    ("sensor.dsnu_e", "e- rms", false),
-    ("sensor.prnu_percent", "%", false),
-    ("sensor.adc_bits", "bit", true),
-    ("sensor.system_gain_dn_per_e", "DN/e-", false),
-    ("sensor.black_level_dn", "DN", false),
-    ("light.photon_flux_per_um2_s", "photons/µm²/s", false),
-    ("light.irradiance_w_per_m2", "W/m²", false),
-    ("light.wavelength_nm", "nm", false),
-    ("light.photons_per_pixel", "photons", false),
-    ("light.illuminance_lux", "lx", false),
-    ("light.scene_illuminance_lux", "lx", false),
-    ("light.scene_irradiance_w_per_m2", "W/m²", false),
-    ("light.scene_luminance_cd_per_m2", "cd/m²", false),
-    ("light.scene_radiance_w_per_m2_sr", "W/m²/sr", false),
-    ("light.f_number", "1", false),
-    ("exposure.time_s", "s", false),
-    ("exposure.frames_averaged", "frames", true),
-    ("exposure.binning", "pixels", true),
-    ("temperature_c", "°C", false),
-    ("snr_threshold", "1", false),
-];
 
 /// How the points are spaced between the ends.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
@@ -64,7 +32,7 @@ pub enum Spacing {
 /// What to sweep.
 #[derive(Debug, Clone, PartialEq)]
 pub struct SweepRequest {
-    /// Dot path of the key, one of [`SWEEPABLE`].
+    /// Dot path of the key, one of [`keys::SWEEPABLE`] (the catalogue's keys a sweep may vary).
     pub key: String,
     /// First value.
     pub from: f64,
@@ -104,7 +72,7 @@ pub struct Regimes {
 pub struct Sweep {
     /// The key varied.
     pub key: String,
-    /// Its unit.
+    /// Its unit, as CSV headers write it.
     pub unit: &'static str,
     /// Spacing used.
     pub spacing: Spacing,
@@ -123,7 +91,7 @@ pub struct Sweep {
 pub fn sweep(base: &Value, request: &SweepRequest) -> Result<Sweep, ScenarioError> {
     let scenario = scenario_from_value(base)?;
     let mut problems = Vec::new();
-    let entry = SWEEPABLE.iter().find(|(k, _, _)| *k == request.key);
+    let entry = keys::sweepable(&request.key);
     match entry {
         None => problems.push(problem(
             "sweep.key",
@@ -132,15 +100,18 @@ pub fn sweep(base: &Value, request: &SweepRequest) -> Result<Sweep, ScenarioErro
                 request.key,
                 SWEEPABLE
                     .iter()
-                    .map(|(k, _, _)| *k)
+                    .map(|k| k.path)
                     .collect::<Vec<_>>()
                     .join(", ")
             ),
         )),
-        Some((key, _, _)) if key.starts_with("light.") && !light_has(&scenario.light, key) => {
+        Some(k) if !k.belongs_to_light(keys::light_kind_name(&scenario.light)) => {
             problems.push(problem(
                 "sweep.key",
-                format!("{key} is not part of this scenario's light; sweep a key of the light kind it uses"),
+                format!(
+                    "{} is not part of this scenario's light; sweep a key of the light kind it uses",
+                    k.path
+                ),
             ));
         }
         Some(_) => {}
@@ -175,7 +146,13 @@ pub fn sweep(base: &Value, request: &SweepRequest) -> Result<Sweep, ScenarioErro
             ),
         ));
     }
-    let Some(&(key, unit, whole)) = entry.filter(|_| problems.is_empty()) else {
+    let Some(&keys::Sweepable {
+        path: key,
+        unit,
+        whole,
+        ..
+    }) = entry.filter(|_| problems.is_empty())
+    else {
         return Err(ScenarioError::from_problems(problems));
     };
     // Both ends as whole scenarios: their problems name the key, prefixed by the end.
@@ -198,7 +175,9 @@ pub fn sweep(base: &Value, request: &SweepRequest) -> Result<Sweep, ScenarioErro
     // The light's spectral integrals depend only on the light and the sensor's QE and band,
     // and the light is linear in its amount: a sweep of the amount scales them.
     let base_lights = resolve_lights(&scenario);
-    let amount_varies = AMOUNT_KEYS.contains(&key);
+    let amount_varies = key
+        .strip_prefix("light.")
+        .is_some_and(|name| LIGHT_AMOUNTS.contains(&name));
     let light_changes = key.starts_with("light.") || key == "sensor.quantum_efficiency";
     for i in 0..n {
         let f = f64::from(i) / f64::from(n - 1);
@@ -231,7 +210,7 @@ pub fn sweep(base: &Value, request: &SweepRequest) -> Result<Sweep, ScenarioErro
     }
     Ok(Sweep {
         key: key.to_string(),
-        unit,
+        unit: unit.csv,
         spacing: request.spacing,
         points,
         regimes: regimes(&scenario),
@@ -404,38 +383,6 @@ fn problem(path: &str, message: String) -> Problem {
     }
 }
 
-/// Keys that set how much light there is (the photons scale with them, nothing else changes).
-const AMOUNT_KEYS: &[&str] = &[
-    "light.photon_flux_per_um2_s",
-    "light.irradiance_w_per_m2",
-    "light.photons_per_pixel",
-    "light.illuminance_lux",
-    "light.scene_illuminance_lux",
-    "light.scene_irradiance_w_per_m2",
-    "light.scene_luminance_cd_per_m2",
-    "light.scene_radiance_w_per_m2_sr",
-];
-
-fn light_has(light: &Light, key: &str) -> bool {
-    use crate::light::SceneQuantity as Q;
-    match (light, key) {
-        (Light::PhotonFlux { .. }, "light.photon_flux_per_um2_s")
-        | (Light::Irradiance { .. }, "light.irradiance_w_per_m2" | "light.wavelength_nm")
-        | (Light::SpectralIrradiance { .. }, "light.irradiance_w_per_m2")
-        | (Light::PhotonsPerPixel { .. }, "light.photons_per_pixel")
-        | (Light::Illuminance { .. }, "light.illuminance_lux")
-        | (Light::Scene { .. }, "light.f_number") => true,
-        (Light::Scene { quantity, .. }, _) => matches!(
-            (quantity, key),
-            (Q::Illuminance { .. }, "light.scene_illuminance_lux")
-                | (Q::Irradiance { .. }, "light.scene_irradiance_w_per_m2")
-                | (Q::Luminance { .. }, "light.scene_luminance_cd_per_m2")
-                | (Q::Radiance { .. }, "light.scene_radiance_w_per_m2_sr")
-        ),
-        _ => false,
-    }
-}
-
 /// A copy of the scenario JSON with `key` (a dot path) set to `value`.
 pub(crate) fn with_key(base: &Value, key: &str, value: f64) -> Value {
     let mut v = base.clone();
@@ -456,7 +403,7 @@ pub(crate) fn with_key(base: &Value, key: &str, value: f64) -> Value {
     v
 }
 
-/// Set one key on a checked scenario. Only called with a key of [`SWEEPABLE`] and a value
+/// Set one key on a checked scenario. Only called with a key of [`keys::SWEEPABLE`] and a value
 /// between two ends that validated, so the scenario stays valid.
 fn set(sc: &mut Scenario, key: &str, v: f64) {
     let s = &mut sc.sensor;
@@ -471,6 +418,7 @@ fn set(sc: &mut Scenario, key: &str, v: f64) {
         "sensor.dark_current_reference_c" => s.dark_current_reference_c = v,
         "sensor.dark_current_doubling_c" => s.dark_current_doubling_c = v,
         "sensor.dsnu_e" => s.dsnu_e = v,
+        "sensor.dark_current_nonuniformity_percent" => s.dark_current_nonuniformity_percent = v,
         "sensor.prnu_percent" => s.prnu_percent = v,
         "sensor.adc_bits" => s.adc_bits = whole(v),
         "sensor.system_gain_dn_per_e" => s.system_gain_dn_per_e = v,
@@ -544,8 +492,9 @@ mod tests {
 
     use serde_json::{json, Value};
 
-    use super::{sweep, to_csv, Spacing, SweepRequest, SWEEPABLE};
+    use super::{sweep, to_csv, Spacing, SweepRequest};
     use crate::evaluate_json;
+    use crate::keys::SWEEPABLE;
 
     /// Agreement where two computations are equal in exact arithmetic but differ in the order
     /// of a few roundings (ε ≈ 2.2e-16 each): far below 1e-12.
@@ -590,12 +539,42 @@ mod tests {
         v
     }
 
+    /// A light that `key` (a light key) belongs to, or `None` for a key of another object.
+    fn light_for(key: &str) -> Option<Value> {
+        let scene = |mut v: Value| {
+            v["spectrum"] = json!({"kind": "cie_a"});
+            v["f_number"] = json!(2.8);
+            v["lens_transmission"] = json!(0.9);
+            v
+        };
+        Some(match key {
+            "light.irradiance_w_per_m2" | "light.wavelength_nm" => {
+                json!({"irradiance_w_per_m2": 0.01, "wavelength_nm": 550})
+            }
+            "light.photons_per_pixel" => json!({"photons_per_pixel": 300}),
+            "light.illuminance_lux" => {
+                json!({"illuminance_lux": 10, "spectrum": {"kind": "cie_a"}})
+            }
+            "light.scene_illuminance_lux" | "light.f_number" => {
+                scene(json!({"scene_illuminance_lux": 300, "reflectance": 0.2}))
+            }
+            "light.scene_irradiance_w_per_m2" => {
+                scene(json!({"scene_irradiance_w_per_m2": 2, "reflectance": 0.2}))
+            }
+            "light.scene_luminance_cd_per_m2" => scene(json!({"scene_luminance_cd_per_m2": 50})),
+            "light.scene_radiance_w_per_m2_sr" => scene(json!({"scene_radiance_w_per_m2_sr": 0.3})),
+            _ => return None,
+        })
+    }
+
     #[test]
     fn every_point_equals_a_single_evaluation() {
-        let b = base();
-        for &(key, _, whole) in SWEEPABLE {
-            if key.starts_with("light.") && key != "light.photon_flux_per_um2_s" {
-                continue;
+        for k in &SWEEPABLE {
+            let (key, whole) = (k.path, k.whole);
+            // A light key is swept on a light of a kind it belongs to (invented values).
+            let mut b = base();
+            if let Some(light) = light_for(key) {
+                b["light"] = light;
             }
             // A range inside every key's rules, from the base value to 1.5 × it.
             let v0 = {
