@@ -411,8 +411,78 @@ fn valid_files() -> Vec<Vec<u8>> {
     ]
 }
 
+/// Cases per property: 512, or `PROPTEST_CASES` for long runs (the fuzzing fallback where
+/// cargo-fuzz cannot run; see DEVELOPERS.md).
+fn cases() -> u32 {
+    std::env::var("PROPTEST_CASES")
+        .ok()
+        .and_then(|v| v.parse().ok())
+        .unwrap_or(512)
+}
+
+/// A manifest of one dark and two flat stacks of small raw frames, with a layout and a depth.
+fn small_manifest(cfa: &str, bits: Option<u8>, frames_per_stack: usize) -> String {
+    let mut entries = Vec::new();
+    for (s, (kind, level)) in [("dark", "d"), ("flat", "a"), ("flat", "b"), ("flat", "c")]
+        .iter()
+        .enumerate()
+    {
+        for j in 0..frames_per_stack {
+            entries.push(format!(
+                r#"{{"path": "{}", "kind": "{kind}", "exposure_time_s": 0.01, "level": "{level}"}}"#,
+                s * 100 + j
+            ));
+        }
+    }
+    let bits = bits.map_or(String::new(), |b| format!(r#""significant_bits": {b},"#));
+    format!(
+        r#"{{"version": 1, "cfa": "{cfa}", {bits} "raw": {{"width": 6, "height": 5, "bits": 16}}, "frames": [{}]}}"#,
+        entries.join(", ")
+    )
+}
+
 proptest! {
-    #![proptest_config(ProptestConfig::with_cases(512))]
+    #![proptest_config(ProptestConfig::with_cases(cases()))]
+
+    #[test]
+    fn measuring_random_frames_never_panics(
+        cfa in 0usize..5, bits in prop::option::of(1u8..=16), l in 2usize..5,
+        bytes in prop::collection::vec(any::<u8>(), 1..400)) {
+        let m = engine::ptc::parse_manifest(&small_manifest(engine::ptc::CFA_NAMES[cfa], bits, l)).unwrap();
+        let frame = 6 * 5 * 2;
+        let r = engine::ptc::measure(&m, &mut |f| {
+            let i: usize = f.path.parse().unwrap_or(0);
+            Ok(bytes.iter().cycle().skip(i * 7 % bytes.len()).take(frame).copied().collect())
+        }, &mut |_, _| {});
+        if let Ok(c) = r {
+            prop_assert!(c.sensor.system_gain_dn_per_e.is_finite());
+            for f in &c.figures {
+                prop_assert!(f.value.is_none_or(f64::is_finite));
+            }
+            let _ = engine::ptc::spatial_csv(&c);
+            prop_assert!(serde_json::to_string(&c).is_ok());
+        }
+    }
+
+    #[test]
+    fn mutated_manifests_never_panic_and_name_keys(
+        cfa in 0usize..5, bits in prop::option::of(0u8..=20),
+        cut in 0usize..600, flips in prop::collection::vec((0usize..600, any::<u8>()), 0..4)) {
+        let mut text = small_manifest(engine::ptc::CFA_NAMES[cfa], bits, 2).into_bytes();
+        for (at, v) in flips {
+            let n = text.len();
+            text[at % n] = v;
+        }
+        text.truncate(cut.max(1));
+        if let Ok(t) = std::str::from_utf8(&text) {
+            if let Err(ps) = engine::ptc::parse_manifest(t) {
+                prop_assert!(!ps.is_empty());
+                for p in ps {
+                    prop_assert!(p.to_string().contains(": "), "{p}");
+                }
+            }
+        }
+    }
 
     #[test]
     fn random_bytes_never_panic(bytes in prop::collection::vec(any::<u8>(), 0..512),

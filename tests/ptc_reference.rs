@@ -13,8 +13,8 @@
 
 use engine::frames::{self, RawGeometry};
 use engine::ptc::{
-    analyse, fit_line, pair_sums, spatial_variance_corrected_dn2, FrameKind, StackAccumulator,
-    StackSpec, StackStats,
+    analyse, fit_line, pair_sums, spatial_variance_corrected_dn2, FrameKind, SampleInfo,
+    StackAccumulator, StackSpec, StackStats,
 };
 
 /// Values derived exactly in REFERENCES.md and quoted to 6 decimals: half a unit in the 6th
@@ -48,6 +48,10 @@ fn stats(
         spatial_variance_raw_dn2: spatial_variance_dn2 + temporal_variance_dn2 / 2.0,
         spatial_variance_dn2,
         significant_bits: None,
+        samples: SampleInfo::default(),
+        groups: Vec::new(),
+        spatial: None,
+        phase_spatial: Vec::new(),
     }
 }
 

@@ -48,16 +48,25 @@ function normal(seed) {
   return () => Math.sqrt(-2 * Math.log(1 - u())) * Math.cos(2 * Math.PI * u());
 }
 
+/** The default camera: 16-bit samples. A colour camera (`COLOUR`): an RGGB sensor whose red and
+ * blue respond at 0.55 and 0.40 of green, writing 12-bit samples at the top of 16-bit files
+ * (values × 16), as many cameras do; invented, common practice, no source. */
+const MONO = { gain: GAIN_DN_PER_E, offset: OFFSET_DN, max: 65535, shift: 0, response: [1, 1, 1, 1] };
+const COLOUR = { gain: 0.25, offset: 100.3, max: 4095, shift: 4, response: [0.55, 1, 0.98, 0.4] };
+
 /** A 16-bit P5 PGM (big-endian) of a flat (mean electrons `e`) or dark (`e` = 0) frame; shot
  * noise by the normal approximation of Poisson (means ≥ 300 e⁻), read noise Gaussian. */
-function pgm(e, seed) {
+function pgm(e, seed, cam = MONO) {
   const z = normal(seed);
   const header = Buffer.from(`P5\n${WIDTH} ${HEIGHT}\n65535\n`);
   const data = Buffer.alloc(WIDTH * HEIGHT * 2);
   for (let i = 0; i < WIDTH * HEIGHT; i++) {
-    const electrons = e + Math.sqrt(e) * z() + READ_NOISE_E * z();
-    const dn = Math.round(OFFSET_DN + GAIN_DN_PER_E * electrons);
-    data.writeUInt16BE(Math.min(65535, Math.max(0, dn)), i * 2);
+    const x = i % WIDTH;
+    const y = Math.floor(i / WIDTH);
+    const m = e * cam.response[(y % 2) * 2 + (x % 2)];
+    const electrons = m + Math.sqrt(m) * z() + READ_NOISE_E * z();
+    const dn = Math.round(cam.offset + cam.gain * electrons);
+    data.writeUInt16BE(Math.min(cam.max, Math.max(0, dn)) << cam.shift, i * 2);
   }
   return Buffer.concat([header, data]);
 }
@@ -110,13 +119,13 @@ function png16(pgmBytes) {
 }
 
 /** Write the frame set and its manifest; returns { dir, manifest, files }. */
-function frameSet({ bad = false, png = false } = {}) {
+function frameSet({ bad = false, png = false, colour = false } = {}) {
   const dir = mkdtempSync(join(tmpdir(), 'noise-budget-frames-'));
   const frames = [];
   let seed = 1;
   const add = (pgmName, kind, e, level) => {
     const name = png ? pgmName.replace(/\.pgm$/, '.png') : pgmName;
-    const bytes = pgm(e, seed++);
+    const bytes = pgm(e, seed++, colour ? COLOUR : MONO);
     writeFileSync(join(dir, name), png ? png16(bytes) : bytes);
     frames.push({ path: name, kind, exposure_time_s: EXPOSURE_S, ...(level ? { level } : {}) });
   };
@@ -131,7 +140,7 @@ function frameSet({ bad = false, png = false } = {}) {
     writeFileSync(join(dir, 'flat0-b.pgm'), Buffer.from(`P5\n${WIDTH} ${HEIGHT}\n65535\n\x00\x01`));
   }
   const manifest = join(dir, 'manifest.json');
-  writeFileSync(manifest, JSON.stringify({ version: 1, frames }, null, 2));
+  writeFileSync(manifest, JSON.stringify({ version: 1, ...(colour ? { cfa: 'RGGB' } : {}), frames }, null, 2));
   return { dir, manifest, files: [manifest, ...frames.map((f) => join(dir, f.path))] };
 }
 
@@ -239,7 +248,9 @@ for (const target of TARGETS) {
         // Each plot is an accessible image with a title and a description.
         const svgs = await page.$$eval('#measure-results svg',
           (els) => els.map((s) => [s.getAttribute('role'), s.querySelector('title')?.textContent, s.querySelector('desc')?.textContent]));
-        assert.equal(svgs.length, 3);
+        // The photon transfer curve, the fit and its residuals, and six spatial plots.
+        assert.equal(svgs.length, 9);
+        assert.equal(await page.$$eval('#measure-spatial svg', (e) => e.length), 6);
         for (const [role, title, desc] of svgs) {
           assert.equal(role, 'img');
           assert.ok(title && desc, 'title and desc');
@@ -417,6 +428,46 @@ describe('measure a camera: actions and failures', () => {
       assert.match(problems, /dark-a\.png\): a png file, which this build does not read/);
       assert.equal(await page.$eval('#measure-results', (e) => e.hidden), true);
       assert.deepEqual(errors, []);
+    } finally {
+      await ctx.close();
+    }
+  });
+
+  test('a colour sensor with 12-bit samples at the top of 16-bit files: every figure, per channel too, equals characterize; Use this sensor takes the chosen channel', async () => {
+    const colourSet = frameSet({ colour: true });
+    // Source of every expected figure: the CLI's output for the same files.
+    const want = JSON.parse(execFileSync(cli(), ['characterize', colourSet.manifest], { encoding: 'utf8' }));
+    assert.equal(want.sensor.adc_bits, 12, 'the CLI finds the native depth');
+    assert.deepEqual(want.channels.map((c) => c.name), ['R', 'Gr', 'Gb', 'B']);
+    const { ctx, page, errors } = await openPage(browser, `${server.origin}/`);
+    try {
+      await chooseFrames(page, colourSet.files);
+      assert.equal(await page.inputValue('#measure-cfa'), 'RGGB', 'the manifest sets the colour filter');
+      await analyse(page);
+      assert.match(await page.textContent('#measure-status'), /^Analysed/);
+      assert.match(await page.textContent('#measure-depth'), /own 12-bit DN \(1 DN = 16 DN of the 16-bit files\)/);
+      const got = await shownMeasure(page);
+      const same = (shown, value, what) => {
+        if (value === null || value === undefined) {
+          assert.equal(shown, 'null', `${what}: not measured by the CLI, not shown by the page`);
+        } else {
+          // The same engine natively and in wasm; 1e-12 relative as in helpers.mjs.
+          assert.ok(Math.abs(Number(shown) - value) <= 1e-12 * Math.abs(value), `${what}: page ${shown}, CLI ${value}`);
+        }
+      };
+      for (const f of want.figures) same(got[f.key], f.value, f.key);
+      for (const ch of want.channels) {
+        for (const f of ch.figures) same(got[`${ch.name}.${f.key}`], f.value, `${ch.name}.${f.key}`);
+        same(got[`${ch.name}.relative_response`], ch.relative_response, `${ch.name} response`);
+      }
+      assert.equal(await page.isVisible('#measure-use-channel'), true, 'the page asks which channel');
+      await page.selectOption('#measure-use-channel', 'R');
+      await page.click('#measure-use');
+      const red = want.channels[0].sensor.system_gain_dn_per_e;
+      assert.equal(Number(await page.inputValue('input[name="sensor.system_gain_dn_per_e"]')), red);
+      assert.match(await page.textContent('#measure-status'), /of channel R/);
+      assert.deepEqual(errors, []);
+      await page.screenshot({ path: 'tests/artifacts/measure-colour.png', fullPage: true });
     } finally {
       await ctx.close();
     }

@@ -15,7 +15,7 @@ use engine::ptc::{self, Characterization};
 
 /// Run the command; the exit status is 0 on success, 2 for an invalid manifest, an
 /// undecodable frame or frames that cannot be analysed, 1 when a file cannot be read.
-pub fn run(manifest_path: &Path, as_table: bool) -> ExitCode {
+pub fn run(manifest_path: &Path, as_table: bool, spatial_csv: Option<&Path>) -> ExitCode {
     let shown = manifest_path.display();
     let text = match std::fs::read(manifest_path) {
         Ok(b) => match String::from_utf8(b) {
@@ -54,6 +54,12 @@ pub fn run(manifest_path: &Path, as_table: bool) -> ExitCode {
             return ExitCode::from(if failure.io { 1 } else { 2 });
         }
     };
+    if let Some(path) = spatial_csv {
+        if let Err(e) = std::fs::write(path, ptc::spatial_csv(&result)) {
+            eprintln!("noise-budget: cannot write {}: {e}", path.display());
+            return ExitCode::from(1);
+        }
+    }
     let out = if as_table {
         render_table(&result)
     } else {
@@ -81,14 +87,6 @@ pub fn run(manifest_path: &Path, as_table: bool) -> ExitCode {
 
 // ---- table ----------------------------------------------------------------------------------
 
-fn with_u(value: Option<f64>, u: Option<f64>, unit: &str) -> String {
-    match (value, u) {
-        (Some(v), Some(u)) => format!("{} ± {} {unit}", sig(v), sig(u)),
-        (Some(v), None) => format!("{} {unit}", sig(v)),
-        (None, _) => "not measured".into(),
-    }
-}
-
 /// A number to 4 significant digits, plain for everyday magnitudes.
 fn sig(x: f64) -> String {
     let a = x.abs();
@@ -107,71 +105,23 @@ fn sig(x: f64) -> String {
     }
 }
 
-/// The characterization for people: measured figures with uncertainties, the points, and
-/// the diagnostics.
-#[must_use]
-pub fn render_table(c: &Characterization) -> String {
-    let s = &c.sensor;
-    let f = &c.fit;
-    let mut o = String::new();
-    let _ = writeln!(
-        o,
-        "measured sensor ({} pixels per frame)",
-        f.pixels_per_frame
-    );
-    let rows: Vec<(&str, String)> = vec![
-        (
-            "system gain K",
-            with_u(
-                Some(s.system_gain_dn_per_e),
-                f.system_gain.standard_uncertainty_dn_per_e,
-                "DN/e⁻",
-            ),
-        ),
-        (
-            "read noise",
-            if f.read_noise.upper_bound_only {
-                format!("< {} e⁻ (upper bound)", sig(f.read_noise.value_e))
-            } else {
-                with_u(s.read_noise_e, f.read_noise.standard_uncertainty_e, "e⁻")
-            },
-        ),
-        (
-            "full well",
-            with_u(s.full_well_e, f.saturation.capacity_uncertainty_e, "e⁻"),
-        ),
-        (
-            "dark current",
-            with_u(
-                s.dark_current_e_per_s,
-                f.dark_current
-                    .as_ref()
-                    .and_then(|d| d.standard_uncertainty_e_per_s),
-                "e⁻/s",
-            ),
-        ),
-        ("DSNU", with_u(s.dsnu_e, None, "e⁻")),
-        ("PRNU", with_u(s.prnu_percent, None, "%")),
-        (
-            "quantum efficiency",
-            with_u(
-                s.quantum_efficiency,
-                f.responsivity
-                    .as_ref()
-                    .and_then(|r| r.quantum_efficiency_uncertainty),
-                "",
-            ),
-        ),
-        (
-            "linearity error",
-            with_u(f.linearity.as_ref().map(|l| l.error_percent), None, "%"),
-        ),
-        ("black level", with_u(s.black_level_dn, None, "DN")),
-    ];
-    for (label, value) in rows {
-        let _ = writeln!(o, "  {label:<20} {}", value.trim_end());
+fn figure_value(f: &ptc::Figure) -> String {
+    match (f.value, f.uncertainty) {
+        (None, _) => "not measured".into(),
+        (Some(v), _) if f.upper_bound => format!("< {} {} (upper bound)", sig(v), f.unit),
+        (Some(v), Some(u)) => format!("{} ± {} {}", sig(v), sig(u), f.unit),
+        (Some(v), None) if f.unit == "pixels" || f.unit == "bits" => format!("{v} {}", f.unit),
+        (Some(v), None) => format!("{} {}", sig(v), f.unit),
     }
-    let _ = writeln!(o);
+}
+
+fn figure_rows(o: &mut String, figures: &[ptc::Figure]) {
+    for f in figures {
+        let _ = writeln!(o, "  {:<26} {}", f.name, figure_value(f).trim_end());
+    }
+}
+
+fn points_table(o: &mut String, f: &ptc::FitReport) {
     let _ = writeln!(o, "photon transfer points");
     let _ = writeln!(
         o,
@@ -193,12 +143,68 @@ pub fn render_table(c: &Characterization) -> String {
             if p.used_in_gain_fit { "yes" } else { "" }
         );
     }
+}
+
+/// The characterization for people: the engine's list of measured figures with their
+/// uncertainties (per channel for a colour sensor), the points, the diagnostics, and where each
+/// figure's definition comes from.
+#[must_use]
+pub fn render_table(c: &Characterization) -> String {
+    let f = &c.fit;
+    let d = &c.sample_depth;
+    let mut o = String::new();
+    let _ = writeln!(
+        o,
+        "measured sensor ({} pixels per frame, {}, DN of {} samples{})",
+        f.pixels_per_frame,
+        c.cfa.as_str(),
+        d.native_bits
+            .map_or_else(|| "unknown-bit".to_string(), |b| format!("{b}-bit")),
+        if d.step_dn > 1 {
+            format!(
+                ", 1 DN = {} DN of the {}-bit files",
+                d.step_dn, d.container_bits
+            )
+        } else {
+            String::new()
+        }
+    );
+    if c.channels.is_empty() {
+        figure_rows(&mut o, &c.figures);
+    } else {
+        let _ = writeln!(
+            o,
+            "  green pixels (Gr and Gb pooled; the top-level sensor):"
+        );
+        figure_rows(&mut o, &c.figures);
+        for ch in &c.channels {
+            let _ = writeln!(o);
+            let _ = writeln!(o, "channel {}", ch.name);
+            figure_rows(&mut o, &ch.figures);
+        }
+    }
+    let _ = writeln!(o);
+    points_table(&mut o, f);
     if !f.diagnostics.is_empty() {
         let _ = writeln!(o);
         let _ = writeln!(o, "diagnostics");
         for d in &f.diagnostics {
             let _ = writeln!(o, "  {}: {}", d.code, d.message);
         }
+    }
+    for ch in &c.channels {
+        if !ch.fit.diagnostics.is_empty() {
+            let _ = writeln!(o);
+            let _ = writeln!(o, "diagnostics, channel {}", ch.name);
+            for d in &ch.fit.diagnostics {
+                let _ = writeln!(o, "  {}: {}", d.code, d.message);
+            }
+        }
+    }
+    let _ = writeln!(o);
+    let _ = writeln!(o, "definitions");
+    for fig in &c.figures {
+        let _ = writeln!(o, "  {:<26} {}", fig.name, fig.clause);
     }
     o
 }

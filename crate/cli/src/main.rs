@@ -67,14 +67,20 @@ enum Command {
     /// model) and print the measured `sensor` section with its fit (JSON by default).
     ///
     /// MANIFEST is JSON: {"version": 1, "frames": [{"path", "kind": "dark"|"flat",
-    /// "exposure_time_s", optional "level", "photons_per_pixel", "raw": {"width", "height",
-    /// "bits"}}], optional "roi": {"x", "y", "width", "height"}, optional "raw"}; paths are
-    /// relative to the manifest. Exit status: 0 on success, 2 for an invalid manifest, an
-    /// undecodable frame or frames that cannot be analysed, 1 when a file cannot be read.
+    /// "exposure_time_s", optional "level", "photons_per_pixel", "significant_bits", "raw":
+    /// {"width", "height", "bits"}}], optional "roi": {"x", "y", "width", "height"}, "raw",
+    /// "cfa": "mono"|"RGGB"|"BGGR"|"GRBG"|"GBRG", "significant_bits"}; paths are relative to
+    /// the manifest (docs/frame-manifest.md). Exit status: 0 on success, 2 for an invalid
+    /// manifest, an undecodable frame or frames that cannot be analysed, 1 when a file cannot
+    /// be read or written.
     Characterize {
         /// Print a readable table instead of JSON.
         #[arg(long)]
         table: bool,
+        /// Also write the profiles, spectrograms and histograms of the averaged dark and flat
+        /// images to this CSV file.
+        #[arg(long, value_name = "FILE")]
+        spatial_csv: Option<PathBuf>,
         /// The manifest file (JSON).
         manifest: PathBuf,
     },
@@ -124,7 +130,11 @@ fn main() -> ExitCode {
     match cli.command {
         Command::Eval { table, file } => eval(&file, table),
         Command::Example { name, list } => example(name.as_deref(), list),
-        Command::Characterize { table, manifest } => characterize::run(&manifest, table),
+        Command::Characterize {
+            table,
+            spatial_csv,
+            manifest,
+        } => characterize::run(&manifest, table, spatial_csv.as_deref()),
         Command::Simulate {
             frame,
             series,

@@ -492,6 +492,22 @@ impl<'v> Fields<'v> {
         Some(x as u32)
     }
 
+    /// An optional whole number from `min` to `max`: `None` when absent (or `null`), and when
+    /// it breaks the rule (the problem is recorded).
+    pub(crate) fn optional_integer(
+        &mut self,
+        p: &mut Problems,
+        key: &str,
+        min: u32,
+        max: u32,
+    ) -> Option<u32> {
+        if !self.has(key) {
+            self.mark_used(key);
+            return None;
+        }
+        self.integer(p, key, None, min, max)
+    }
+
     pub(crate) fn choice(
         &mut self,
         p: &mut Problems,

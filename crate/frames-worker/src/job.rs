@@ -13,16 +13,36 @@ use serde_json::Value;
 /// Samples of the model curve on the photon transfer plot.
 pub const MODEL_SAMPLES: usize = 64;
 
-/// The answer of a job that succeeded: what `noise-budget characterize` prints (`sensor` and
-/// `fit`), plus the plot series.
+/// Most points of one spatial series sent to the page (profiles of a 4000-column frame are
+/// thinned to every k-th point): a plot 1000 units wide shows no more (common practice, no
+/// source). The command's CSV has every point.
+pub const MAX_PLOT_POINTS: usize = 1000;
+
+/// The answer of a job that succeeded: what `noise-budget characterize` prints (the whole
+/// characterization), plus the plot series.
 #[derive(Debug, Serialize)]
 pub struct Answer<'a> {
-    /// SCENARIO.md `sensor` keys that were measured.
-    pub sensor: &'a ptc::MeasuredSensor,
-    /// Uncertainties, points and diagnostics.
-    pub fit: &'a ptc::FitReport,
+    /// The characterization, as the command prints it.
+    #[serde(flatten)]
+    pub characterization: &'a Characterization,
     /// Plot-ready series of the photon transfer curve and the variance fit.
     pub series: &'a CurveSeries,
+    /// The same for each colour channel (empty for mono).
+    pub channel_series: Vec<CurveSeries>,
+    /// Profiles, spectrograms and histograms, at most [`MAX_PLOT_POINTS`] points each.
+    pub spatial: Vec<ptc::SpatialSeries>,
+}
+
+/// Every k-th point, so that at most `max` remain (the last point kept).
+fn thinned(points: &[(f64, f64)], max: usize) -> Vec<(f64, f64)> {
+    let step = points.len().div_ceil(max.max(1)).max(1);
+    let mut out: Vec<(f64, f64)> = points.iter().step_by(step).copied().collect();
+    if let (Some(last), Some(kept)) = (points.last(), out.last()) {
+        if last != kept {
+            out.push(*last);
+        }
+    }
+    out
 }
 
 /// What one frame turned out to be, for the page's file table: `W × H, B-bit`, or `None` when
@@ -58,10 +78,19 @@ pub fn run(
 #[must_use]
 pub fn answer_json(c: &Characterization) -> String {
     let series = ptc::curve_series(c, MODEL_SAMPLES);
+    let mut spatial = ptc::spatial_series(c);
+    for s in &mut spatial {
+        s.points = thinned(&s.points, MAX_PLOT_POINTS);
+    }
     let answer = Answer {
-        sensor: &c.sensor,
-        fit: &c.fit,
+        characterization: c,
         series: &series,
+        channel_series: c
+            .channels
+            .iter()
+            .map(|ch| ptc::curve_series_of_fit(&ch.fit, MODEL_SAMPLES))
+            .collect(),
+        spatial,
     };
     match serde_json::to_string(&serde_json::json!({ "result": answer })) {
         Ok(s) => s,

@@ -1,6 +1,7 @@
 //! The Measure section's figures: the photon transfer curve (log-log, with the fitted model
-//! and the points the fit used) and the variance-against-mean fit with its residuals, as SVG
-//! text with a `<title>` and a `<desc>`.
+//! and the points the fit used), the variance-against-mean fit with its residuals, and the
+//! averaged images' profiles, spectrograms and deviation histograms, as SVG text with a
+//! `<title>` and a `<desc>`.
 //!
 //! It scales the engine's plot series (`engine::ptc::CurveSeries`, computed in the frame
 //! worker) to a drawing; it computes no statistic and fits nothing. Tick labels are formatted
@@ -8,7 +9,7 @@
 
 use std::fmt::Write as _;
 
-use engine::ptc::CurveSeries;
+use engine::ptc::{CurveSeries, SpatialSeries};
 
 use crate::display::{self, Style};
 
@@ -355,5 +356,176 @@ pub fn fit_svg(s: &CurveSeries) -> String {
     let rp: Vec<(f64, f64, bool)> = res.iter().map(|(x, y)| (*x, *y, true)).collect();
     marks(&mut out, &g, &rp);
     out.push_str("</svg>");
+    out
+}
+
+/// Dash patterns that tell up to eight lines apart without colour (with the line-1/line-2
+/// classes for a second and third shade).
+const DASHES: [&str; 4] = ["", "12 8", "4 6", "20 6 4 6"];
+
+/// One plot of several lines with a legend; `ylog` for power and counts.
+fn lines_svg(
+    id: &str,
+    title: &str,
+    desc: &str,
+    labels: (&str, &str),
+    lines: &[(String, Vec<(f64, f64)>)],
+    ylog: bool,
+) -> String {
+    let f = Plot {
+        x: Axis::new(
+            lines.iter().flat_map(|l| l.1.iter().map(|p| p.0)),
+            false,
+            false,
+        ),
+        y: Axis::new(
+            lines.iter().flat_map(|l| l.1.iter().map(|p| p.1)),
+            ylog,
+            !ylog,
+        ),
+        height: H,
+    };
+    let mut out = String::new();
+    open_svg(&mut out, H, id, title, desc);
+    axes(&mut out, &f, labels.0, labels.1);
+    for (i, (name, pts)) in lines.iter().enumerate() {
+        let pts: Vec<(f64, f64)> = pts
+            .iter()
+            .copied()
+            .filter(|p| p.1.is_finite() && (!ylog || p.1 > 0.0))
+            .collect();
+        let dash = DASHES.get(i % DASHES.len()).copied().unwrap_or_default();
+        let class = ["model", "model line-1", "model line-2"]
+            .get((i / DASHES.len()) % 3)
+            .copied()
+            .unwrap_or("model");
+        let mut p = String::new();
+        for (x, y) in &pts {
+            let _ = write!(p, "{},{} ", f.sx(*x), f.sy(*y));
+        }
+        let dash_attr = if dash.is_empty() {
+            String::new()
+        } else {
+            format!(" stroke-dasharray=\"{dash}\"")
+        };
+        if pts.len() >= 2 {
+            let _ = write!(
+                out,
+                "<polyline class=\"{class}\"{dash_attr} points=\"{}\"/>",
+                p.trim_end()
+            );
+        }
+        let y = px(TOP + 10.0) + 30 * i32::try_from(i).unwrap_or(0);
+        let x0 = px(W - RIGHT - 330.0);
+        let _ = write!(
+            out,
+            "<line class=\"{class}\"{dash_attr} x1=\"{x0}\" y1=\"{}\" x2=\"{}\" y2=\"{}\"/>\
+             <text x=\"{}\" y=\"{y}\">{}</text>",
+            y - 7,
+            x0 + 60,
+            y - 7,
+            x0 + 70,
+            esc(name)
+        );
+    }
+    out.push_str("</svg>");
+    out
+}
+
+/// The line's points less their mean (profiles are shown as deviations, so that dark and flat
+/// share an axis).
+fn less_mean(pts: &[(f64, f64)]) -> Vec<(f64, f64)> {
+    let n = pts.len().max(1);
+    #[allow(clippy::cast_precision_loss)] // a profile has at most 2^28 points
+    let m = pts.iter().map(|p| p.1).sum::<f64>() / n as f64;
+    pts.iter().map(|(x, y)| (*x, y - m)).collect()
+}
+
+/// Every spatial plot: row and column profiles, horizontal and vertical spectrograms, and the
+/// dark and flat deviation histograms, each with a line per channel and image.
+#[must_use]
+pub fn spatial_svgs(series: &[SpatialSeries]) -> String {
+    let pick = |name: &str, image: Option<&str>, centre: bool| -> Vec<(String, Vec<(f64, f64)>)> {
+        series
+            .iter()
+            .filter(|s| s.series == name && image.is_none_or(|i| s.image == i))
+            .map(|s| {
+                let label = if s.channel == "all" {
+                    s.image.clone()
+                } else {
+                    format!("{} {}", s.image, s.channel)
+                };
+                let pts = if centre {
+                    less_mean(&s.points)
+                } else {
+                    s.points.clone()
+                };
+                (label, pts)
+            })
+            .collect()
+    };
+    let plots = [
+        (
+            "measure-rows-svg",
+            "Row profiles",
+            "Mean of each row of the averaged images, less the image mean, in DN: a row pattern \
+             shows as a wave or steps.",
+            ("row", "row mean − mean, DN"),
+            pick("row_profile", None, true),
+            false,
+        ),
+        (
+            "measure-columns-svg",
+            "Column profiles",
+            "Mean of each column of the averaged images, less the image mean, in DN.",
+            ("column", "column mean − mean, DN"),
+            pick("column_profile", None, true),
+            false,
+        ),
+        (
+            "measure-hspec-svg",
+            "Horizontal spectrograms",
+            "Power of the Fourier transform along rows, averaged over rows, in DN², against \
+             frequency in cycles per pixel, logarithmic power axis: a flat floor is white \
+             pixel noise, peaks are periodic column patterns.",
+            ("frequency, cycles per pixel", "power, DN²"),
+            pick("horizontal_spectrogram", None, false),
+            true,
+        ),
+        (
+            "measure-vspec-svg",
+            "Vertical spectrograms",
+            "Power of the Fourier transform along columns, averaged over columns, in DN²: peaks \
+             are periodic row patterns.",
+            ("frequency, cycles per pixel", "power, DN²"),
+            pick("vertical_spectrogram", None, false),
+            true,
+        ),
+        (
+            "measure-dhist-svg",
+            "Dark image histogram",
+            "Pixels of the averaged dark image by their deviation from its mean, in DN, on a \
+             logarithmic count axis: hot pixels sit far to the right.",
+            ("deviation from the mean, DN", "pixels"),
+            pick("histogram", Some("dark"), false),
+            true,
+        ),
+        (
+            "measure-fhist-svg",
+            "Flat image histogram",
+            "Pixels of the averaged flat image by their deviation from its mean, in percent of \
+             the mean above dark, logarithmic count axis: dark (dead) pixels sit far to the \
+             left.",
+            ("deviation from the mean, % of the signal", "pixels"),
+            pick("histogram", Some("flat"), false),
+            true,
+        ),
+    ];
+    let mut out = String::new();
+    for (id, title, desc, labels, lines, ylog) in plots {
+        if !lines.is_empty() {
+            out.push_str(&lines_svg(id, title, desc, labels, &lines, ylog));
+        }
+    }
     out
 }

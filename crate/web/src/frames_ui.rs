@@ -15,7 +15,7 @@
 use std::cell::RefCell;
 use std::fmt::Write as _;
 
-use engine::ptc::CurveSeries;
+use engine::ptc::{CurveSeries, SpatialSeries};
 use serde_json::{json, Map, Value};
 use wasm_bindgen::closure::Closure;
 use wasm_bindgen::{JsCast, JsValue};
@@ -56,7 +56,7 @@ thread_local! {
     /// The last finished or cancelled run, kept until the next one ends: its message handlers
     /// may be the code running when it ends, so they are not dropped then.
     static RETIRED: RefCell<Option<Running>> = const { RefCell::new(None) };
-    /// The measured sensor keys of the last result shown (the `sensor` object).
+    /// The last result shown (the characterization: `sensor`, `channels`, …).
     static RESULT: RefCell<Option<Value>> = const { RefCell::new(None) };
 }
 
@@ -352,6 +352,12 @@ fn apply_manifest(manifest_name: &str, text: &str) {
     if let Some(raw) = v.get("raw") {
         fill_raw(raw);
     }
+    if let Some(sel) = dom::by_id_as::<HtmlSelectElement>("measure-cfa") {
+        sel.set_value(&v.get("cfa").map_or_else(|| "mono".into(), text_of));
+    }
+    if let Some(input) = dom::by_id_as::<HtmlInputElement>("measure-bits") {
+        input.set_value(&v.get("significant_bits").map(text_of).unwrap_or_default());
+    }
     // The region of interest goes to the worker as written; the engine checks it.
     let roi = v.get("roi").cloned();
     let has_roi = roi.is_some();
@@ -446,6 +452,15 @@ fn manifest() -> Value {
     }
     if let Some(roi) = ROI.with(|r| r.borrow().clone()) {
         m.insert("roi".into(), roi);
+    }
+    let cfa = dom::by_id_as::<HtmlSelectElement>("measure-cfa")
+        .map(|s| s.value())
+        .unwrap_or_default();
+    if !cfa.is_empty() && cfa != "mono" {
+        m.insert("cfa".into(), Value::String(cfa));
+    }
+    if let Some(v) = typed(&input_text("measure-bits")) {
+        m.insert("significant_bits".into(), v);
     }
     m.insert("frames".into(), Value::Array(frames));
     Value::Object(m)
@@ -685,7 +700,7 @@ fn finish(text: &str) {
     status(&format!(
         "Analysed {done} frame files in {stacks} stacks, on this computer."
     ));
-    RESULT.with(|r| *r.borrow_mut() = result.get("sensor").cloned());
+    RESULT.with(|r| *r.borrow_mut() = Some(result.clone()));
 }
 
 // ---- results ------------------------------------------------------------------------------
@@ -695,114 +710,223 @@ fn num(v: &Value, pointer: &str) -> Option<f64> {
     v.pointer(pointer).and_then(Value::as_f64)
 }
 
-fn figure_row(
-    list: &Element,
-    label: &str,
-    key: &str,
-    value: Option<f64>,
-    unit: &str,
-    u: Option<f64>,
-    note: &str,
-) {
-    let Some(div) = dom::new_element("div", "") else {
-        return;
+/// One figure of the engine's list as a value with its uncertainty and unit.
+fn figure_text(f: &Value) -> (Option<f64>, String) {
+    let value = f.get("value").and_then(Value::as_f64);
+    let unit = f.get("unit").and_then(Value::as_str).unwrap_or_default();
+    let Some(x) = value else {
+        return (None, "not measured by these frames".into());
     };
-    if let Some(dt) = dom::new_element("dt", label) {
-        let _ = div.append_child(&dt);
+    let mut text = display::rounded(x, Style::Number);
+    if f.get("upper_bound") == Some(&Value::Bool(true)) {
+        text = format!("< {text}");
     }
-    let Some(dd) = dom::new_element("dd", "") else {
-        return;
-    };
-    match value {
-        Some(x) => {
-            let mut text = display::rounded(x, Style::Number);
-            if let Some(u) = u {
-                let _ = write!(text, " ± {}", display::rounded(u, Style::Number));
+    if let Some(u) = f.get("uncertainty").and_then(Value::as_f64) {
+        let _ = write!(text, " ± {}", display::rounded(u, Style::Number));
+    }
+    if !unit.is_empty() {
+        let _ = write!(text, " {unit}");
+    }
+    if f.get("upper_bound") == Some(&Value::Bool(true)) {
+        text.push_str(" (an upper bound: the dark noise is below what the ADC resolves)");
+    }
+    (value, text)
+}
+
+/// A value span carrying the figure's key and full value, for tests and copying.
+fn value_span(key: &str, value: Option<f64>, text: &str) -> Option<Element> {
+    let span = dom::new_element("span", text)?;
+    dom::set_attr(&span, "data-measure", key);
+    dom::set_attr(
+        &span,
+        "data-value",
+        &value.map_or_else(|| "null".to_string(), display::full),
+    );
+    Some(span)
+}
+
+/// The figures of the engine's list, each with its clause as a tooltip.
+fn figure_list(list: &Element, figures: &[Value]) {
+    for f in figures {
+        let key = f.get("key").and_then(Value::as_str).unwrap_or_default();
+        let name = f.get("name").and_then(Value::as_str).unwrap_or_default();
+        let (value, text) = figure_text(f);
+        let Some(div) = dom::new_element("div", "") else {
+            continue;
+        };
+        if let Some(dt) = dom::new_element("dt", name) {
+            if let Some(c) = f.get("clause").and_then(Value::as_str) {
+                dom::set_attr(&dt, "title", c);
             }
-            let _ = write!(text, " {unit}{note}");
-            if let Some(span) = dom::new_element("span", &text) {
-                dom::set_attr(&span, "data-measure", key);
-                dom::set_attr(&span, "data-value", &display::full(x));
+            let _ = div.append_child(&dt);
+        }
+        if let Some(dd) = dom::new_element("dd", "") {
+            if let Some(span) = value_span(key, value, &text) {
                 let _ = dd.append_child(&span);
             }
+            let _ = div.append_child(&dd);
         }
-        None => {
-            if let Some(span) = dom::new_element("span", "not measured by these frames") {
-                dom::set_attr(&span, "data-measure", key);
-                dom::set_attr(&span, "data-value", "null");
-                let _ = dd.append_child(&span);
-            }
+        let _ = list.append_child(&div);
+    }
+}
+
+/// One table for the colour channels: a row per figure, a column per channel.
+fn channel_table(holder: &Element, channels: &[Value]) {
+    let Some(table) = dom::new_element("table", "") else {
+        return;
+    };
+    dom::set_attr(&table, "id", "measure-channel-table");
+    if let Some(cap) = dom::new_element(
+        "caption",
+        "Each colour channel on its own (the figures above are the green pixels, Gr and Gb \
+         pooled)",
+    ) {
+        let _ = table.append_child(&cap);
+    }
+    let Some(head) = dom::new_element("tr", "") else {
+        return;
+    };
+    if let Some(th) = dom::new_element("th", "") {
+        let _ = head.append_child(&th);
+    }
+    for ch in channels {
+        let name = ch.get("name").and_then(Value::as_str).unwrap_or_default();
+        if let Some(th) = dom::new_element("th", name) {
+            dom::set_attr(&th, "scope", "col");
+            let _ = head.append_child(&th);
         }
     }
-    let _ = div.append_child(&dd);
-    let _ = list.append_child(&div);
+    let _ = table.append_child(&head);
+    let first: Vec<Value> = channels
+        .first()
+        .and_then(|c| c.get("figures"))
+        .and_then(Value::as_array)
+        .cloned()
+        .unwrap_or_default();
+    let mut rows: Vec<(String, String)> = first
+        .iter()
+        .map(|f| {
+            (
+                f.get("key")
+                    .and_then(Value::as_str)
+                    .unwrap_or_default()
+                    .to_string(),
+                f.get("name")
+                    .and_then(Value::as_str)
+                    .unwrap_or_default()
+                    .to_string(),
+            )
+        })
+        .collect();
+    rows.insert(0, ("relative_response".into(), "response / green".into()));
+    for (key, name) in rows {
+        let Some(tr) = dom::new_element("tr", "") else {
+            continue;
+        };
+        if let Some(th) = dom::new_element("th", &name) {
+            dom::set_attr(&th, "scope", "row");
+            let _ = tr.append_child(&th);
+        }
+        for ch in channels {
+            let cname = ch.get("name").and_then(Value::as_str).unwrap_or_default();
+            let (value, text) = if key == "relative_response" {
+                let v = ch.get("relative_response").and_then(Value::as_f64);
+                (
+                    v,
+                    v.map_or_else(
+                        || "not measured".into(),
+                        |x| display::rounded(x, Style::Number),
+                    ),
+                )
+            } else {
+                ch.get("figures")
+                    .and_then(Value::as_array)
+                    .and_then(|fs| {
+                        fs.iter()
+                            .find(|f| f.get("key").and_then(Value::as_str) == Some(&key))
+                    })
+                    .map_or((None, "not measured".into()), figure_text)
+            };
+            if let Some(td) = dom::new_element("td", "") {
+                if let Some(span) = value_span(&format!("{cname}.{key}"), value, &text) {
+                    let _ = td.append_child(&span);
+                }
+                let _ = tr.append_child(&td);
+            }
+        }
+        let _ = table.append_child(&tr);
+    }
+    let _ = holder.append_child(&table);
 }
 
 fn show_result(r: &Value) {
+    let figures = r
+        .get("figures")
+        .and_then(Value::as_array)
+        .cloned()
+        .unwrap_or_default();
     if let Some(list) = dom::by_id("measure-figures") {
         dom::clear(&list);
-        let bound = if r.pointer("/fit/read_noise/upper_bound_only") == Some(&Value::Bool(true)) {
-            " (an upper bound: the dark noise is below what the ADC resolves)"
-        } else {
-            ""
+        figure_list(&list, &figures);
+    }
+    if let Some(p) = dom::by_id("measure-depth") {
+        let bits = num(r, "/sample_depth/native_bits");
+        let step = num(r, "/sample_depth/step_dn").unwrap_or(1.0);
+        let container = num(r, "/sample_depth/container_bits").unwrap_or(16.0);
+        let cfa = r.get("cfa").and_then(Value::as_str).unwrap_or("mono");
+        let mut text = match bits {
+            Some(b) => format!(
+                "DN figures are in the camera's own {}-bit DN",
+                display::rounded(b, Style::Number)
+            ),
+            None => "The camera's bit depth is not known: DN figures are in the files' DN".into(),
         };
-        let rows: [(&str, &str, &str, &str, &str); 7] = [
-            (
-                "system gain K",
-                "system_gain_dn_per_e",
-                "DN/e⁻",
-                "/fit/system_gain/standard_uncertainty_dn_per_e",
-                "",
-            ),
-            (
-                "read noise",
-                "read_noise_e",
-                "e⁻ rms",
-                "/fit/read_noise/standard_uncertainty_e",
-                bound,
-            ),
-            (
-                "full well (saturation capacity)",
-                "full_well_e",
-                "e⁻",
-                "/fit/saturation/capacity_uncertainty_e",
-                "",
-            ),
-            (
-                "dark current",
-                "dark_current_e_per_s",
-                "e⁻/s",
-                "/fit/dark_current/standard_uncertainty_e_per_s",
-                "",
-            ),
-            (
-                "DSNU",
-                "dsnu_e",
-                "e⁻ rms",
-                "/fit/nonuniformity/dsnu_uncertainty_e",
-                "",
-            ),
-            (
-                "PRNU",
-                "prnu_percent",
-                "%",
-                "/fit/nonuniformity/prnu_uncertainty_percent",
-                "",
-            ),
-            (
-                "quantum efficiency",
-                "quantum_efficiency",
-                "",
-                "/fit/responsivity/quantum_efficiency_uncertainty",
-                "",
-            ),
-        ];
-        for (label, key, unit, u, note) in rows {
-            let value = r
-                .get("sensor")
-                .and_then(|s| s.get(key))
-                .and_then(Value::as_f64);
-            figure_row(&list, label, key, value, unit, num(r, u), note);
+        if step > 1.0 {
+            let _ = write!(
+                text,
+                " (1 DN = {} DN of the {}-bit files)",
+                display::rounded(step, Style::Number),
+                display::rounded(container, Style::Number)
+            );
+        }
+        if cfa != "mono" {
+            let _ = write!(
+                text,
+                ". A {cfa} colour sensor: the figures below are its green pixels (Gr and Gb \
+                 pooled); the table after them has each channel"
+            );
+        }
+        text.push('.');
+        p.set_text_content(Some(&text));
+    }
+    let channels = r
+        .get("channels")
+        .and_then(Value::as_array)
+        .cloned()
+        .unwrap_or_default();
+    if let Some(holder) = dom::by_id("measure-channels") {
+        dom::clear(&holder);
+        if !channels.is_empty() {
+            channel_table(&holder, &channels);
+        }
+    }
+    if let Some(sel) = dom::by_id_as::<HtmlSelectElement>("measure-use-channel") {
+        let el: &Element = sel.as_ref();
+        dom::clear(el);
+        let mut options = vec![("", "green (Gr and Gb pooled)".to_string())];
+        for ch in &channels {
+            let name = ch.get("name").and_then(Value::as_str).unwrap_or_default();
+            options.push((name, format!("{name} only")));
+        }
+        for (value, label) in options {
+            if let Some(o) = dom::new_element("option", &label) {
+                dom::set_attr(&o, "value", value);
+                let _ = el.append_child(&o);
+            }
+        }
+        dom::set_hidden(el, channels.is_empty());
+        if let Some(l) = dom::by_id("measure-use-channel-label") {
+            dom::set_hidden(&l, channels.is_empty());
         }
     }
     if let Some(list) = dom::by_id("measure-diagnostics") {
@@ -832,6 +956,16 @@ fn show_result(r: &Value) {
                     .map(str::to_string),
             );
         }
+        for ch in &channels {
+            let name = ch.get("name").and_then(Value::as_str).unwrap_or_default();
+            if let Some(ds) = ch.pointer("/fit/diagnostics").and_then(Value::as_array) {
+                lines.extend(
+                    ds.iter()
+                        .filter_map(|d| d.get("message").and_then(Value::as_str))
+                        .map(|m| format!("channel {name}: {m}")),
+                );
+            }
+        }
         for l in lines {
             if let Some(li) = dom::new_element("li", &l) {
                 let _ = list.append_child(&li);
@@ -850,6 +984,13 @@ fn show_result(r: &Value) {
             el.set_inner_html(&frames_plot::fit_svg(&series));
         }
     }
+    if let Some(el) = dom::by_id("measure-spatial") {
+        let spatial: Vec<SpatialSeries> = r
+            .get("spatial")
+            .and_then(|s| serde_json::from_value(s.clone()).ok())
+            .unwrap_or_default();
+        el.set_inner_html(&frames_plot::spatial_svgs(&spatial));
+    }
     if let Some(el) = dom::by_id("measure-results") {
         dom::set_hidden(&el, false);
     }
@@ -858,9 +999,33 @@ fn show_result(r: &Value) {
 /// Put the measured sensor keys into the scenario form's fields (named by their scenario key
 /// paths); the form then recomputes as after any edit, and the engine judges the result.
 fn use_sensor() {
-    let Some(measured) = RESULT.with(|r| r.borrow().clone()) else {
+    let Some(result) = RESULT.with(|r| r.borrow().clone()) else {
         status("Analyse frames first.");
         return;
+    };
+    let channel = dom::by_id_as::<HtmlSelectElement>("measure-use-channel")
+        .map(|s| s.value())
+        .unwrap_or_default();
+    let measured = if channel.is_empty() {
+        result.get("sensor").cloned()
+    } else {
+        result
+            .get("channels")
+            .and_then(Value::as_array)
+            .and_then(|cs| {
+                cs.iter()
+                    .find(|c| c.get("name").and_then(Value::as_str) == Some(channel.as_str()))
+            })
+            .and_then(|c| c.get("sensor").cloned())
+    };
+    let Some(measured) = measured else {
+        status("Analyse frames first.");
+        return;
+    };
+    let which = if channel.is_empty() {
+        String::new()
+    } else {
+        format!(" of channel {channel}")
     };
     let Some(form_el) = dom::by_id("scenario-form") else {
         return;
@@ -889,7 +1054,7 @@ fn use_sensor() {
         }
     }
     status(&format!(
-        "The scenario's sensor now has the measured {}.",
+        "The scenario's sensor now has the measured {}{which}.",
         set.join(", ")
     ));
 }

@@ -38,6 +38,7 @@ pub struct Frame {
     height: u32,
     sample_bits: u8,
     significant_bits: Option<u8>,
+    msb_bits: Option<u8>,
     pixels: Vec<u16>,
 }
 
@@ -78,6 +79,7 @@ impl Frame {
             height,
             sample_bits,
             significant_bits: None,
+            msb_bits: None,
             pixels,
         })
     }
@@ -100,11 +102,20 @@ impl Frame {
         self.sample_bits
     }
 
-    /// The ADC resolution the file states, when it does: a PGM whose maxval is 2^b − 1, or the
-    /// `bits` of a raw geometry. PNG and TIFF containers do not say it.
+    /// The ADC resolution the file states for LSB-aligned samples, when it does: a PGM whose
+    /// maxval is 2^b − 1, or the `bits` of a raw geometry. TIFF does not say it; a PNG's `sBIT`
+    /// is [`Frame::msb_bits`].
     #[must_use]
     pub fn significant_bits(&self) -> Option<u8> {
         self.significant_bits
+    }
+
+    /// The significant bits of MSB-aligned samples, when the file states them (a PNG's `sBIT`
+    /// below its bit depth): the camera's values were shifted left by the container's bits minus
+    /// these.
+    #[must_use]
+    pub fn msb_bits(&self) -> Option<u8> {
+        self.msb_bits
     }
 
     /// The samples, row by row.
@@ -127,6 +138,12 @@ impl Frame {
 
     pub(crate) fn with_significant_bits(mut self, bits: Option<u8>) -> Self {
         self.significant_bits = bits;
+        self
+    }
+
+    #[cfg_attr(not(feature = "png"), allow(dead_code))]
+    pub(crate) fn with_msb_bits(mut self, bits: Option<u8>) -> Self {
+        self.msb_bits = bits;
         self
     }
 }

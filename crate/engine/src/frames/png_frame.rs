@@ -2,7 +2,8 @@
 //!
 //! Decoding is the `png` crate's; this file checks the header against the file's size before
 //! anything is allocated and refuses colour, alpha, palette and 1/2/4-bit images rather than
-//! converting them. It ignores gamma and sBIT chunks: samples are taken as stored.
+//! converting them. It ignores gamma; an `sBIT` chunk below the bit depth is kept as the frame's
+//! [`Frame::msb_bits`] (PNG 1.2 §4.2.6: the samples were scaled up from that many bits).
 
 use std::io::Cursor;
 
@@ -61,6 +62,14 @@ pub(super) fn decode(bytes: &[u8]) -> Result<Frame, FrameError> {
         });
     }
     let mut reader = decoder.read_info().map_err(|e| corrupt(&e))?;
+    // sBIT comes before IDAT, so read_info has seen it. One byte for a greyscale image; a value
+    // outside 1..bit depth is invalid (PNG 1.2 §4.2.6) and, like a full-depth one, says nothing.
+    let sbit = reader
+        .info()
+        .sbit
+        .as_deref()
+        .and_then(|b| b.first().copied())
+        .filter(|b| *b >= 1 && *b < bits);
     let size = reader
         .output_buffer_size()
         .filter(|s| *s as u64 == decoded_bytes)
@@ -81,5 +90,5 @@ pub(super) fn decode(bytes: &[u8]) -> Result<Frame, FrameError> {
     } else {
         from_be16(&buf)
     };
-    Frame::new(width, height, bits, pixels)
+    Frame::new(width, height, bits, pixels).map(|f| f.with_msb_bits(sbit))
 }

@@ -9,12 +9,16 @@ use std::fmt;
 
 use serde::Serialize;
 
-use super::fit::{fit_line, LineFit};
+use super::cfa::{Cfa, CHANNEL_NAMES};
+use super::depth::{sample_depth, SampleDepth};
+use super::figures::{figures, Figure};
+use super::fit::{fit_line, fit_line_weighted, LineFit};
 use super::formulas::{
     dark_current_e_per_s, dark_current_from_variance_e_per_s, dsnu_e, linearity_error_percent,
     prnu_percent, quantum_efficiency, read_noise_e, read_noise_upper_bound_e,
     saturation_capacity_e, QUANTIZATION_VARIANCE_DN2, SMALL_DARK_VARIANCE_DN2,
 };
+use super::spatial::{HighNoise, Histogram, SpatialSummary, VarianceSplit};
 use super::stack::{FrameKind, StackStats};
 
 /// Upper end of the gain fit, as a fraction of the saturation mean above dark.
@@ -81,6 +85,22 @@ pub enum AnalysisError {
         /// The fitted slope, DN/e⁻.
         slope: f64,
     },
+    /// A stated bit depth does not fit the samples.
+    DepthContradiction {
+        /// The key or chunk that stated it.
+        key: &'static str,
+        /// The bits stated.
+        bits: u8,
+        /// What the samples show.
+        found: String,
+    },
+    /// One colour channel could not be analysed.
+    Channel {
+        /// R, Gr, Gb or B.
+        name: &'static str,
+        /// Why.
+        error: Box<AnalysisError>,
+    },
 }
 
 impl fmt::Display for AnalysisError {
@@ -115,6 +135,11 @@ impl fmt::Display for AnalysisError {
                 "the variance against mean line cannot be fitted: the flat levels have the same \
                  mean"
             ),
+            AnalysisError::DepthContradiction { key, bits, found } => write!(
+                f,
+                "{key} says {bits}-bit samples, but {found}: correct or remove the statement"
+            ),
+            AnalysisError::Channel { name, error } => write!(f, "channel {name}: {error}"),
             AnalysisError::GainNotPositive { slope } => write!(
                 f,
                 "the fitted system gain is {slope} DN/e⁻, not positive: the flat frames do not \
@@ -149,10 +174,11 @@ pub struct MeasuredSensor {
     /// Quantum efficiency (when photons per pixel were given).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub quantum_efficiency: Option<f64>,
-    /// ADC bits, when every frame stated them (PGM maxval 2^b − 1, raw bits).
+    /// ADC bits: the camera's native bits per sample, as stated (manifest, PNG sBIT, PGM maxval
+    /// 2^b − 1, raw bits) or found in the samples (MSB-aligned data).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub adc_bits: Option<u8>,
-    /// Dark offset at zero exposure, DN.
+    /// Dark offset at zero exposure, in the camera's native DN.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub black_level_dn: Option<f64>,
 }
@@ -279,6 +305,8 @@ pub struct NonUniformityFit {
 /// Linearity error.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct LinearityFit {
+    /// How the line was fitted: least squares of the relative deviations (weights 1/μ²).
+    pub fit: &'static str,
     /// LE, percent.
     pub error_percent: f64,
     /// The independent variable: `photons_per_pixel` or `exposure_time_s`.
@@ -313,6 +341,76 @@ pub struct Diagnostic {
     pub message: String,
 }
 
+/// DSNU and PRNU split into row, column and pixel parts, and the defect pixels, from the
+/// averaged dark and flat images (EMVA 1288 Release 4.0 Linear, spatial nonuniformity and defect
+/// pixels; from memory, REFERENCES.md §4 item 11).
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct SpatialFit {
+    /// Frames averaged in the dark image (L: the temporal residual is σ²/L).
+    pub dark_frames: u32,
+    /// Exposure time of the dark image, s.
+    pub dark_exposure_time_s: f64,
+    /// Frames averaged in the flat image used for PRNU.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub flat_frames: Option<u32>,
+    /// The dark image's variance split, temporal residual removed, DN².
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub dark_split_dn2: Option<VarianceSplit>,
+    /// The flat image's variance split, temporal residual removed, DN² (includes the dark's).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub flat_split_dn2: Option<VarianceSplit>,
+    /// DSNU's row part, √s²_row.dark / K, e⁻ (a negative variance estimate shows as 0).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub dsnu_row_e: Option<f64>,
+    /// DSNU's column part, e⁻.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub dsnu_column_e: Option<f64>,
+    /// DSNU's pixel part, e⁻.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub dsnu_pixel_e: Option<f64>,
+    /// PRNU's row part, √(s²_row.50 − s²_row.dark) / (μ_y.50 − μ_y.dark), percent.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub prnu_row_percent: Option<f64>,
+    /// PRNU's column part, percent.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub prnu_column_percent: Option<f64>,
+    /// PRNU's pixel part, percent.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub prnu_pixel_percent: Option<f64>,
+    /// Pixels of the averaged dark image more than [`super::DEFECT_SIGMAS`] standard deviations above
+    /// its mean.
+    pub hot_pixels: u64,
+    /// That threshold, DN above the dark mean.
+    pub hot_threshold_dn: f64,
+    /// Pixels of the averaged flat image more than [`super::DEFECT_SIGMAS`] standard deviations below
+    /// its mean.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub dark_pixels: Option<u64>,
+    /// That threshold, percent of the mean above dark.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub dark_threshold_percent: Option<f64>,
+    /// Dark pixels whose temporal variance is above [`super::HIGH_NOISE_FACTOR`] times the
+    /// channel's (with 8 or more dark frames).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub high_noise_pixels: Option<u64>,
+    /// Histogram of the averaged dark image's deviations from its mean, DN (plot with a
+    /// logarithmic count axis).
+    pub dark_histogram_dn: Histogram,
+    /// Histogram of the averaged flat image's deviations from its mean, percent of the mean
+    /// above dark.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub flat_histogram_percent: Option<Histogram>,
+    /// Histogram of each dark pixel's temporal variance over the channel's.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub high_noise_histogram: Option<Histogram>,
+    /// The averaged dark image's profiles and spectrograms, native DN (for plots and CSV).
+    #[serde(skip)]
+    pub dark_image: SpatialSummary,
+    /// The same for the flat image used for PRNU.
+    #[serde(skip)]
+    pub flat_image: Option<SpatialSummary>,
+}
+
 /// Everything about the fit behind the measured sensor.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct FitReport {
@@ -337,17 +435,77 @@ pub struct FitReport {
     pub responsivity: Option<ResponsivityFit>,
     /// Every stack as a point, darks first, flats by mean.
     pub points: Vec<PtcPoint>,
+    /// Row/column/pixel parts of DSNU and PRNU, and defect pixels (absent for the pooled green
+    /// of a colour sensor, whose pixels are not a grid).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub spatial: Option<SpatialFit>,
     /// Conditions to show the user.
     pub diagnostics: Vec<Diagnostic>,
+}
+
+/// One colour channel of a Bayer sensor.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ChannelResult {
+    /// R, Gr, Gb or B.
+    pub name: &'static str,
+    /// The channel's measured sensor keys (the same keys as the top-level `sensor`).
+    pub sensor: MeasuredSensor,
+    /// The channel's fit.
+    pub fit: FitReport,
+    /// Its mean above dark over the green channels' (pooled), at the green PRNU level.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub relative_response: Option<f64>,
+    /// The channel's figures as one list.
+    pub figures: Vec<Figure>,
+}
+
+/// What the colour channels say together.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ColourSummary {
+    /// What the top-level `sensor` and `fit` hold.
+    pub top_level: &'static str,
+    /// (μ_Gr − μ_Gb) / mean of the two, above dark, at the green PRNU level, percent.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub green_mismatch_percent: Option<f64>,
+    /// Its standard uncertainty from the two channels' spatial scatter, percent.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub green_mismatch_uncertainty_percent: Option<f64>,
 }
 
 /// The result: the measured sensor section and its fit.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Characterization {
-    /// SCENARIO.md `sensor` keys that were measured.
+    /// The colour filter layout analysed.
+    pub cfa: Cfa,
+    /// The sample depth: every DN figure is in the camera's native DN.
+    pub sample_depth: SampleDepth,
+    /// SCENARIO.md `sensor` keys that were measured (for a Bayer sensor: its green pixels).
     pub sensor: MeasuredSensor,
     /// Uncertainties, points and diagnostics.
     pub fit: FitReport,
+    /// For a Bayer sensor, each channel (R, Gr, Gb, B).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub channels: Vec<ChannelResult>,
+    /// For a Bayer sensor, the channels together.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub colour: Option<ColourSummary>,
+    /// Every measured figure as one list (name, unit, value, uncertainty, clause), for tables.
+    pub figures: Vec<Figure>,
+}
+
+/// What the analysis needs besides the stacks.
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq)]
+pub struct AnalysisOptions {
+    /// The colour filter layout.
+    pub cfa: Cfa,
+    /// The camera's bits per sample as the manifest states them.
+    pub significant_bits: Option<u8>,
+}
+
+/// What one analysis of one set of pixels gives.
+struct Single {
+    sensor: MeasuredSensor,
+    fit: FitReport,
 }
 
 /// Dark reference at one exposure time.
@@ -499,8 +657,237 @@ fn diag(list: &mut Vec<Diagnostic>, code: &'static str, message: String) {
 /// An [`AnalysisError`] when no figure can be derived: no dark stack, fewer than two flat
 /// stacks (or fewer than two below 70 % of saturation), stacks of different sizes, or a gain
 /// that does not come out positive. Anything less severe is a [`Diagnostic`].
-#[allow(clippy::too_many_lines)] // one method, read top to bottom in the standard's order
 pub fn analyse(stacks: &[StackStats]) -> Result<Characterization, AnalysisError> {
+    analyse_with(stacks, AnalysisOptions::default())
+}
+
+/// Analyse the stacks of a photon transfer measurement of a sensor with the colour filter
+/// layout and the bit depth stated in `options`.
+///
+/// First the sample step is found ([`super::depth::sample_depth`]) and every statistic is
+/// converted to the camera's native DN. A mono sensor is then analysed as one set of pixels; a
+/// Bayer sensor channel by channel (R, Gr, Gb, B), and its green pixels pooled for the
+/// top-level `sensor` and `fit`.
+///
+/// # Errors
+/// As [`analyse`]; also a stated depth that contradicts the samples, and a channel that cannot
+/// be analysed (named).
+pub fn analyse_with(
+    stacks: &[StackStats],
+    options: AnalysisOptions,
+) -> Result<Characterization, AnalysisError> {
+    let depth = sample_depth(stacks, options.significant_bits).map_err(|c| {
+        AnalysisError::DepthContradiction {
+            key: c.key,
+            bits: c.stated_bits,
+            found: c.found,
+        }
+    })?;
+    let step = f64::from(depth.step_dn);
+    let native: Vec<StackStats> = stacks.iter().map(|s| s.scaled(step)).collect();
+    let mut common = Vec::new();
+    if depth.step_dn > 1 {
+        diag(
+            &mut common,
+            "native_depth_from_samples",
+            format!(
+                "every sample is a multiple of {}: {}-bit data at the top of {}-bit samples; \
+                 every DN figure is in the camera's own DN (container DN / {})",
+                depth.step_dn,
+                depth.native_bits.unwrap_or(0),
+                depth.container_bits,
+                depth.step_dn
+            ),
+        );
+    }
+    if let Some(b) = depth.likely_lsb_bits {
+        diag(
+            &mut common,
+            "likely_lsb_aligned",
+            format!(
+                "no sample exceeds {} = 2^{b} − 1: perhaps {b}-bit data at the bottom of \
+                 {}-bit samples (the data alone cannot tell it from a series that never reached \
+                 the top); state \"significant_bits\" in the manifest to report adc_bits",
+                (1u32 << b) - 1,
+                depth.container_bits
+            ),
+        );
+    }
+    let Some(phases) = options.cfa.phases() else {
+        let mut one = analyse_one(&native)?;
+        one.sensor.adc_bits = depth.native_bits;
+        if let Some(d) = cfa_pattern_suspected(&native, &one) {
+            common.push(d);
+        }
+        one.fit.diagnostics.splice(0..0, common);
+        let figures = figures(&one.sensor, &one.fit, None);
+        return Ok(Characterization {
+            cfa: options.cfa,
+            sample_depth: depth,
+            sensor: one.sensor,
+            fit: one.fit,
+            channels: Vec::new(),
+            colour: None,
+            figures,
+        });
+    };
+    let pick = |g: usize| -> Vec<StackStats> { native.iter().filter_map(|s| s.group(g)).collect() };
+    // The greens sit on a diagonal: phases 0 and 3 (group 4) or 1 and 2 (group 5).
+    let green_group = if phases.get(1).is_some_and(|p| *p == 0 || *p == 3) {
+        4
+    } else {
+        5
+    };
+    let mut green = analyse_one(&pick(green_group))?;
+    green.sensor.adc_bits = depth.native_bits;
+    green.fit.spatial = None;
+    let mut channels = Vec::new();
+    for (name, phase) in CHANNEL_NAMES.iter().zip(phases) {
+        let mut one = analyse_one(&pick(phase)).map_err(|e| AnalysisError::Channel {
+            name,
+            error: Box::new(e),
+        })?;
+        one.sensor.adc_bits = depth.native_bits;
+        let figures = figures(&one.sensor, &one.fit, None);
+        channels.push(ChannelResult {
+            name,
+            sensor: one.sensor,
+            fit: one.fit,
+            relative_response: None,
+            figures,
+        });
+    }
+    let colour = colour_summary(&native, &green, &mut channels, phases);
+    diag(
+        &mut common,
+        "sensor_is_green",
+        format!(
+            "a {} colour sensor: the top-level sensor and fit are its green pixels (Gr and Gb \
+             pooled); each channel's figures are under \"channels\"",
+            options.cfa.as_str()
+        ),
+    );
+    green.fit.diagnostics.splice(0..0, common);
+    let figures = figures(&green.sensor, &green.fit, Some((&channels, &colour)));
+    Ok(Characterization {
+        cfa: options.cfa,
+        sample_depth: depth,
+        sensor: green.sensor,
+        fit: green.fit,
+        channels,
+        colour: Some(colour),
+        figures,
+    })
+}
+
+/// The flat level the green channels' PRNU used: its mean above dark per phase.
+fn level_means(native: &[StackStats], fit: &FitReport) -> Option<([f64; 4], [f64; 4], u64)> {
+    let x = fit.nonuniformity.flat_mean_above_dark_dn?;
+    let t_dark = fit.nonuniformity.dark_exposure_time_s;
+    // The flat stack whose whole-group mean above its dark matches; the phases' means above the
+    // same dark stack.
+    let dark = native
+        .iter()
+        .find(|s| s.spec.kind == FrameKind::Dark && same_time(s.spec.exposure_time_s, t_dark))?;
+    let flat = native
+        .iter()
+        .filter(|s| s.spec.kind == FrameKind::Flat)
+        .min_by(|a, b| {
+            let da = (a.mean_dn - dark.mean_dn - x).abs();
+            let db = (b.mean_dn - dark.mean_dn - x).abs();
+            da.total_cmp(&db)
+        })?;
+    let mut above = [0.0; 4];
+    let mut spread = [0.0; 4];
+    for p in 0..4 {
+        let (Some(f), Some(d)) = (flat.groups.get(p), dark.groups.get(p)) else {
+            return None;
+        };
+        if let (Some(a), Some(s)) = (above.get_mut(p), spread.get_mut(p)) {
+            *a = f.mean_dn - d.mean_dn;
+            *s = f.spatial_variance_raw_dn2.max(0.0);
+        }
+    }
+    Some((above, spread, flat.groups.first().map_or(0, |g| g.pixels)))
+}
+
+fn colour_summary(
+    native: &[StackStats],
+    green: &Single,
+    channels: &mut [ChannelResult],
+    phases: [usize; 4],
+) -> ColourSummary {
+    let mut summary = ColourSummary {
+        top_level: "the green pixels (Gr and Gb pooled): their means and temporal variances are \
+                    the averages of the two green channels",
+        green_mismatch_percent: None,
+        green_mismatch_uncertainty_percent: None,
+    };
+    let Some((above, spread, n)) = level_means(native, &green.fit) else {
+        return summary;
+    };
+    let [_, gr, gb, _] = phases;
+    let (Some(&a), Some(&b)) = (above.get(gr), above.get(gb)) else {
+        return summary;
+    };
+    let g = (a + b) / 2.0;
+    if g > 0.0 {
+        for (c, p) in channels.iter_mut().zip(phases) {
+            c.relative_response = above.get(p).map(|v| v / g);
+        }
+        summary.green_mismatch_percent = Some((a - b) / g * 100.0);
+        // u(mean) = s/√n per channel (spatial scatter of the averaged image), combined.
+        let (Some(&sa), Some(&sb)) = (spread.get(gr), spread.get(gb)) else {
+            return summary;
+        };
+        let n = (n.max(1)) as f64;
+        summary.green_mismatch_uncertainty_percent = Some(((sa + sb) / n).sqrt() / g * 100.0);
+    }
+    summary
+}
+
+/// A 2×2-periodic pattern in a mono analysis's flat that stands well above the rest of its
+/// PRNU: probably a colour sensor analysed as mono.
+fn cfa_pattern_suspected(native: &[StackStats], one: &Single) -> Option<Diagnostic> {
+    let (above, _, _) = level_means(native, &one.fit)?;
+    let mean = above.iter().sum::<f64>() / 4.0;
+    if mean <= 0.0 {
+        return None;
+    }
+    let periodic_var = above.iter().map(|v| (v - mean).powi(2)).sum::<f64>() / 4.0;
+    let nu = &one.fit.nonuniformity;
+    let excess = nu.flat_spatial_variance_dn2? - nu.dark_spatial_variance_dn2;
+    let rest = (excess - periodic_var).max(0.0).sqrt() / mean;
+    let periodic = periodic_var.sqrt() / mean;
+    (periodic > CFA_PATTERN_RATIO * rest && periodic > CFA_PATTERN_MIN_FRACTION).then(|| {
+        Diagnostic {
+            code: "cfa_pattern_suspected",
+            message: format!(
+                "the flat's 2×2 cells repeat a pattern of {:.1} % rms (the four positions at \
+                 {:.3}, {:.3}, {:.3}, {:.3} of their mean), well above the remaining PRNU of \
+                 {:.2} %: a colour sensor? State \"cfa\" (RGGB, BGGR, GRBG or GBRG) in the \
+                 manifest to analyse each channel",
+                periodic * 100.0,
+                above[0] / mean,
+                above[1] / mean,
+                above[2] / mean,
+                above[3] / mean,
+                rest * 100.0
+            ),
+        }
+    })
+}
+
+/// A 2×2 pattern counts as "well above" the rest of the PRNU at three times its rms (common
+/// practice, no source).
+const CFA_PATTERN_RATIO: f64 = 3.0;
+
+/// … and only when it is above 0.5 % of the signal, so that a sensor with almost no PRNU is not
+/// flagged for a pattern nobody would see (common practice, no source).
+const CFA_PATTERN_MIN_FRACTION: f64 = 0.005;
+
+#[allow(clippy::too_many_lines)] // one method, read top to bottom in the standard's order
+fn analyse_one(stacks: &[StackStats]) -> Result<Single, AnalysisError> {
     let mut diagnostics = Vec::new();
     if let Some(first) = stacks.first() {
         if let Some(o) = stacks.iter().find(|s| s.pixels != first.pixels) {
@@ -886,7 +1273,10 @@ pub fn analyse(stacks: &[StackStats]) -> Result<Characterization, AnalysisError>
         if used.len() < 3 {
             return None;
         }
-        let l = fit_line(&hx, &my, &[])?;
+        // Weights 1/μ²: the line that minimises the squared relative deviations, the
+        // quantity LE is made of (see LINEARITY_FIT).
+        let w: Vec<f64> = my.iter().map(|m| 1.0 / (m * m)).collect();
+        let l = fit_line_weighted(&hx, &my, &w)?;
         let dev: Option<Vec<f64>> = hx
             .iter()
             .zip(&my)
@@ -897,6 +1287,7 @@ pub fn analyse(stacks: &[StackStats]) -> Result<Characterization, AnalysisError>
             .collect();
         let dev = dev?;
         Some(LinearityFit {
+            fit: LINEARITY_FIT,
             error_percent: linearity_error_percent(&dev)?,
             abscissa: name,
             deviations_percent: dev,
@@ -953,8 +1344,6 @@ pub fn analyse(stacks: &[StackStats]) -> Result<Characterization, AnalysisError>
         Some(m) => m.intercept,
         None => d0.mean_dn,
     };
-    let bits = stacks.first().and_then(|s| s.significant_bits);
-    let adc_bits = bits.filter(|b| stacks.iter().all(|s| s.significant_bits == Some(*b)));
     let sensor = MeasuredSensor {
         system_gain_dn_per_e: k,
         read_noise_e: Some(read_noise.value_e),
@@ -969,7 +1358,7 @@ pub fn analyse(stacks: &[StackStats]) -> Result<Characterization, AnalysisError>
             .as_ref()
             .map(|r| r.quantum_efficiency)
             .filter(|q| *q > 0.0 && *q <= 1.0),
-        adc_bits,
+        adc_bits: None,
         black_level_dn: Some(black).filter(|b| *b >= 0.0),
     };
 
@@ -981,7 +1370,25 @@ pub fn analyse(stacks: &[StackStats]) -> Result<Characterization, AnalysisError>
             .map(|(i, p)| point(p.s, Some((p.x, p.y)), in_range.contains(&i))),
     );
 
-    Ok(Characterization {
+    // ---- row/column/pixel parts and defect pixels (EMVA 4.0 Linear, from memory) -----------
+    let dark_stack = darks
+        .stacks
+        .iter()
+        .copied()
+        .find(|s| same_time(s.spec.exposure_time_s, dsnu_dark.exposure_time_s))
+        .or_else(|| darks.stacks.first().copied());
+    let spatial = dark_stack.and_then(|d| {
+        spatial_fit(
+            d,
+            prnu_point.map(|p| p.s),
+            prnu_point.map_or(0.0, |p| p.x),
+            k,
+            (dsnu.is_some(), prnu.is_some()),
+            &mut diagnostics,
+        )
+    });
+
+    Ok(Single {
         sensor,
         fit: FitReport {
             pixels_per_frame: stacks.first().map_or(0, |s| s.pixels),
@@ -998,10 +1405,95 @@ pub fn analyse(stacks: &[StackStats]) -> Result<Characterization, AnalysisError>
             linearity,
             responsivity,
             points,
+            spatial,
             diagnostics,
         },
     })
 }
+
+/// How the linearity line is fitted.
+///
+/// # Source
+/// EMVA 1288 Release 3.1 and 4.0 Linear, linearity: a straight line through the mean above
+/// dark against the irradiation (here photons per pixel, else exposure time) over 5–95 % of
+/// saturation, the relative deviations δ_i from it, LE = (max δ − min δ)/2 (REFERENCES.md §4
+/// item 10). The standard's text was not available to re-read: the weighting is from memory
+/// (a fit that minimises the relative deviations, i.e. weights 1/μ_i², which the LE then
+/// measures); an unweighted fit lets the brightest points dominate and inflates δ at the dim
+/// end.
+pub const LINEARITY_FIT: &str =
+    "weighted least squares, weights 1/μ² (the squared relative deviations minimised)";
+
+/// The spatial report from the dark stack and the flat stack used for PRNU.
+fn spatial_fit(
+    dark: &StackStats,
+    flat: Option<&StackStats>,
+    flat_above_dark_dn: f64,
+    k: f64,
+    (dsnu_resolved, prnu_resolved): (bool, bool),
+    diagnostics: &mut Vec<Diagnostic>,
+) -> Option<SpatialFit> {
+    let d = dark.spatial.as_ref()?;
+    let f = flat.and_then(|s| s.spatial.as_ref());
+    let root = |v: f64| v.max(0.0).sqrt();
+    let prnu_part = |fp: f64, dp: f64| {
+        (flat_above_dark_dn > 0.0).then(|| root(fp - dp) / flat_above_dark_dn * 100.0)
+    };
+    let fs = f.and_then(|f| f.split);
+    let ds = d.split;
+    // The parts are reported only where the whole is resolved: a part of a DSNU or PRNU below
+    // what the frames resolve would be sampling noise given a name.
+    let both = ds.zip(fs).filter(|_| prnu_resolved);
+    let dsr = ds.filter(|_| dsnu_resolved);
+    let high: Option<&HighNoise> = d.high_noise.as_ref();
+    if high.is_some_and(|h| h.count.is_none()) {
+        diag(
+            diagnostics,
+            "high_noise_not_counted",
+            format!(
+                "high-noise pixels are counted with 8 or more dark frames in one stack ({} \
+                 here): with fewer, a pixel's own temporal variance is too uncertain to tell a \
+                 noisy pixel from chance",
+                dark.spec.frames
+            ),
+        );
+    }
+    let percent = |h: &Histogram| Histogram {
+        first_edge: h.first_edge / flat_above_dark_dn * 100.0,
+        bin_width: h.bin_width / flat_above_dark_dn * 100.0,
+        counts: h.counts.clone(),
+    };
+    Some(SpatialFit {
+        dark_frames: dark.spec.frames,
+        dark_exposure_time_s: dark.spec.exposure_time_s,
+        flat_frames: flat.map(|s| s.spec.frames),
+        dark_split_dn2: ds,
+        flat_split_dn2: fs,
+        dsnu_row_e: dsr.map(|s| root(s.row_dn2) / k),
+        dsnu_column_e: dsr.map(|s| root(s.column_dn2) / k),
+        dsnu_pixel_e: dsr.map(|s| root(s.pixel_dn2) / k),
+        prnu_row_percent: both.and_then(|(d, f)| prnu_part(f.row_dn2, d.row_dn2)),
+        prnu_column_percent: both.and_then(|(d, f)| prnu_part(f.column_dn2, d.column_dn2)),
+        prnu_pixel_percent: both.and_then(|(d, f)| prnu_part(f.pixel_dn2, d.pixel_dn2)),
+        hot_pixels: d.above_threshold,
+        hot_threshold_dn: d.defect_threshold_dn,
+        dark_pixels: f.map(|f| f.below_threshold),
+        dark_threshold_percent: f
+            .filter(|_| flat_above_dark_dn > 0.0)
+            .map(|f| f.defect_threshold_dn / flat_above_dark_dn * 100.0),
+        high_noise_pixels: high.and_then(|h| h.count),
+        dark_histogram_dn: d.histogram.clone(),
+        flat_histogram_percent: f
+            .filter(|_| flat_above_dark_dn > 0.0)
+            .map(|f| percent(&f.histogram)),
+        high_noise_histogram: high.map(|h| h.histogram.clone()),
+        dark_image: d.clone(),
+        flat_image: f.cloned(),
+    })
+}
+
+/// Defect thresholds as a reader sees them (for documentation and tables).
+pub const DEFECT_RULE: &str = "beyond 6 standard deviations of the averaged image from its mean";
 
 fn point(s: &StackStats, above: Option<(f64, f64)>, used: bool) -> PtcPoint {
     PtcPoint {

@@ -7,7 +7,7 @@
 
 use serde::{Deserialize, Serialize};
 
-use super::{Characterization, FrameKind};
+use super::{Characterization, FitReport, FrameKind};
 
 /// One flat stack as a point of the plots.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -59,10 +59,16 @@ pub struct CurveSeries {
 /// ```
 #[must_use]
 pub fn curve_series(c: &Characterization, samples: usize) -> CurveSeries {
-    let line = &c.fit.system_gain.line;
+    curve_series_of_fit(&c.fit, samples)
+}
+
+/// As [`curve_series`], for one fit (a colour channel's).
+#[must_use]
+pub fn curve_series_of_fit(fit: &FitReport, samples: usize) -> CurveSeries {
+    let line = &fit.system_gain.line;
     let mut residuals = line.residuals.iter();
     let mut points = Vec::new();
-    for p in c.fit.points.iter().filter(|p| p.kind == FrameKind::Flat) {
+    for p in fit.points.iter().filter(|p| p.kind == FrameKind::Flat) {
         let (Some(s), Some(v)) = (p.mean_above_dark_dn, p.variance_above_dark_dn2) else {
             continue;
         };
@@ -83,7 +89,7 @@ pub fn curve_series(c: &Characterization, samples: usize) -> CurveSeries {
             });
         }
     }
-    let dark_var = c.fit.read_noise.dark_variance_dn2;
+    let dark_var = fit.read_noise.dark_variance_dn2;
     let lo = points
         .iter()
         .map(|p| p.signal_dn)

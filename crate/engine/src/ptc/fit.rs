@@ -125,6 +125,82 @@ pub fn fit_line(x: &[f64], y: &[f64], uy: &[f64]) -> Option<LineFit> {
     finite.then_some(fit)
 }
 
+/// Fit y = a + b·x by weighted least squares, minimising Σ wᵢ(yᵢ − a − b·xᵢ)²; the residual
+/// standard errors use n − 2 degrees of freedom, no point uncertainties.
+///
+/// # Formula
+/// ```text
+/// x̄ = Σwx/Σw, ȳ = Σwy/Σw, Sxx = Σw(x − x̄)², b = Σw(x − x̄)(y − ȳ)/Sxx, a = ȳ − b·x̄
+/// s² = Σw r² / (n − 2);  u(b) = s/√Sxx;  u(a) = s·√(1/Σw + x̄²/Sxx)
+/// ```
+/// # Source
+/// Weighted least squares (NIST/SEMATECH e-Handbook of Statistical Methods, §4.4.3.2, from
+/// memory). Returns `None` as [`fit_line`] does, and for a weight that is not finite and > 0.
+/// ```
+/// // Equal weights give the ordinary fit: the textbook case of fit_line's tests.
+/// let f = engine::ptc::fit_line_weighted(&[0.0, 1.0, 2.0, 3.0], &[0.0, 1.0, 1.0, 3.0], &[2.0; 4]).unwrap();
+/// assert!((f.slope - 0.9).abs() < 1e-12 && (f.intercept + 0.1).abs() < 1e-12);
+/// ```
+#[must_use]
+pub fn fit_line_weighted(x: &[f64], y: &[f64], w: &[f64]) -> Option<LineFit> {
+    let n = x.len();
+    if n < 2 || y.len() != n || w.len() != n {
+        return None;
+    }
+    if x.iter().chain(y).any(|v| !v.is_finite()) || w.iter().any(|v| !(v.is_finite() && *v > 0.0)) {
+        return None;
+    }
+    let sw: f64 = w.iter().sum();
+    let xm = x.iter().zip(w).map(|(a, b)| a * b).sum::<f64>() / sw;
+    let ym = y.iter().zip(w).map(|(a, b)| a * b).sum::<f64>() / sw;
+    let sxx: f64 = x
+        .iter()
+        .zip(w)
+        .map(|(v, wi)| wi * (v - xm) * (v - xm))
+        .sum();
+    if sxx <= 0.0 || !sxx.is_finite() {
+        return None;
+    }
+    let sxy: f64 = x
+        .iter()
+        .zip(y)
+        .zip(w)
+        .map(|((a, b), wi)| wi * (a - xm) * (b - ym))
+        .sum();
+    let slope = sxy / sxx;
+    let intercept = ym - slope * xm;
+    let residuals: Vec<f64> = x
+        .iter()
+        .zip(y)
+        .map(|(a, b)| b - (intercept + slope * a))
+        .collect();
+    let (su, iu) = if n > 2 {
+        let s2 = residuals
+            .iter()
+            .zip(w)
+            .map(|(r, wi)| wi * r * r)
+            .sum::<f64>()
+            / (n as f64 - 2.0);
+        (
+            Some((s2 / sxx).sqrt()),
+            Some((s2 * (1.0 / sw + xm * xm / sxx)).sqrt()),
+        )
+    } else {
+        (None, None)
+    };
+    let finite = [slope, intercept].iter().all(|v| v.is_finite())
+        && [su, iu].iter().flatten().all(|v| v.is_finite());
+    finite.then_some(LineFit {
+        slope,
+        intercept,
+        slope_uncertainty_from_residuals: su,
+        intercept_uncertainty_from_residuals: iu,
+        slope_uncertainty_from_points: None,
+        residuals,
+        points: n,
+    })
+}
+
 #[cfg(test)]
 #[allow(clippy::unwrap_used)] // OK because a failing test should stop loudly
 mod tests {

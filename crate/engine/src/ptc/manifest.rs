@@ -11,7 +11,10 @@ use std::fmt::Write as _;
 
 use serde_json::Value;
 
-use super::{analyse, Characterization, FrameKind, Roi, StackAccumulator, StackSpec};
+use super::{
+    analyse_with, AnalysisOptions, Cfa, Characterization, FrameKind, Roi, StackAccumulator,
+    StackSpec, CFA_NAMES,
+};
 use crate::frames::{self, Frame, RawGeometry};
 pub use crate::input::Problem;
 use crate::input::{self, show_value, type_name, Fields, Need, Problems, Range};
@@ -36,6 +39,8 @@ pub struct FrameEntry {
     pub photons_per_pixel: Option<f64>,
     /// Raw geometry, for headerless files.
     pub raw: Option<RawGeometry>,
+    /// The camera's bits per sample, when this entry or the manifest states them.
+    pub significant_bits: Option<u8>,
 }
 
 /// A checked manifest: its stacks in first-appearance order, and the region of interest.
@@ -45,6 +50,11 @@ pub struct Manifest {
     pub stacks: Vec<Vec<FrameEntry>>,
     /// Optional region of interest.
     pub roi: Option<Roi>,
+    /// The colour filter layout (`"cfa"`, default mono).
+    pub cfa: Cfa,
+    /// The camera's bits per sample (`"significant_bits"`, at the top or on every frame; one
+    /// value for the whole series).
+    pub significant_bits: Option<u8>,
 }
 
 /// Why frames could not be measured: the messages, and whether a file could not be read.
@@ -84,7 +94,7 @@ pub fn measure(
             photons_per_pixel: first.photons_per_pixel,
             frames: u32::try_from(stack.len()).unwrap_or(u32::MAX),
         };
-        let mut acc = match StackAccumulator::new(spec, manifest.roi) {
+        let mut acc = match StackAccumulator::with_cfa(spec, manifest.roi, manifest.cfa) {
             Ok(a) => a,
             Err(e) => {
                 messages.push(format!("frames[{}]: {e}", first.index));
@@ -135,7 +145,11 @@ pub fn measure(
             io: io_error,
         });
     }
-    analyse(&stats).map_err(|e| Failure {
+    let options = AnalysisOptions {
+        cfa: manifest.cfa,
+        significant_bits: manifest.significant_bits,
+    };
+    analyse_with(&stats, options).map_err(|e| Failure {
         messages: vec![format!("analysis: {e}")],
         io: false,
     })
@@ -172,6 +186,11 @@ pub fn parse_manifest(text: &str) -> Result<Manifest, Vec<Problem>> {
     let roi = top
         .object(&mut p, "roi", false)
         .and_then(|mut f| roi(&mut p, &mut f));
+    let cfa = top
+        .choice(&mut p, "cfa", &CFA_NAMES, Some("mono"))
+        .and_then(Cfa::from_name)
+        .unwrap_or_default();
+    let default_bits = significant_bits(&mut p, &mut top);
     let mut entries = Vec::new();
     match top.get("frames") {
         None => p.push("frames", "required: the list of frame files".into()),
@@ -185,7 +204,7 @@ pub fn parse_manifest(text: &str) -> Result<Manifest, Vec<Problem>> {
                     None => p.push(&path, format!("must be an object, got {}", type_name(item))),
                     Some(m) => {
                         let mut f = Fields::new(&path, m);
-                        if let Some(e) = frame(&mut p, &mut f, i, default_raw) {
+                        if let Some(e) = frame(&mut p, &mut f, i, default_raw, default_bits) {
                             entries.push(e);
                         }
                     }
@@ -250,8 +269,45 @@ pub fn parse_manifest(text: &str) -> Result<Manifest, Vec<Problem>> {
             );
         }
     }
+    // One camera, one depth: every stated value the same.
+    let stated: Vec<(usize, u8)> = stacks
+        .iter()
+        .flatten()
+        .filter_map(|e| e.significant_bits.map(|b| (e.index, b)))
+        .collect();
+    if let Some(&(first, bits)) = stated.first() {
+        if let Some(&(other, b)) = stated.iter().find(|(_, b)| *b != bits) {
+            p.push(
+                &format!("frames[{other}].significant_bits"),
+                format!(
+                    "{b} differs from the {bits} of frames[{first}]: one camera writes one bit \
+                     depth; analyse the series separately"
+                ),
+            );
+        }
+        if stated.len() < stacks.iter().map(Vec::len).sum::<usize>() {
+            let missing = stacks
+                .iter()
+                .flatten()
+                .find(|e| e.significant_bits.is_none())
+                .map_or(0, |e| e.index);
+            p.push(
+                &format!("frames[{missing}].significant_bits"),
+                format!(
+                    "missing, while frames[{first}] states {bits}: state it at the top level \
+                     for the whole series, or on every frame"
+                ),
+            );
+        }
+    }
+    let significant_bits = stated.first().map(|(_, b)| *b);
     if p.is_empty() {
-        Ok(Manifest { stacks, roi })
+        Ok(Manifest {
+            stacks,
+            roi,
+            cfa,
+            significant_bits,
+        })
     } else {
         Err(p.into_problems())
     }
@@ -265,11 +321,18 @@ fn stack_name(f: &FrameEntry) -> String {
     s
 }
 
+/// `significant_bits`: a whole number of bits from 1 to 16.
+fn significant_bits(p: &mut Problems, f: &mut Fields<'_>) -> Option<u8> {
+    f.optional_integer(p, "significant_bits", 1, 16)
+        .and_then(|b| u8::try_from(b).ok())
+}
+
 fn frame(
     p: &mut Problems,
     f: &mut Fields<'_>,
     index: usize,
     default_raw: Option<RawGeometry>,
+    default_bits: Option<u8>,
 ) -> Option<FrameEntry> {
     let path = match f.get("path") {
         None => {
@@ -330,6 +393,7 @@ fn frame(
         );
     }
     let raw_here = f.object(p, "raw", false).and_then(|mut g| raw(p, &mut g));
+    let bits_here = significant_bits(p, f);
     f.finish(p);
     let path = path?;
     Some(FrameEntry {
@@ -340,6 +404,7 @@ fn frame(
         level,
         photons_per_pixel: photons,
         raw: raw_here.or(default_raw),
+        significant_bits: bits_here.or(default_bits),
     })
 }
 

@@ -13,20 +13,31 @@
 //! plot-ready series of a result.
 
 mod analysis;
+mod cfa;
 mod curve;
+mod depth;
+mod export;
+mod fft;
+mod figures;
 mod fit;
 mod formulas;
 mod manifest;
 mod pair;
+mod spatial;
 mod stack;
 
 pub use analysis::{
-    analyse, AnalysisError, Characterization, DarkCurrentFit, Diagnostic, FitReport, GainFit,
-    LinearityFit, MeasuredSensor, NonUniformityFit, PtcPoint, ReadNoiseFit, ResponsivityFit,
-    SaturationFit, GAIN_FIT_MAX_FRACTION, LINEARITY_RANGE_FRACTION, PRNU_FRACTION,
+    analyse, analyse_with, AnalysisError, AnalysisOptions, ChannelResult, Characterization,
+    ColourSummary, DarkCurrentFit, Diagnostic, FitReport, GainFit, LinearityFit, MeasuredSensor,
+    NonUniformityFit, PtcPoint, ReadNoiseFit, ResponsivityFit, SaturationFit, SpatialFit,
+    DEFECT_RULE, GAIN_FIT_MAX_FRACTION, LINEARITY_FIT, LINEARITY_RANGE_FRACTION, PRNU_FRACTION,
 };
-pub use curve::{curve_series, CurvePoint, CurveSeries};
-pub use fit::{fit_line, LineFit};
+pub use cfa::{Cfa, CFA_NAMES, CHANNEL_NAMES};
+pub use curve::{curve_series, curve_series_of_fit, CurvePoint, CurveSeries};
+pub use depth::{sample_depth, DepthContradiction, DepthSource, SampleDepth};
+pub use export::{spatial_csv, spatial_series, SpatialSeries};
+pub use figures::Figure;
+pub use fit::{fit_line, fit_line_weighted, LineFit};
 pub use formulas::{
     dark_current_e_per_s, dark_current_from_variance_e_per_s, dsnu_e, linearity_error_percent,
     prnu_percent, quantum_efficiency, read_noise_e, read_noise_upper_bound_e,
@@ -36,7 +47,11 @@ pub use manifest::{
     measure, parse_manifest, Failure, FrameEntry, Manifest, Problem, MANIFEST_VERSION,
 };
 pub use pair::{pair_sums, PairSums};
+pub use spatial::{
+    split_variance, HighNoise, Histogram, SpatialSummary, VarianceSplit, DEFECT_SIGMAS,
+    HIGH_NOISE_FACTOR, HIGH_NOISE_MIN_PAIRS, HISTOGRAM_BINS, SPECTROGRAM_MAX_LINES,
+};
 pub use stack::{
-    spatial_variance_corrected_dn2, FrameKind, Roi, StackAccumulator, StackError, StackSpec,
-    StackStats, MAX_FRAMES_PER_STACK,
+    spatial_variance_corrected_dn2, FrameKind, GroupStats, Roi, SampleInfo, StackAccumulator,
+    StackError, StackSpec, StackStats, MAX_FRAMES_PER_STACK,
 };

@@ -247,8 +247,176 @@ fn pair_sums_portable(a: &[u16], b: &[u16]) -> PairSums {
     out
 }
 
+// ---- the stack accumulator's fused pass ------------------------------------------------------
+
+/// Pixels per step of the fused pass: 16 lanes, each summing the samples at its own offset, so
+/// a lane's parity is the sample's column parity within the row (the caller's rows start at an
+/// even or odd column, which it knows).
+const LANES: usize = 16;
+
+/// What one pass over a row of a frame pair gives besides the per-pixel updates.
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq)]
+pub(crate) struct RowPass {
+    /// Sums over the samples at even offsets from the row's first sample, then at odd offsets.
+    pub parity: [PairSums; 2],
+    /// Bitwise OR of every sample of both rows (its trailing zeros give the sample step).
+    pub or: u16,
+    /// Largest sample of both rows.
+    pub max: u16,
+}
+
+/// One pass over a row pair (a, b): the pair's sums split by column parity, the OR and the
+/// maximum of the samples, and per pixel `sums += a + b` and (when `dsq` is not empty)
+/// `dsq += (a − b)²`, saturating.
+///
+/// Exact: within a block of [`BLOCK`] pixels each 32-bit lane receives BLOCK/16 = 2^11 samples
+/// (< 2^27); a per-pixel sum of at most 2^16 frames of 16-bit samples is below 2^32 (the
+/// stack's frame limit); (a − b)² < 2^32 fits a `u32`. A per-pixel `dsq` that saturates marks
+/// a pixel far noisier than any threshold, which is what it is used for.
+pub(crate) fn pair_pass(a: &[u16], b: &[u16], sums: &mut [u32], dsq: &mut [u32]) -> RowPass {
+    #[cfg(target_arch = "x86_64")]
+    {
+        if std::is_x86_feature_detected!("avx2") {
+            // SAFETY: the processor supports AVX2, checked just above; the function is the
+            // portable loop compiled with that feature enabled and touches no memory otherwise.
+            return unsafe { pair_pass_avx2(a, b, sums, dsq) };
+        }
+    }
+    pair_pass_portable(a, b, sums, dsq)
+}
+
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx2")]
+unsafe fn pair_pass_avx2(a: &[u16], b: &[u16], sums: &mut [u32], dsq: &mut [u32]) -> RowPass {
+    pair_pass_portable(a, b, sums, dsq)
+}
+
+#[inline(always)]
+fn pair_pass_portable(a: &[u16], b: &[u16], sums: &mut [u32], dsq: &mut [u32]) -> RowPass {
+    if dsq.is_empty() {
+        pass::<false>(a, b, sums, dsq)
+    } else {
+        pass::<true>(a, b, sums, dsq)
+    }
+}
+
+/// The per-pixel part of the pass: `sums += a + b`, and with `DSQ` `dsq += (a − b)²`
+/// (saturating); returns the OR and the maximum of the samples. A plain loop over equal-length
+/// slices, which the compiler vectorises.
+#[inline(always)]
+fn per_pixel<const DSQ: bool>(
+    a: &[u16],
+    b: &[u16],
+    sums: &mut [u32],
+    dsq: &mut [u32],
+) -> (u16, u16) {
+    let (mut or, mut max) = (0u16, 0u16);
+    if DSQ {
+        for (((x, y), s), d) in a.iter().zip(b).zip(sums.iter_mut()).zip(dsq.iter_mut()) {
+            let (x32, y32) = (u32::from(*x), u32::from(*y));
+            *s = s.wrapping_add(x32 + y32);
+            let diff = x32.abs_diff(y32);
+            *d = d.saturating_add(diff * diff);
+            or |= *x | *y;
+            max = max.max((*x).max(*y));
+        }
+    } else {
+        for ((x, y), s) in a.iter().zip(b).zip(sums.iter_mut()) {
+            *s = s.wrapping_add(u32::from(*x) + u32::from(*y));
+            or |= *x | *y;
+            max = max.max((*x).max(*y));
+        }
+    }
+    (or, max)
+}
+
+/// The reduction part: the pair sums of the samples at even and at odd offsets, in 16 lanes
+/// (lane j takes the offsets ≡ j mod 16, so its parity is j's).
+#[inline(always)]
+#[allow(clippy::indexing_slicing)] // OK because every index is j < LANES into arrays of LANES
+fn parity_sums(a: &[u16], b: &[u16]) -> [PairSums; 2] {
+    let n = a.len().min(b.len());
+    let mut out = [PairSums::default(); 2];
+    let mut dd = [0u64; LANES];
+    let mut ss = [0u64; LANES];
+    let mut start = 0;
+    while start < n {
+        let end = (start + BLOCK).min(n);
+        let ca = a.get(start..end).unwrap_or_default();
+        let cb = b.get(start..end).unwrap_or_default();
+        let mut sa = [0u32; LANES];
+        let mut sb = [0u32; LANES];
+        for (x, y) in ca.chunks_exact(LANES).zip(cb.chunks_exact(LANES)) {
+            let (Ok(x), Ok(y)) = (<&[u16; LANES]>::try_from(x), <&[u16; LANES]>::try_from(y))
+            else {
+                continue;
+            };
+            for j in 0..LANES {
+                let (xj, yj) = (u32::from(x[j]), u32::from(y[j]));
+                sa[j] += xj;
+                sb[j] += yj;
+                let d = xj.abs_diff(yj);
+                dd[j] += u64::from(d * d);
+                let s = u64::from(xj + yj);
+                ss[j] += s * s;
+            }
+        }
+        for j in 0..LANES {
+            out[j % 2].sum_a += u64::from(sa[j]);
+            out[j % 2].sum_b += u64::from(sb[j]);
+        }
+        start = end;
+    }
+    for j in 0..LANES {
+        out[j % 2].sum_diff_sq += dd[j];
+        out[j % 2].sum_sum_sq += ss[j];
+    }
+    let full = n - n % LANES;
+    for p in &mut out {
+        p.pixels = (full / 2) as u64;
+    }
+    // The last pixels that do not fill 16 lanes (only at the row's end: blocks are multiples
+    // of 16, so offsets keep their parity).
+    for i in full..n {
+        let (Some(&x), Some(&y)) = (a.get(i), b.get(i)) else {
+            continue;
+        };
+        let (x, y) = (u32::from(x), u32::from(y));
+        let s = u64::from(x + y);
+        out[i % 2] = out[i % 2].merged(PairSums {
+            pixels: 1,
+            sum_a: u64::from(x),
+            sum_b: u64::from(y),
+            sum_diff_sq: u64::from(x.abs_diff(y).pow(2)),
+            sum_sum_sq: s * s,
+        });
+    }
+    out
+}
+
+#[inline(always)]
+fn pass<const DSQ: bool>(a: &[u16], b: &[u16], sums: &mut [u32], dsq: &mut [u32]) -> RowPass {
+    let mut n = a.len().min(b.len()).min(sums.len());
+    if DSQ {
+        n = n.min(dsq.len());
+    }
+    let a = a.get(..n).unwrap_or_default();
+    let b = b.get(..n).unwrap_or_default();
+    let sums = sums.get_mut(..n).unwrap_or_default();
+    let (or, max) = if DSQ {
+        per_pixel::<true>(a, b, sums, dsq.get_mut(..n).unwrap_or_default())
+    } else {
+        per_pixel::<false>(a, b, sums, &mut [])
+    };
+    RowPass {
+        parity: parity_sums(a, b),
+        or,
+        max,
+    }
+}
+
 #[cfg(test)]
-#[allow(clippy::unwrap_used)] // OK because a failing test should stop loudly
+#[allow(clippy::unwrap_used, clippy::indexing_slicing)] // OK because a failing test should stop loudly
 mod tests {
     use super::*;
 
@@ -287,6 +455,41 @@ mod tests {
             .map(|i| (i.wrapping_mul(40_503) >> 3) as u16)
             .collect();
         assert_eq!(pair_sums(&a, &b), pair_sums_portable(&a, &b));
+    }
+
+    #[test]
+    fn fused_pass_matches_the_plain_sums_by_parity() {
+        // The fused pass over a row of odd length (three blocks and a tail) against pair_sums
+        // of the even- and odd-offset samples taken apart: the same integers.
+        let n = 2 * BLOCK + 37;
+        let a: Vec<u16> = (0..n as u32)
+            .map(|i| (i.wrapping_mul(2_654_435_761) >> 16) as u16)
+            .collect();
+        let b: Vec<u16> = (0..n as u32)
+            .map(|i| (i.wrapping_mul(40_503) >> 3) as u16)
+            .collect();
+        let mut sums = vec![1u32; n];
+        let mut dsq = vec![0u32; n];
+        let got = pair_pass(&a, &b, &mut sums, &mut dsq);
+        for parity in 0..2 {
+            let pick = |v: &[u16]| {
+                v.iter()
+                    .skip(parity)
+                    .step_by(2)
+                    .copied()
+                    .collect::<Vec<_>>()
+            };
+            assert_eq!(got.parity[parity], pair_sums(&pick(&a), &pick(&b)));
+        }
+        assert_eq!(got.or, a.iter().chain(&b).fold(0, |o, v| o | v));
+        assert_eq!(got.max, *a.iter().chain(&b).max().unwrap());
+        for i in [0, 1, 17, BLOCK, n - 1] {
+            assert_eq!(sums[i], 1 + u32::from(a[i]) + u32::from(b[i]));
+            assert_eq!(dsq[i], u32::from(a[i].abs_diff(b[i])).pow(2));
+        }
+        let mut sums2 = vec![1u32; n];
+        assert_eq!(pair_pass(&a, &b, &mut sums2, &mut []), got);
+        assert_eq!(sums2, sums);
     }
 
     #[test]

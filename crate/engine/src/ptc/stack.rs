@@ -1,13 +1,18 @@
 //! A stack (frames taken under the same conditions) reduced to its statistics one frame at a time.
 //!
 //! Frames are consumed as they arrive: consecutive frames are paired for the temporal variance,
-//! and for stacks of more than two frames a per-pixel integer sum is kept for the average frame.
-//! Memory is bounded by one held frame plus, for L > 2, one `u32` per pixel; no stack holds all
-//! its frames. This file fits nothing and knows nothing about other stacks.
+//! and a per-pixel integer sum is kept for the averaged frame (and, for dark stacks, a per-pixel
+//! sum of squared pair differences for the high-noise pixels). Every figure is kept per 2×2
+//! phase too, so that a colour sensor's channels come out of the same pass. Memory is bounded
+//! by one held frame plus one `u32` per pixel (two for a dark stack), whatever the number of
+//! frames; no stack holds all its frames. This file fits nothing and knows nothing about other
+//! stacks.
 
 use std::fmt;
 
-use super::pair::{pair_sums, PairSums};
+use super::cfa::Cfa;
+use super::pair::{pair_pass, PairSums, RowPass};
+use super::spatial::{summarise, SpatialSummary, SubImage};
 use crate::frames::Frame;
 
 /// Most frames one stack may have: 2^16. Keeps the per-pixel sum below 2^16 · (2^16 − 1) < 2^32
@@ -135,14 +140,43 @@ impl fmt::Display for StackError {
 
 impl std::error::Error for StackError {}
 
-/// A stack's statistics: everything the analysis needs, a few dozen numbers.
+/// One group of pixels of a stack (a 2×2 phase, a diagonal pair of phases, or all of them).
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct GroupStats {
+    /// Pixels per frame in the group.
+    pub pixels: u64,
+    /// μ_y, DN.
+    pub mean_dn: f64,
+    /// σ_y², mean over the pairs, DN².
+    pub temporal_variance_dn2: f64,
+    /// Spatial variance of the averaged frame before the temporal part is removed, DN².
+    pub spatial_variance_raw_dn2: f64,
+    /// s_y² = raw − σ_y²/L, DN².
+    pub spatial_variance_dn2: f64,
+}
+
+/// What the samples of a stack say about their bit depth.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, serde::Serialize)]
+pub struct SampleInfo {
+    /// Bits per sample of the container (8 or 16; the largest of the stack's frames).
+    pub container_bits: u8,
+    /// Bitwise OR of every sample analysed: its trailing zeros are the sample step's exponent.
+    pub or: u16,
+    /// Largest sample analysed.
+    pub max: u16,
+    /// Significant bits stated by every frame as MSB-aligned data (PNG sBIT), when they agree.
+    pub msb_bits: Option<u8>,
+}
+
+/// A stack's statistics: everything the analysis needs, a few dozen numbers plus, per
+/// channel, the spatial summary of the averaged frame (profiles, spectrograms, histograms).
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
 pub struct StackStats {
     /// The stack's conditions.
     pub spec: StackSpec,
     /// Frame width × height (whole frame, before the region of interest).
     pub frame_size: (u32, u32),
-    /// Pixels analysed per frame (the region of interest).
+    /// Pixels analysed per frame (the region of interest, or one channel of it).
     pub pixels: u64,
     /// Frame pairs used for the temporal variance (frames 1–2, 3–4, …).
     pub pairs: u32,
@@ -155,32 +189,104 @@ pub struct StackStats {
     /// Spatial variance s_y² = raw − σ_y²/L, in DN² (may be negative when the fixed pattern is
     /// below the temporal noise left after averaging; the analysis reports that).
     pub spatial_variance_dn2: f64,
-    /// The ADC resolution all frames stated (PGM maxval, raw bits), when they agree.
+    /// The ADC resolution all frames stated as LSB-aligned data (PGM maxval 2^b − 1 below the
+    /// container's, raw bits below 16), when they agree.
     pub significant_bits: Option<u8>,
+    /// What the samples say about their bit depth.
+    #[serde(skip)]
+    pub samples: SampleInfo,
+    /// The 2×2 phases (see [`Cfa`]), then the diagonals 0+3 and 1+2.
+    #[serde(skip)]
+    pub groups: Vec<GroupStats>,
+    /// The spatial summary of these pixels: the whole region for a mono layout, one channel
+    /// after [`StackStats::channel`].
+    #[serde(skip)]
+    pub spatial: Option<SpatialSummary>,
+    /// The spatial summary of each phase, for a Bayer layout.
+    #[serde(skip)]
+    pub phase_spatial: Vec<SpatialSummary>,
+}
+
+impl StackStats {
+    /// The same stack seen as one group of its pixels: a phase 0–3, or a diagonal 4 (phases
+    /// 0 and 3) or 5 (1 and 2). `None` for a group that was not kept.
+    #[must_use]
+    pub fn group(&self, g: usize) -> Option<StackStats> {
+        let gs = self.groups.get(g)?;
+        Some(StackStats {
+            pixels: gs.pixels,
+            mean_dn: gs.mean_dn,
+            temporal_variance_dn2: gs.temporal_variance_dn2,
+            spatial_variance_raw_dn2: gs.spatial_variance_raw_dn2,
+            spatial_variance_dn2: gs.spatial_variance_dn2,
+            spatial: self.phase_spatial.get(g).cloned(),
+            groups: Vec::new(),
+            phase_spatial: Vec::new(),
+            ..self.clone()
+        })
+    }
+
+    /// The same statistics in units `step` times larger (container DN → the camera's DN).
+    #[must_use]
+    pub fn scaled(&self, step: f64) -> StackStats {
+        let s2 = step * step;
+        let g = |x: &GroupStats| GroupStats {
+            pixels: x.pixels,
+            mean_dn: x.mean_dn / step,
+            temporal_variance_dn2: x.temporal_variance_dn2 / s2,
+            spatial_variance_raw_dn2: x.spatial_variance_raw_dn2 / s2,
+            spatial_variance_dn2: x.spatial_variance_dn2 / s2,
+        };
+        StackStats {
+            mean_dn: self.mean_dn / step,
+            temporal_variance_dn2: self.temporal_variance_dn2 / s2,
+            spatial_variance_raw_dn2: self.spatial_variance_raw_dn2 / s2,
+            spatial_variance_dn2: self.spatial_variance_dn2 / s2,
+            groups: self.groups.iter().map(g).collect(),
+            spatial: self.spatial.as_ref().map(|x| x.scaled(step)),
+            phase_spatial: self.phase_spatial.iter().map(|x| x.scaled(step)).collect(),
+            ..self.clone()
+        }
+    }
 }
 
 /// Accumulates one stack's frames into [`StackStats`].
 #[derive(Debug)]
 pub struct StackAccumulator {
     spec: StackSpec,
+    cfa: Cfa,
     frame_size: Option<(u32, u32)>,
     roi: Option<Roi>,
     held: Option<Frame>,
     pushed: u32,
     pairs: u32,
-    sum_all: u64,
-    variance_sum_dn2: f64,
-    last_pair: PairSums,
-    pixel_sums: Option<Vec<u32>>,
+    /// Σ over pairs of each group's pair variance: phases 0–3, diagonals 0+3 and 1+2, all.
+    variance_sums_dn2: [f64; 7],
+    pixel_sums: Vec<u32>,
+    pixel_dsq: Vec<u32>,
+    or: u16,
+    max: u16,
+    container_bits: u8,
     bits: Option<Option<u8>>,
+    msb_bits: Option<Option<u8>>,
 }
 
 impl StackAccumulator {
-    /// Start a stack of `spec.frames` frames, analysed over `roi` (whole frame if `None`).
+    /// Start a stack of `spec.frames` frames of a mono sensor, analysed over `roi` (whole
+    /// frame if `None`).
     ///
     /// # Errors
     /// [`StackError::FrameCount`] unless 2 ≤ frames ≤ [`MAX_FRAMES_PER_STACK`].
     pub fn new(spec: StackSpec, roi: Option<Roi>) -> Result<Self, StackError> {
+        Self::with_cfa(spec, roi, Cfa::Mono)
+    }
+
+    /// As [`StackAccumulator::new`], for a sensor with the colour filter layout `cfa`: the
+    /// spatial summaries are then made per channel instead of for the whole region.
+    ///
+    /// # Errors
+    /// [`StackError::FrameCount`] unless 2 ≤ frames ≤ [`MAX_FRAMES_PER_STACK`].
+    pub fn with_cfa(spec: StackSpec, roi: Option<Roi>, cfa: Cfa) -> Result<Self, StackError> {
         if spec.frames < 2 || spec.frames > MAX_FRAMES_PER_STACK {
             return Err(StackError::FrameCount {
                 frames: spec.frames,
@@ -188,16 +294,20 @@ impl StackAccumulator {
         }
         Ok(StackAccumulator {
             spec,
+            cfa,
             frame_size: None,
             roi,
             held: None,
             pushed: 0,
             pairs: 0,
-            sum_all: 0,
-            variance_sum_dn2: 0.0,
-            last_pair: PairSums::default(),
-            pixel_sums: None,
+            variance_sums_dn2: [0.0; 7],
+            pixel_sums: Vec::new(),
+            pixel_dsq: Vec::new(),
+            or: 0,
+            max: 0,
+            container_bits: 0,
             bits: None,
+            msb_bits: None,
         })
     }
 
@@ -231,39 +341,51 @@ impl StackAccumulator {
                 let roi = self.region(size);
                 check_roi(roi, size)?;
                 self.frame_size = Some(size);
+                let n = (roi.width as usize) * (roi.height as usize);
+                self.pixel_sums = vec![0; n];
+                if self.spec.kind == FrameKind::Dark {
+                    self.pixel_dsq = vec![0; n];
+                }
                 roi
             }
         };
         self.pushed += 1;
+        self.container_bits = self.container_bits.max(frame.sample_bits());
         self.bits = Some(match self.bits {
             None => frame.significant_bits(),
             Some(b) if b == frame.significant_bits() => b,
             Some(_) => None,
         });
-        if self.spec.frames > 2 {
-            let sums = self
-                .pixel_sums
-                .get_or_insert_with(|| vec![0; (roi.width as usize) * (roi.height as usize)]);
-            let mut sums_rows = sums.chunks_exact_mut(roi.width as usize);
-            for row in rows(&frame, roi) {
-                if let Some(acc) = sums_rows.next() {
-                    for (s, v) in acc.iter_mut().zip(row) {
-                        *s += u32::from(*v);
-                    }
-                }
-            }
-        }
+        self.msb_bits = Some(match self.msb_bits {
+            None => frame.msb_bits(),
+            Some(b) if b == frame.msb_bits() => b,
+            Some(_) => None,
+        });
         match self.held.take() {
             None => self.held = Some(frame),
             Some(first) => {
-                let mut s = PairSums::default();
-                for (ra, rb) in rows(&first, roi).zip(rows(&frame, roi)) {
-                    s = s.merged(pair_sums(ra, rb));
+                let w = roi.width as usize;
+                let mut phases = [PairSums::default(); 4];
+                let mut sums_rows = self.pixel_sums.chunks_exact_mut(w.max(1));
+                let mut dsq_rows = self.pixel_dsq.chunks_exact_mut(w.max(1));
+                let odd_x = (roi.x % 2) as usize;
+                for (r, (ra, rb)) in rows(&first, roi).zip(rows(&frame, roi)).enumerate() {
+                    let Some(sums) = sums_rows.next() else { break };
+                    let pass: RowPass =
+                        pair_pass(ra, rb, sums, dsq_rows.next().unwrap_or_default());
+                    let py = ((roi.y as usize + r) % 2) * 2;
+                    for (parity, p) in pass.parity.iter().enumerate() {
+                        if let Some(slot) = phases.get_mut(py + (parity + odd_x) % 2) {
+                            *slot = slot.merged(*p);
+                        }
+                    }
+                    self.or |= pass.or;
+                    self.max = self.max.max(pass.max);
                 }
-                self.sum_all += s.sum_a + s.sum_b;
-                self.variance_sum_dn2 += s.temporal_variance_dn2().unwrap_or(0.0);
+                for (sum, group) in self.variance_sums_dn2.iter_mut().zip(group_sums(&phases)) {
+                    *sum += group.temporal_variance_dn2().unwrap_or(0.0);
+                }
                 self.pairs += 1;
-                self.last_pair = s;
             }
         }
         Ok(())
@@ -281,28 +403,126 @@ impl StackAccumulator {
             });
         };
         let roi = self.region(size);
-        let n = u64::from(roi.width) * u64::from(roi.height);
+        let w = roi.width as usize;
+        let h = roi.height as usize;
         if let Some(odd) = self.held.take() {
-            self.sum_all += rows(&odd, roi)
-                .map(|r| r.iter().map(|v| u64::from(*v)).sum::<u64>())
-                .sum::<u64>();
+            for (row, sums) in rows(&odd, roi).zip(self.pixel_sums.chunks_exact_mut(w.max(1))) {
+                for (s, v) in sums.iter_mut().zip(row) {
+                    *s = s.wrapping_add(u32::from(*v));
+                    self.or |= *v;
+                    self.max = self.max.max(*v);
+                }
+            }
         }
-        let frames = f64::from(self.spec.frames);
+        let frames = self.spec.frames;
+        let l = f64::from(frames);
         let pairs = f64::from(self.pairs.max(1));
-        let temporal = self.variance_sum_dn2 / pairs;
-        let raw = match &self.pixel_sums {
-            Some(sums) => spatial_variance_of_sums(sums, self.spec.frames),
-            None => self.last_pair.spatial_variance_of_mean_dn2().unwrap_or(0.0),
+        // Exact integer moments of the per-pixel sums, per phase: n, ΣS, ΣS² (S < 2^32,
+        // ΣS² < 2^92 for n ≤ 2^28).
+        let mut moments = [(0u64, 0u128, 0u128); 4];
+        for (r, sums) in self.pixel_sums.chunks_exact(w.max(1)).enumerate() {
+            let py = ((roi.y as usize + r) % 2) * 2;
+            let px = (roi.x % 2) as usize;
+            for (c, s) in sums.iter().enumerate() {
+                if let Some(m) = moments.get_mut(py + (px + c) % 2) {
+                    let s = u64::from(*s);
+                    m.0 += 1;
+                    m.1 += u128::from(s);
+                    m.2 += u128::from(s * s);
+                }
+            }
+        }
+        let merge = |idx: &[usize]| {
+            idx.iter()
+                .filter_map(|i| moments.get(*i))
+                .fold((0u64, 0u128, 0u128), |a, m| {
+                    (a.0 + m.0, a.1 + m.1, a.2 + m.2)
+                })
         };
+        let group_moments = [
+            merge(&[0]),
+            merge(&[1]),
+            merge(&[2]),
+            merge(&[3]),
+            merge(&[0, 3]),
+            merge(&[1, 2]),
+            merge(&[0, 1, 2, 3]),
+        ];
+        let groups: Vec<GroupStats> = group_moments
+            .iter()
+            .zip(self.variance_sums_dn2)
+            .map(|(&(n, s1, s2), vsum)| {
+                let temporal = vsum / pairs;
+                let raw = spatial_variance_of_moments(n, s1, s2, frames);
+                GroupStats {
+                    pixels: n,
+                    mean_dn: if n > 0 {
+                        s1 as f64 / (n as f64 * l)
+                    } else {
+                        0.0
+                    },
+                    temporal_variance_dn2: temporal,
+                    spatial_variance_raw_dn2: raw,
+                    spatial_variance_dn2: spatial_variance_corrected_dn2(raw, temporal, frames),
+                }
+            })
+            .collect();
+        let whole = groups.get(6).cloned().unwrap_or(GroupStats {
+            pixels: 0,
+            mean_dn: 0.0,
+            temporal_variance_dn2: 0.0,
+            spatial_variance_raw_dn2: 0.0,
+            spatial_variance_dn2: 0.0,
+        });
+        let view = |x0, y0, step, data| sub_image(data, w, h, x0, y0, step);
+        let mut spatial = None;
+        let mut phase_spatial = Vec::new();
+        if self.cfa.is_bayer() {
+            for phase in 0..4usize {
+                // The phase's first pixel inside the region, in region coordinates.
+                let x0 = ((phase % 2) + roi.x as usize) % 2;
+                let y0 = ((phase / 2) + roi.y as usize) % 2;
+                let temporal = groups.get(phase).map_or(0.0, |g| g.temporal_variance_dn2);
+                if let Some(img) = view(x0, y0, 2, &self.pixel_sums) {
+                    phase_spatial.push(summarise(
+                        img,
+                        frames,
+                        temporal,
+                        view(x0, y0, 2, &self.pixel_dsq),
+                        self.pairs,
+                    ));
+                }
+            }
+            if phase_spatial.len() != 4 {
+                phase_spatial.clear();
+            }
+        } else if let Some(img) = view(0, 0, 1, &self.pixel_sums) {
+            spatial = Some(summarise(
+                img,
+                frames,
+                whole.temporal_variance_dn2,
+                view(0, 0, 1, &self.pixel_dsq),
+                self.pairs,
+            ));
+        }
         Ok(StackStats {
-            mean_dn: self.sum_all as f64 / (frames * n as f64),
-            temporal_variance_dn2: temporal,
-            spatial_variance_raw_dn2: raw,
-            spatial_variance_dn2: spatial_variance_corrected_dn2(raw, temporal, self.spec.frames),
+            mean_dn: whole.mean_dn,
+            temporal_variance_dn2: whole.temporal_variance_dn2,
+            spatial_variance_raw_dn2: whole.spatial_variance_raw_dn2,
+            spatial_variance_dn2: whole.spatial_variance_dn2,
             frame_size: size,
-            pixels: n,
+            pixels: whole.pixels,
             pairs: self.pairs,
             significant_bits: self.bits.flatten(),
+            samples: SampleInfo {
+                container_bits: self.container_bits,
+                or: self.or,
+                max: self.max,
+                msb_bits: self.msb_bits.flatten(),
+            },
+            groups,
+            spatial,
+            phase_spatial,
             spec: self.spec,
         })
     }
@@ -315,6 +535,43 @@ impl StackAccumulator {
             height,
         })
     }
+}
+
+/// A view of a region-sized buffer (`None` when empty).
+fn sub_image(
+    data: &[u32],
+    w: usize,
+    h: usize,
+    x0: usize,
+    y0: usize,
+    step: usize,
+) -> Option<SubImage<'_>> {
+    let columns = w.saturating_sub(x0).div_ceil(step);
+    let rows = h.saturating_sub(y0).div_ceil(step);
+    (columns > 0 && rows > 0 && !data.is_empty()).then_some(SubImage {
+        data,
+        stride: w,
+        x0,
+        y0,
+        step,
+        columns,
+        rows,
+    })
+}
+
+/// The pair sums of each group from those of the four phases: phases 0–3, the diagonals 0+3
+/// and 1+2, all four.
+fn group_sums(p: &[PairSums; 4]) -> [PairSums; 7] {
+    let [a, b, c, d] = *p;
+    [
+        a,
+        b,
+        c,
+        d,
+        a.merged(d),
+        b.merged(c),
+        a.merged(b).merged(c.merged(d)),
+    ]
 }
 
 fn check_roi(roi: Roi, (width, height): (u32, u32)) -> Result<(), StackError> {
@@ -340,8 +597,8 @@ fn rows(frame: &Frame, roi: Roi) -> impl Iterator<Item = &[u16]> {
         .map(move |row| row.get(x0..x1).unwrap_or_default())
 }
 
-/// Spatial variance of the average of L frames from the per-pixel sums, before the temporal
-/// part is removed, in DN².
+/// Spatial variance of the average of L frames from the moments of the per-pixel sums, before
+/// the temporal part is removed, in DN².
 ///
 /// # Formula
 /// ```text
@@ -351,18 +608,12 @@ fn rows(frame: &Frame, roi: Roi) -> impl Iterator<Item = &[u16]> {
 ///
 /// # Source
 /// EMVA 1288 Release 4.0 Linear, spatial nonuniformity (REFERENCES.md §4 item 11, from memory).
-fn spatial_variance_of_sums(sums: &[u32], frames: u32) -> f64 {
-    let n = sums.len() as u128;
+fn spatial_variance_of_moments(n: u64, s1: u128, s2: u128, frames: u32) -> f64 {
     if n < 2 {
         return 0.0;
     }
-    let (mut s1, mut s2) = (0u128, 0u128);
-    for &s in sums {
-        let s = u64::from(s);
-        s1 += u128::from(s);
-        s2 += u128::from(s * s);
-    }
-    let num = (n * s2).saturating_sub(s1 * s1);
+    let nn = u128::from(n);
+    let num = (nn * s2).saturating_sub(s1 * s1);
     let l = f64::from(frames);
     let n = n as f64;
     num as f64 / (n * (n - 1.0) * l * l)

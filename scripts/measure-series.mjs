@@ -1,0 +1,104 @@
+#!/usr/bin/env node
+// Measure (not a test: nothing passes or fails) `characterize` over a 12-megapixel colour series
+// with L = 16 frames per stack, against a plain read of the same files, natively and in the
+// page's frame worker in Chromium, and print the ratios (issue 10, item 6).
+//
+// The series (invented data, written to a temporary folder): an RGGB sensor (red and blue at
+// 0.55 and 0.40 of green) writing 12-bit samples at the top of 16-bit PGM files, one dark stack
+// of 16 frames, one flat stack of 16 frames near half of saturation and one of 2 frames
+// (the gain needs two levels): 34 files of 24 MB. Noise is uniform with the variance of the
+// Poisson–Gaussian model (not a physical draw; only the timing matters here).
+// native: `noise-budget characterize` (release build) timed against reading every file once
+// (node's readFileSync), same session. worker: the served page (dist/index.html on a local
+// server), the files chosen and analysed as a person does (time from Analyse to the answer),
+// against reading the same File objects once with arrayBuffer() in the page.
+// Needs scripts/build-page first. Usage: node scripts/measure-series.mjs [--keep]
+import { execFileSync } from 'node:child_process';
+import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { dirname, join, resolve } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { chromium } from 'playwright-core';
+import { serveStatic } from './static-server.mjs';
+
+const ROOT = resolve(dirname(fileURLToPath(import.meta.url)), '..');
+const DIST = resolve(ROOT, 'dist');
+const [W, H] = [4000, 3000];
+const dir = mkdtempSync(join(tmpdir(), 'noise-budget-series-'));
+const K = 0.25; const OFFSET = 100; const READ_E = 3;
+const RESPONSE = [0.55, 1, 0.98, 0.4];
+let state = 0x9e3779b9;
+const u = () => { state ^= state << 13; state >>>= 0; state ^= state >>> 17; state ^= state << 5; state >>>= 0; return state / 4294967296; };
+function frame(e) {
+  const header = Buffer.from(`P5\n${W} ${H}\n65535\n`);
+  const data = Buffer.alloc(W * H * 2);
+  const sd = [0, 1, 2, 3].map((p) => Math.sqrt(12 * (e * RESPONSE[p] + READ_E * READ_E)));
+  for (let y = 0; y < H; y++) {
+    for (let x = 0; x < W; x++) {
+      const p = (y & 1) * 2 + (x & 1);
+      const dn = Math.round(OFFSET + K * (e * RESPONSE[p] + sd[p] * (u() - 0.5)));
+      data.writeUInt16BE(Math.min(4095, Math.max(0, dn)) << 4, 2 * (y * W + x));
+    }
+  }
+  return Buffer.concat([header, data]);
+}
+const frames = [];
+const plan = [['dark', 'd', 0, 16], ['flat', 'half', 6000, 16], ['flat', 'low', 2000, 2]];
+for (const [kind, level, e, n] of plan) {
+  for (let j = 0; j < n; j++) {
+    const path = `${level}${j}.pgm`;
+    writeFileSync(join(dir, path), frame(e));
+    frames.push({ path, kind, exposure_time_s: 0.01, level });
+  }
+}
+const manifest = join(dir, 'manifest.json');
+writeFileSync(manifest, JSON.stringify({ version: 1, cfa: 'RGGB', frames }));
+const files = [manifest, ...frames.map((f) => join(dir, f.path))];
+console.log(`series: ${frames.length} files of ${W} × ${H} 16-bit PGM (${(frames.length * W * H * 2 / 1e9).toFixed(2)} GB), RGGB, L = 16`);
+
+const ms = (t) => Number(process.hrtime.bigint() - t) / 1e6;
+execFileSync('cargo', ['build', '--quiet', '--release', '--locked', '-p', 'noise-budget'], { cwd: ROOT, stdio: 'inherit' });
+const exe = join(ROOT, 'target/release/noise-budget');
+let t = process.hrtime.bigint();
+let sum = 0;
+for (const f of files) sum += readFileSync(f).length;
+const readMs = ms(t);
+t = process.hrtime.bigint();
+const out = execFileSync(exe, ['characterize', manifest], { encoding: 'utf8', maxBuffer: 1 << 28 });
+const nativeMs = ms(t);
+const c = JSON.parse(out);
+console.log(`native: plain read ${readMs.toFixed(0)} ms (${sum} bytes), characterize ${nativeMs.toFixed(0)} ms = ${(nativeMs / readMs).toFixed(2)} × the read` +
+  ` (K green ${c.sensor.system_gain_dn_per_e.toFixed(4)} DN/e⁻, adc_bits ${c.sensor.adc_bits})`);
+
+const browser = await chromium.launch({
+  executablePath: process.env.CHROMIUM ?? '/usr/bin/chromium', headless: true,
+  args: ['--no-sandbox', '--disable-gpu', '--disable-dev-shm-usage'],
+});
+const server = await serveStatic(DIST, 0);
+try {
+  const page = await browser.newPage();
+  await page.goto(`${server.origin}/`);
+  await page.waitForSelector('html[data-ready]', { timeout: 15000 });
+  // The floor: the same File objects read once in the page.
+  await page.evaluate(() => { const i = document.createElement('input'); i.type = 'file'; i.multiple = true; i.id = 'bench-files'; document.body.append(i); });
+  await page.setInputFiles('#bench-files', files);
+  const pageReadMs = await page.evaluate(async () => {
+    const t0 = performance.now();
+    let n = 0;
+    for (const f of document.getElementById('bench-files').files) n += (await f.arrayBuffer()).byteLength;
+    return performance.now() - t0 + n * 0;
+  });
+  await page.setInputFiles('#measure-files', files);
+  await page.waitForFunction(() => /described/.test(document.getElementById('measure-status')?.textContent ?? ''));
+  const t0 = Date.now();
+  await page.click('#measure-run');
+  await page.waitForFunction(() => /^Analysed|could not be analysed/.test(document.getElementById('measure-status')?.textContent ?? ''), null, { timeout: 600000 });
+  const workerMs = Date.now() - t0;
+  const k = await page.$eval('[data-measure="system_gain_dn_per_e"]', (e) => e.dataset.value);
+  console.log(`worker: plain read in the page ${pageReadMs.toFixed(0)} ms, analysis ${workerMs} ms = ${(workerMs / pageReadMs).toFixed(2)} × the read` +
+    ` (K green ${Number(k).toFixed(4)}); worker / native ${(workerMs / nativeMs).toFixed(2)} ×`);
+} finally {
+  await browser.close();
+  server.server.close();
+  if (!process.argv.includes('--keep')) rmSync(dir, { recursive: true, force: true });
+}
