@@ -87,22 +87,9 @@ pub fn run(manifest_path: &Path, as_table: bool, spatial_csv: Option<&Path>) -> 
 
 // ---- table ----------------------------------------------------------------------------------
 
-/// A number to 4 significant digits, plain for everyday magnitudes.
+/// A number to 4 significant digits, never E-notation (`crate::human`).
 fn sig(x: f64) -> String {
-    let a = x.abs();
-    if a != 0.0 && !(1e-3..1e6).contains(&a) {
-        format!("{x:.3e}")
-    } else {
-        let digits = if a == 0.0 {
-            0
-        } else {
-            // OK because a is within [1e-3, 1e6): log10 is within [-3, 6).
-            #[allow(clippy::cast_possible_truncation)]
-            let d = 3 - a.log10().floor() as i32;
-            usize::try_from(d.max(0)).unwrap_or(0)
-        };
-        format!("{x:.digits$}")
-    }
+    crate::human::plain(x)
 }
 
 fn figure_value(f: &ptc::Figure) -> String {
@@ -126,14 +113,14 @@ fn points_table(o: &mut String, f: &ptc::FitReport) {
     let _ = writeln!(
         o,
         "  {:<5} {:>10} {:<10} {:>6} {:>12} {:>12} {:>12} {:>12}  fit",
-        "kind", "t [s]", "level", "frames", "mean [DN]", "above dark", "σ² [DN²]", "s² [DN²]"
+        "kind", "exposure", "level", "frames", "mean [DN]", "above dark", "σ² [DN²]", "s² [DN²]"
     );
     for p in &f.points {
         let _ = writeln!(
             o,
             "  {:<5} {:>10} {:<10} {:>6} {:>12} {:>12} {:>12} {:>12}  {}",
             p.kind.as_str(),
-            sig(p.exposure_time_s),
+            crate::human::seconds(p.exposure_time_s),
             p.level.as_deref().unwrap_or("-"),
             p.frames,
             sig(p.mean_dn),
@@ -215,9 +202,9 @@ mod tests {
 
     #[test]
     fn significant_digits() {
-        assert_eq!(sig(0.25), "0.2500");
-        assert_eq!(sig(2.5), "2.500");
+        assert_eq!(sig(0.25), "0.25");
+        assert_eq!(sig(2.5), "2.5");
         assert_eq!(sig(10000.0), "10000");
-        assert_eq!(sig(1.5e7), "1.500e7");
+        assert_eq!(sig(1.5e7), "1.5 × 10⁷");
     }
 }
