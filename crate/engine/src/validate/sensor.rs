@@ -4,7 +4,7 @@
 //!
 //! The rules joining the sensor with the light are in `light.rs`.
 
-use super::ReadKey;
+use super::{key, ReadKey};
 use crate::input::{show, Fields, Problems};
 use crate::keys::{self, Presence, Rule};
 use crate::scenario::{Readout, Sensor};
@@ -28,7 +28,7 @@ const fn fallback(rule: Rule) -> f64 {
     }
 }
 
-pub(super) fn sensor(p: &mut Problems, f: &mut Fields<'_>) -> Option<Sensor> {
+pub(super) fn read_sensor(p: &mut Problems, f: &mut Fields<'_>) -> Option<Sensor> {
     use keys::{
         ADC_BITS, BLACK_LEVEL_DN, CONVERSION_GAIN_UV_PER_E, DARK_CURRENT_DOUBLING_C,
         DARK_CURRENT_E_PER_S, DARK_CURRENT_REFERENCE_C, DSNU_E, FULL_WELL_E, PIXEL_PITCH_UM,
@@ -36,30 +36,20 @@ pub(super) fn sensor(p: &mut Problems, f: &mut Fields<'_>) -> Option<Sensor> {
         RESPONSE_FROM_NM, RESPONSE_TO_NM, SENSE_NODE_CAPACITANCE_FF, SUMMING_WELL_E,
         SYSTEM_GAIN_DN_PER_E,
     };
-    let pixel_pitch_um = f.number_key(p, PIXEL_PITCH_UM.name, PIXEL_PITCH_UM.rule);
+    let pixel_pitch_um = f.number_key(p, key!(PIXEL_PITCH_UM));
     // Required unless a QE curve covers the light; checked with the light (`check_light`).
-    let quantum_efficiency = f.number_key(p, QUANTUM_EFFICIENCY.name, QUANTUM_EFFICIENCY.rule);
-    let qe_curve = f.pairs_key(
-        p,
-        QUANTUM_EFFICIENCY_CURVE.name,
-        QUANTUM_EFFICIENCY_CURVE.rule,
-    );
+    let quantum_efficiency = f.number_key(p, key!(QUANTUM_EFFICIENCY));
+    let qe_curve = f.pairs_key(p, key!(QUANTUM_EFFICIENCY_CURVE));
     let band_default = qe_curve
         .as_ref()
         .and_then(|c| Some((c.first()?.0, c.last()?.0)))
         .unwrap_or(DEFAULT_BAND_NM);
-    let response_from_nm = f.number_key_or(
-        p,
-        RESPONSE_FROM_NM.name,
-        RESPONSE_FROM_NM.rule,
-        band_default.0,
-    );
-    let response_to_nm =
-        f.number_key_or(p, RESPONSE_TO_NM.name, RESPONSE_TO_NM.rule, band_default.1);
+    let response_from_nm = f.number_key_or(p, key!(RESPONSE_FROM_NM), band_default.0);
+    let response_to_nm = f.number_key_or(p, key!(RESPONSE_TO_NM), band_default.1);
     if let (Some(a), Some(b)) = (response_from_nm, response_to_nm) {
         if b <= a {
             p.push(
-                &f.path_of(RESPONSE_TO_NM.name),
+                &f.path_of(const { RESPONSE_TO_NM.name }),
                 format!(
                     "must be above sensor.response_from_nm ({}), got {}",
                     show(a),
@@ -68,51 +58,31 @@ pub(super) fn sensor(p: &mut Problems, f: &mut Fields<'_>) -> Option<Sensor> {
             );
         }
     }
-    let full_well_e = f.number_key(p, FULL_WELL_E.name, FULL_WELL_E.rule);
-    let read_noise_e = f.number_key(p, READ_NOISE_E.name, READ_NOISE_E.rule);
-    let capacitance = f.number_key(
-        p,
-        SENSE_NODE_CAPACITANCE_FF.name,
-        SENSE_NODE_CAPACITANCE_FF.rule,
-    );
-    let gain_uv = f.number_key(
-        p,
-        CONVERSION_GAIN_UV_PER_E.name,
-        CONVERSION_GAIN_UV_PER_E.rule,
-    );
-    let readout = f
-        .choice_key(p, READOUT.name, READOUT.rule)
-        .map(|s| match s {
-            "dds" => Readout::Dds,
-            "single" => Readout::Single,
-            _ => Readout::Cds,
-        });
-    let dark_current_e_per_s =
-        f.number_key(p, DARK_CURRENT_E_PER_S.name, DARK_CURRENT_E_PER_S.rule);
-    let dark_current_reference_c = f.number_key(
-        p,
-        DARK_CURRENT_REFERENCE_C.name,
-        DARK_CURRENT_REFERENCE_C.rule,
-    );
-    let dark_current_doubling_c = f.number_key(
-        p,
-        DARK_CURRENT_DOUBLING_C.name,
-        DARK_CURRENT_DOUBLING_C.rule,
-    );
-    let dsnu_e = f.number_key(p, DSNU_E.name, DSNU_E.rule);
-    let prnu_percent = f.number_key(p, PRNU_PERCENT.name, PRNU_PERCENT.rule);
-    let adc_bits = f.whole_key(p, ADC_BITS.name, ADC_BITS.rule);
-    let system_gain_dn_per_e =
-        f.number_key(p, SYSTEM_GAIN_DN_PER_E.name, SYSTEM_GAIN_DN_PER_E.rule);
-    let black_level_dn = f.number_key(p, BLACK_LEVEL_DN.name, BLACK_LEVEL_DN.rule);
-    let summing_well_e = f.number_key(p, SUMMING_WELL_E.name, SUMMING_WELL_E.rule);
+    let full_well_e = f.number_key(p, key!(FULL_WELL_E));
+    let read_noise_e = f.number_key(p, key!(READ_NOISE_E));
+    let capacitance = f.number_key(p, key!(SENSE_NODE_CAPACITANCE_FF));
+    let gain_uv = f.number_key(p, key!(CONVERSION_GAIN_UV_PER_E));
+    let readout = f.choice_key(p, key!(READOUT)).map(|s| match s {
+        "dds" => Readout::Dds,
+        "single" => Readout::Single,
+        _ => Readout::Cds,
+    });
+    let dark_current_e_per_s = f.number_key(p, key!(DARK_CURRENT_E_PER_S));
+    let dark_current_reference_c = f.number_key(p, key!(DARK_CURRENT_REFERENCE_C));
+    let dark_current_doubling_c = f.number_key(p, key!(DARK_CURRENT_DOUBLING_C));
+    let dsnu_e = f.number_key(p, key!(DSNU_E));
+    let prnu_percent = f.number_key(p, key!(PRNU_PERCENT));
+    let adc_bits = f.whole_key(p, key!(ADC_BITS));
+    let system_gain_dn_per_e = f.number_key(p, key!(SYSTEM_GAIN_DN_PER_E));
+    let black_level_dn = f.number_key(p, key!(BLACK_LEVEL_DN));
+    let summing_well_e = f.number_key(p, key!(SUMMING_WELL_E));
     f.finish(p);
 
     if let (Some(bits), Some(black)) = (adc_bits, black_level_dn) {
         let full_scale = f64::from(bits).exp2() - 1.0;
         if black >= full_scale {
             p.push(
-                &f.path_of(BLACK_LEVEL_DN.name),
+                &f.path_of(const { BLACK_LEVEL_DN.name }),
                 format!(
                     "must be below the ADC's full scale 2^adc_bits − 1 = {}, got {}",
                     show(full_scale),
@@ -124,10 +94,10 @@ pub(super) fn sensor(p: &mut Problems, f: &mut Fields<'_>) -> Option<Sensor> {
     if let Some(r @ (Readout::Dds | Readout::Single)) = readout {
         if capacitance.is_none()
             && gain_uv.is_none()
-            && !f.had_problem_at(p, SENSE_NODE_CAPACITANCE_FF.name)
+            && !f.had_problem_at(p, const { SENSE_NODE_CAPACITANCE_FF.name })
         {
             p.push(
-                &f.path_of(SENSE_NODE_CAPACITANCE_FF.name),
+                &f.path_of(const { SENSE_NODE_CAPACITANCE_FF.name }),
                 format!(
                     "required when sensor.readout is \"{}\": reset noise needs the sense-node \
                      capacitance; give it, or sensor.conversion_gain_uv_per_e to derive it",
