@@ -111,7 +111,7 @@ for (const target of TARGETS) {
       const report = cliReport(expected);
       assert.deepEqual(compareWithReport(shown, report), []);
       // The capacitance left empty is shown as derived from the conversion gain.
-      assert.ok(await page.isVisible('#d-cap'), 'derived capacitance visible');
+      assert.ok(await page.isVisible('#d-sense-node-capacitance'), 'derived capacitance visible');
       assert.equal(Number(shown.sense_node_capacitance_ff), report.sense_node_capacitance_ff);
 
       // The address carries exactly this scenario, and opening it shows the same.
@@ -361,7 +361,7 @@ describe('the served page: keeping, sharing, keyboard, print, narrow column', ()
     }
     assert.ok(found, 'the read noise field is reachable with Tab');
     // Its explanation shows while it has focus.
-    assert.ok(await page.isVisible('#h-read'));
+    assert.ok(await page.isVisible('#h-read-noise'));
     await page.keyboard.press('Control+A');
     await page.keyboard.type('2.5');
     want.sensor.read_noise_e = 2.5;

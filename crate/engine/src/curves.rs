@@ -69,10 +69,11 @@ pub fn amount_key(light: &Light) -> &'static str {
     let kind = keys::light_kind_name(light);
     keys::LIGHT_KIND_AMOUNTS
         .iter()
-        .find(|(name, _)| *name == kind)
-        .map_or(const { keys::PHOTON_FLUX_PER_UM2_S.path }, |(_, amount)| {
-            amount
-        })
+        .find(|(name, _, _)| *name == kind)
+        .map_or(
+            const { keys::PHOTON_FLUX_PER_UM2_S.path },
+            |(_, amount, _)| amount,
+        )
 }
 
 /// The light's amount, in the unit of [`amount_key`].

@@ -473,8 +473,8 @@ mod tests {
             id: "c".into(),
             title: "SNR & exposure".into(),
             desc: "a <test>".into(),
-            x: Axis::fitted("exposure time", "s", Scale::Log, [1e-3, 1.0], 12.0),
-            y: Axis::fitted("SNR", "", Scale::Log, [1.0, 100.0], 6.0),
+            x: Axis::fitted("exposure time", "s", Scale::Log, &[1e-3, 1.0], 12.0),
+            y: Axis::fitted("SNR", "", Scale::Log, &[1.0, 100.0], 6.0),
             regions: vec![Region {
                 from: 1e-3,
                 to: 1e-2,

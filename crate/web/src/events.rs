@@ -29,7 +29,12 @@ pub enum Action {
 
 /// Listen to `kind` events on `target` for as long as the page lives.
 pub fn on(target: &EventTarget, kind: &str, handler: impl FnMut(Event) + 'static) {
-    let cb = Closure::<dyn FnMut(Event)>::new(handler);
+    listen(target, kind, Box::new(handler));
+}
+
+/// [`on`] without a copy per handler type (the page's wasm holds one of these, not thirty).
+fn listen(target: &EventTarget, kind: &str, handler: Box<dyn FnMut(Event)>) {
+    let cb = Closure::wrap(handler);
     let _ = target.add_event_listener_with_callback(kind, cb.as_ref().unchecked_ref());
     // The listener lives as long as the page.
     cb.forget();
@@ -47,6 +52,15 @@ pub fn when_settled(
     promise: &js_sys::Promise,
     ok: impl FnOnce(JsValue) + 'static,
     failed: impl FnOnce(JsValue) + 'static,
+) {
+    settle(promise, Box::new(ok), Box::new(failed));
+}
+
+/// [`when_settled`] without a copy per callback type.
+fn settle(
+    promise: &js_sys::Promise,
+    ok: Box<dyn FnOnce(JsValue)>,
+    failed: Box<dyn FnOnce(JsValue)>,
 ) {
     let ok = Closure::once(ok);
     let failed = Closure::once(failed);

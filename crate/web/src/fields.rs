@@ -4,29 +4,8 @@
 //! field that is not a number is passed on as text so that the engine names the broken rule.
 //! No DOM, no engine call, no formula.
 
+use engine::keys;
 use serde_json::{Map, Value};
-
-/// The light kinds the page's light choices offer, each named by the choice's value, with the
-/// keys that mark a light object as that kind (the first kind with one present wins).
-/// Order matters: the irradiance with a spectrum is told from the monochromatic one by its
-/// `spectrum`, so it comes first.
-pub const LIGHT_KINDS: &[(&str, &[&str])] = &[
-    ("photon_flux_per_um2_s", &["photon_flux_per_um2_s"]),
-    ("irradiance_spectrum", &["irradiance_w_per_m2+spectrum"]),
-    (
-        "irradiance_w_per_m2",
-        &["irradiance_w_per_m2", "wavelength_nm"],
-    ),
-    ("photons_per_pixel", &["photons_per_pixel"]),
-    ("illuminance_lux", &["illuminance_lux"]),
-    ("scene_illuminance_lux", &["scene_illuminance_lux"]),
-    ("scene_irradiance_w_per_m2", &["scene_irradiance_w_per_m2"]),
-    ("scene_luminance_cd_per_m2", &["scene_luminance_cd_per_m2"]),
-    (
-        "scene_radiance_w_per_m2_sr",
-        &["scene_radiance_w_per_m2_sr"],
-    ),
-];
 
 /// How a field's text becomes a JSON value.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -123,16 +102,24 @@ pub fn text_for(value: Option<&Value>) -> String {
     }
 }
 
-/// Which light kind the light object at `path` (`light`, `background_light`) of a scenario
-/// gives: the first kind with a marking key present (`a+b`: both present).
+/// Which light kind (`engine::keys::LIGHT_KINDS`) the light object at `path` (`light`,
+/// `background_light`) of a scenario gives: the kind whose amount key it has (of the two
+/// irradiance kinds, the one that agrees on having a spectrum); a wavelength alone is the
+/// monochromatic irradiance it is incomplete without.
 #[must_use]
 pub fn light_kind_of(scenario: &Value, path: &str) -> Option<&'static str> {
     let light = value_at(scenario, path)?;
-    let has = |mark: &str| mark.split('+').all(|k| value_at(light, k).is_some());
-    LIGHT_KINDS
+    let has = |key: &str| value_at(light, key).is_some();
+    let spectrum = has(const { keys::SPECTRUM.name });
+    keys::LIGHT_KIND_AMOUNTS
         .iter()
-        .find(|(_, marks)| marks.iter().any(|m| has(m)))
-        .map(|(name, _)| *name)
+        .filter(|(_, amount, _)| amount.strip_prefix("light.").is_some_and(&has))
+        .min_by_key(|(_, _, with_spectrum)| *with_spectrum != spectrum)
+        .map(|(name, _, _)| *name)
+        .or_else(|| {
+            has(const { keys::WAVELENGTH_NM.name })
+                .then_some(const { keys::IRRADIANCE_W_PER_M2.name })
+        })
 }
 
 /// A line of pasted wavelength/value pairs that is not two numbers.

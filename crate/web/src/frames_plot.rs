@@ -151,8 +151,8 @@ pub fn ptc_svg(s: &CurveSeries, k: f64) -> String {
         .chain(s.model.iter().map(|m| m.1))
         .chain(std::iter::once(s.dark_noise_dn));
     let f = Plot {
-        x: Axis::padded(xs, Scale::Log, false),
-        y: Axis::padded(ys, Scale::Log, false),
+        x: Axis::padded(&xs.collect::<Vec<_>>(), Scale::Log, false),
+        y: Axis::padded(&ys.collect::<Vec<_>>(), Scale::Log, false),
         height: H,
     };
     let mut out = String::new();
@@ -206,12 +206,17 @@ pub fn ptc_svg(s: &CurveSeries, k: f64) -> String {
 pub fn fit_svg(s: &CurveSeries) -> String {
     let used: Vec<_> = s.points.iter().filter(|p| p.used_in_fit).collect();
     let f = Plot {
-        x: Axis::padded(s.points.iter().map(|p| p.signal_dn), Scale::Linear, true),
+        x: Axis::padded(
+            &s.points.iter().map(|p| p.signal_dn).collect::<Vec<_>>(),
+            Scale::Linear,
+            true,
+        ),
         y: Axis::padded(
-            s.points
+            &s.points
                 .iter()
                 .map(|p| p.variance_above_dark_dn2)
-                .chain(s.fit_line.iter().map(|l| l.1)),
+                .chain(s.fit_line.iter().map(|l| l.1))
+                .collect::<Vec<_>>(),
             Scale::Linear,
             true,
         ),
@@ -254,7 +259,11 @@ pub fn fit_svg(s: &CurveSeries) -> String {
         .collect();
     let g = Plot {
         x: f.x.clone(),
-        y: Axis::padded(res.iter().map(|r| r.1), Scale::Linear, true),
+        y: Axis::padded(
+            &res.iter().map(|r| r.1).collect::<Vec<_>>(),
+            Scale::Linear,
+            true,
+        ),
         height: rh,
     };
     open_svg(

@@ -11,6 +11,8 @@ pub mod demos;
 pub mod display;
 pub mod fields;
 pub mod ids;
+#[cfg(not(target_arch = "wasm32"))]
+pub mod markup;
 pub mod plot;
 pub mod svg;
 

@@ -119,14 +119,14 @@ impl Axis {
         label: &str,
         unit: &'static str,
         scale: Scale,
-        values: impl IntoIterator<Item = f64>,
+        values: &[f64],
         max_decades: f64,
     ) -> Axis {
-        let usable = |v: &f64| v.is_finite() && (scale == Scale::Linear || *v > 0.0);
+        let usable = |v: &&f64| v.is_finite() && (scale == Scale::Linear || **v > 0.0);
         let (mut lo, mut hi) = values
-            .into_iter()
+            .iter()
             .filter(usable)
-            .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), v| {
+            .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), &v| {
                 (a.min(v), b.max(v))
             });
         if lo > hi {
@@ -161,12 +161,12 @@ impl Axis {
     /// linear one 5 % either side, and zero included when `with_zero`. Unnamed (the caller
     /// writes its own axis names).
     #[must_use]
-    pub fn padded(values: impl IntoIterator<Item = f64>, scale: Scale, with_zero: bool) -> Axis {
+    pub fn padded(values: &[f64], scale: Scale, with_zero: bool) -> Axis {
         let log = scale == Scale::Log;
         let (mut lo, mut hi) = (f64::INFINITY, f64::NEG_INFINITY);
-        for v in values
-            .into_iter()
-            .filter(|v| v.is_finite() && (!log || *v > 0.0))
+        for &v in values
+            .iter()
+            .filter(|v| v.is_finite() && (!log || **v > 0.0))
         {
             lo = lo.min(v);
             hi = hi.max(v);
@@ -371,7 +371,7 @@ mod tests {
 
     #[test]
     fn log_axes_take_whole_decades_and_tick_each() {
-        let a = Axis::fitted("x", "s", Scale::Log, [2e-4, 0.0, 3.0, f64::NAN], 12.0);
+        let a = Axis::fitted("x", "s", Scale::Log, &[2e-4, 0.0, 3.0, f64::NAN], 12.0);
         assert_eq!((a.lo, a.hi), (1e-4, 10.0));
         let labels: Vec<String> = a.ticks().into_iter().map(|t| t.1).collect();
         assert_eq!(labels, ["100 µs", "1 ms", "10 ms", "100 ms", "1 s", "10 s"]);
@@ -379,28 +379,28 @@ mod tests {
         assert!((a.value_at(0.4) / 1e-2 - 1.0).abs() < 1e-12);
         assert_eq!(a.fraction(0.0), None);
         // Capped at max_decades below the top.
-        let a = Axis::fitted("y", "", Scale::Log, [1e-9, 50.0], 4.0);
+        let a = Axis::fitted("y", "", Scale::Log, &[1e-9, 50.0], 4.0);
         assert_eq!((a.lo, a.hi), (1e-2, 100.0));
     }
 
     #[test]
     fn linear_ticks_are_round_steps() {
-        let a = Axis::fitted("T", "°C", Scale::Linear, [-15.0, 65.0], 0.0);
+        let a = Axis::fitted("T", "°C", Scale::Linear, &[-15.0, 65.0], 0.0);
         let ticks: Vec<f64> = a.ticks().into_iter().map(|t| t.0).collect();
         assert_eq!(ticks, [0.0, 20.0, 40.0, 60.0]);
         // A long unit moves from the ticks to the axis name.
-        let a = Axis::fitted("flux", "ph/(µm²·s)", Scale::Log, [1.0, 1e3], 12.0);
+        let a = Axis::fitted("flux", "ph/(µm²·s)", Scale::Log, &[1.0, 1e3], 12.0);
         assert_eq!(a.ticks()[3].1, "1 k");
         assert_eq!(a.title(), "flux, ph/(µm²·s)");
     }
 
     #[test]
     fn padded_axes_hold_their_values_with_room() {
-        let a = Axis::padded([2.0, 80.0], Scale::Log, false);
+        let a = Axis::padded(&[2.0, 80.0], Scale::Log, false);
         assert_eq!((a.lo, a.hi), (1.0, 100.0));
-        let a = Axis::padded([10.0, 30.0], Scale::Linear, true);
+        let a = Axis::padded(&[10.0, 30.0], Scale::Linear, true);
         assert_eq!((a.lo, a.hi), (-1.5, 31.5));
-        let a = Axis::padded([f64::NAN], Scale::Linear, false);
+        let a = Axis::padded(&[f64::NAN], Scale::Linear, false);
         assert_eq!((a.lo, a.hi), (-0.05, 1.05));
     }
 

@@ -339,12 +339,12 @@ pub fn build(
             markers.push(Marker { x: px, y, color });
         }
     }
-    let x = Axis::fitted(&x_label, x_unit, x_scale, all_x.iter().copied(), X_DECADES);
+    let x = Axis::fitted(&x_label, x_unit, x_scale, &all_x, X_DECADES);
     let y = Axis::fitted(
         "signal-to-noise ratio",
         "",
         Scale::Log,
-        lines
+        &lines
             .iter()
             .flat_map(|l| l.points.iter().map(|p| p.1))
             .collect::<Vec<_>>(),
@@ -420,7 +420,7 @@ fn budget(
             "Each noise source's share of the total variance, stacked to 100 %, against {label} ({}). The vertical line is this scenario.",
             if x_scale == Scale::Log { "log scale" } else { "linear scale" }
         ),
-        x: Axis::fitted(label, unit, x_scale, xs.iter().copied(), X_DECADES),
+        x: Axis::fitted(label, unit, x_scale, xs, X_DECADES),
         y: Axis {
             label: "share of total variance".into(),
             unit: "%",

@@ -524,7 +524,6 @@ fn say(text: &str) {
 
 /// Draw the SVG on a canvas at twice its size and download it as PNG.
 fn png(file: &str, markup: &str) {
-    use base64::Engine as _;
     let Some(doc) = dom::document() else { return };
     let (Some(img), Some(canvas)) = (
         doc.create_element("img")
@@ -572,8 +571,9 @@ fn png(file: &str, markup: &str) {
         }
     });
     img.set_onload(Some(onload.unchecked_ref()));
-    let data = base64::engine::general_purpose::STANDARD.encode(markup.as_bytes());
-    img.set_src(&format!("data:image/svg+xml;base64,{data}"));
+    // Percent-encoded text: an SVG needs no base64 in a data URL.
+    let data = String::from(js_sys::encode_uri_component(markup));
+    img.set_src(&format!("data:image/svg+xml;charset=utf-8,{data}"));
 }
 
 /// The comparison's columns: the pins, then the scenario on screen when it is not one of them.
