@@ -1,11 +1,14 @@
-// Shared helpers for the page tests: the browser (Debian's Chromium through playwright-core),
-// the static server, the command-line tool as the reference, and reading the page's figures.
+// Shared helpers for the page tests: a suite's set-up (the browser, Debian's Chromium through
+// playwright-core, and the static server, closed after the suite however it ends), pages
+// closed after their test, passed or failed, the command-line tool as the reference, and
+// reading the page's figures.
 import { execFileSync } from 'node:child_process';
 import { mkdirSync, mkdtempSync, readFileSync, readdirSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { dirname, join, resolve } from 'node:path';
 import { createRequire } from 'node:module';
 import { fileURLToPath, pathToFileURL } from 'node:url';
+import { after, before } from 'node:test';
 import { chromium } from 'playwright-core';
 import { serveStatic } from '../../scripts/static-server.mjs';
 
@@ -45,6 +48,40 @@ export async function openPage(browser, url, { viewport = { width: 1280, height:
   await page.goto(url);
   await page.waitForSelector('html[data-ready]', { timeout: 15000 });
   return { ctx, page, requests, errors };
+}
+
+/**
+ * The browser and the static server of a suite: started before its first test (with the
+ * reference tool built first, before any timing-sensitive step), closed after its last one
+ * whatever happened (node:test runs `after` hooks when tests fail too). Read `env.browser` and
+ * `env.server` inside tests.
+ */
+export function setUp({ serve = true } = {}) {
+  const env = { browser: undefined, server: undefined };
+  before(async () => {
+    cli();
+    env.browser = await launch();
+    if (serve) env.server = await startServer();
+  });
+  after(async () => {
+    await env.browser?.close();
+    env.server?.server.close();
+  });
+  return env;
+}
+
+/** A page as `openPage` opens it, whose browser context is closed when test `t` ends, whether
+ * its assertions passed or not. */
+export async function pageFor(t, browser, url, options) {
+  const opened = await openPage(browser, url, options);
+  t.after(() => opened.ctx.close());
+  return opened;
+}
+
+/** Load a demo with its button and wait until the form shows it. */
+export async function loadDemo(page, name) {
+  await page.click(`button[data-demo="${name}"]`);
+  await page.waitForFunction((t) => document.querySelector('[name="title"]').value === t, demoJson(name).title);
 }
 
 let cliPath;

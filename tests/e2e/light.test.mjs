@@ -5,35 +5,21 @@
 import assert from 'node:assert/strict';
 import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { after, before, test } from 'node:test';
+import { test } from 'node:test';
 import {
-  ARTIFACTS, axeSeriousViolations, DEMO_NAMES, cli, cliReport, compareWithReport, demoJson, launch, openPage,
-  scenarioFromUrl, settledUrl, shownValues, startServer,
+  ARTIFACTS, axeSeriousViolations, cliReport, compareWithReport, DEMO_NAMES, demoJson, loadDemo,
+  pageFor, scenarioFromUrl, settledUrl, setUp, shownValues
 } from './helpers.mjs';
 
 
-let browser;
-let server;
-before(async () => {
-  cli();
-  browser = await launch();
-  server = await startServer();
-});
-after(async () => {
-  await browser?.close();
-  server?.server.close();
-});
+const env = setUp();
 
-async function loadDemo(page, name) {
-  await page.click(`button[data-demo="${name}"]`);
-  await page.waitForFunction((t) => document.querySelector('[name="title"]').value === t, demoJson(name).title);
-}
 
 const problemOf = (page, name) =>
   page.$eval(`[name="${name}"]`, (e) => e.closest('.field').querySelector('.problem').textContent);
 
-test('every demo round-trips through the fields; the light demos need no JSON box', async () => {
-  const { ctx, page, errors } = await openPage(browser, `${server.origin}/`);
+test('every demo round-trips through the fields; the light demos need no JSON box', async (t) => {
+  const { page, errors } = await pageFor(t, env.browser, `${env.server.origin}/`);
   for (const name of DEMO_NAMES) {
     await loadDemo(page, name);
     // The scenario the page builds from its fields (carried by the address) is the demo's.
@@ -41,11 +27,10 @@ test('every demo round-trips through the fields; the light demos need no JSON bo
     assert.equal(await page.inputValue('#extra-json'), '', `${name}: nothing left for the JSON box`);
   }
   assert.deepEqual(errors, []);
-  await ctx.close();
 });
 
-test('the lux-and-lens scene typed into the fields gives the tool’s figures, light units included', async () => {
-  const { ctx, page, errors } = await openPage(browser, `${server.origin}/`);
+test('the lux-and-lens scene typed into the fields gives the tool’s figures, light units included', async (t) => {
+  const { page, errors } = await pageFor(t, env.browser, `${env.server.origin}/`);
   await loadDemo(page, 'global-shutter-machine-vision');
   await page.selectOption('#light-kind', 'scene_illuminance_lux');
   await page.fill('[name="light.scene_illuminance_lux"]', '250');
@@ -94,11 +79,10 @@ test('the lux-and-lens scene typed into the fields gives the tool’s figures, l
   assert.deepEqual(compareWithReport(await shownValues(page), cliReport(expected)), []);
   assert.match(await page.textContent('#plot-qe svg title'), /Quantum efficiency/);
   assert.deepEqual(errors, []);
-  await ctx.close();
 });
 
-test('a pasted spectrum with a bad line and a wavelength going back: both named by line; results kept, stale', async () => {
-  const { ctx, page, errors } = await openPage(browser, `${server.origin}/`);
+test('a pasted spectrum with a bad line and a wavelength going back: both named by line; results kept, stale', async (t) => {
+  const { page, errors } = await pageFor(t, env.browser, `${env.server.origin}/`);
   await loadDemo(page, 'conveyor-lux-and-lens');
   const before = await shownValues(page);
   const typed = '400\t0.05\n440\t0.6\nabc\n455\t1.0\n430\t0.4\n500\t0.25';
@@ -130,16 +114,14 @@ test('a pasted spectrum with a bad line and a wavelength going back: both named 
   assert.deepEqual(await shownValues(page), fixed);
   assert.deepEqual(await axeSeriousViolations(page), [], 'accessible while invalid');
   assert.deepEqual(errors, []);
-  await ctx.close();
 });
 
-test('the light demos are accessible, and screenshots of them are kept', async () => {
-  const { ctx, page, errors } = await openPage(browser, `${server.origin}/`);
+test('the light demos are accessible, and screenshots of them are kept', async (t) => {
+  const { page, errors } = await pageFor(t, env.browser, `${env.server.origin}/`);
   for (const name of ['conveyor-lux-and-lens', 'nir-illuminator-daylight']) {
     await loadDemo(page, name);
     assert.deepEqual(await axeSeriousViolations(page), [], name);
     await page.screenshot({ path: join(ARTIFACTS, `light-form-${name}.png`), fullPage: true });
   }
   assert.deepEqual(errors, []);
-  await ctx.close();
 });

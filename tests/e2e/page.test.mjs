@@ -5,27 +5,17 @@
 import assert from 'node:assert/strict';
 import { readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { after, before, describe, test } from 'node:test';
+import { describe, test } from 'node:test';
 import {
-  ARTIFACTS, axeSeriousViolations, DEMO_NAMES, cli, cliReport, compareWithReport, demoJson, demoText, launch, linkFor,
-  openPage, scenarioFromUrl, settledUrl, shownValues, singleFileUrl, startServer,
+  ARTIFACTS, axeSeriousViolations, cliReport, compareWithReport, DEMO_NAMES, demoJson, demoText,
+  linkFor, loadDemo, pageFor, scenarioFromUrl, settledUrl, setUp, shownValues, singleFileUrl
 } from './helpers.mjs';
 
 
-let browser;
-let server;
-before(async () => {
-  cli(); // build the reference tool before any timing-sensitive step
-  browser = await launch();
-  server = await startServer();
-});
-after(async () => {
-  await browser?.close();
-  server?.server.close();
-});
+const env = setUp();
 
 const TARGETS = [
-  { slug: 'served', name: 'the served page', url: () => `${server.origin}/` },
+  { slug: 'served', name: 'the served page', url: () => `${env.server.origin}/` },
   { slug: 'file', name: 'the single file from file://', url: () => singleFileUrl() },
 ];
 
@@ -37,7 +27,7 @@ function assertOwnRequests(target, requests, errors) {
     const others = requests.filter((u) => u.split('#')[0] !== file);
     assert.deepEqual(others, [], 'the single file requests nothing but itself');
   } else {
-    const others = requests.filter((u) => !u.startsWith(`${server.origin}/`) && !u.startsWith(`blob:${server.origin}/`));
+    const others = requests.filter((u) => !u.startsWith(`${env.server.origin}/`) && !u.startsWith(`blob:${env.server.origin}/`));
     assert.deepEqual(others, [], 'the page requests only its own files');
   }
 }
@@ -47,15 +37,11 @@ function assertOwnRequests(target, requests, errors) {
 const formState = (page, shownOnly = false) => page.$$eval('#scenario-form input, #scenario-form select',
   (els, only) => Object.fromEntries(els.filter((e) => !only || e.offsetParent !== null).map((e) => [e.name || e.id, e.value])), shownOnly);
 
-async function loadDemo(page, name) {
-  await page.click(`button[data-demo="${name}"]`);
-  await page.waitForFunction((t) => document.querySelector('[name="title"]').value === t, demoJson(name).title);
-}
 
 for (const target of TARGETS) {
   describe(target.name, () => {
-    test('each demo loads with one action and shows the tool’s figures and warnings', async () => {
-      const { ctx, page, requests, errors } = await openPage(browser, target.url());
+    test('each demo loads with one action and shows the tool’s figures and warnings', async (t) => {
+      const { page, requests, errors } = await pageFor(t, env.browser, target.url());
       for (const name of DEMO_NAMES) {
         await loadDemo(page, name);
         const report = cliReport(demoText(name));
@@ -79,11 +65,10 @@ for (const target of TARGETS) {
         }
       }
       assertOwnRequests(target, requests, errors);
-      await ctx.close();
     });
 
-    test('fields filled by name give the tool’s figures for the same scenario; the link round-trips', async () => {
-      const { ctx, page, requests, errors } = await openPage(browser, target.url());
+    test('fields filled by name give the tool’s figures for the same scenario; the link round-trips', async (t) => {
+      const { page, requests, errors } = await pageFor(t, env.browser, target.url());
       await loadDemo(page, 'global-shutter-machine-vision');
       await page.fill('[name="title"]', 'Edited by the page test');
       await page.fill('[name="sensor.read_noise_e"]', '3.1');
@@ -111,25 +96,23 @@ for (const target of TARGETS) {
       const report = cliReport(expected);
       assert.deepEqual(compareWithReport(shown, report), []);
       // The capacitance left empty is shown as derived from the conversion gain.
-      assert.ok(await page.isVisible('#d-cap'), 'derived capacitance visible');
+      assert.ok(await page.isVisible('#d-sense-node-capacitance'), 'derived capacitance visible');
       assert.equal(Number(shown.sense_node_capacitance_ff), report.sense_node_capacitance_ff);
 
       // The address carries exactly this scenario, and opening it shows the same.
       const url = await settledUrl(page);
       assert.deepEqual(scenarioFromUrl(url), expected);
       const before = await formState(page, true);
-      const second = await openPage(browser, url);
+      const second = await pageFor(t, env.browser, url);
       assert.deepEqual(await shownValues(second.page), shown);
       assert.deepEqual(await formState(second.page, true), before);
       assertOwnRequests(target, second.requests, second.errors);
-      await second.ctx.close();
       assertOwnRequests(target, requests, errors);
-      await ctx.close();
     });
 
-    test('malformed, newer-version and unknown-key links are refused with a message; the scenario stays', async () => {
+    test('malformed, newer-version and unknown-key links are refused with a message; the scenario stays', async (t) => {
       const demo = demoJson('cooled-scientific');
-      const { ctx, page, requests, errors } = await openPage(browser, target.url() + linkFor(demo));
+      const { page, requests, errors } = await pageFor(t, env.browser, target.url() + linkFor(demo));
       const values = await shownValues(page);
       const fields = await formState(page);
       assert.deepEqual(compareWithReport(values, cliReport(demo)), []);
@@ -155,18 +138,16 @@ for (const target of TARGETS) {
         await page.evaluate(() => document.getElementById('load-problems').setAttribute('hidden', ''));
       }
       // A bad link on arrival: a message, and the page still shows a valid scenario.
-      const fresh = await openPage(browser, `${target.url()}#scenario=%%%`);
+      const fresh = await pageFor(t, env.browser, `${target.url()}#scenario=%%%`);
       assert.match(await fresh.page.textContent('#load-problems'), /not base64url/);
       const first = demoJson(DEMO_NAMES[0]);
       assert.deepEqual(compareWithReport(await shownValues(fresh.page), cliReport(first)), []);
       assertOwnRequests(target, fresh.requests, fresh.errors);
-      await fresh.ctx.close();
       assertOwnRequests(target, requests, errors);
-      await ctx.close();
     });
 
-    test('an invalid field is marked with the engine’s message; results stay, marked stale; typing is kept', async () => {
-      const { ctx, page, requests, errors } = await openPage(browser, target.url());
+    test('an invalid field is marked with the engine’s message; results stay, marked stale; typing is kept', async (t) => {
+      const { page, requests, errors } = await pageFor(t, env.browser, target.url());
       await loadDemo(page, 'three-transistor-no-cds');
       const before = await shownValues(page);
       const problemOf = (name) => page.$eval(`[name="${name}"]`, (e) => e.closest('.field').querySelector('.problem').textContent);
@@ -211,11 +192,10 @@ for (const target of TARGETS) {
       fixed.sensor.full_well_e = 20000;
       assert.deepEqual(compareWithReport(await shownValues(page), cliReport(fixed)), []);
       assertOwnRequests(target, requests, errors);
-      await ctx.close();
     });
 
-    test('nonsense in every field never breaks the page', async () => {
-      const { ctx, page, requests, errors } = await openPage(browser, target.url());
+    test('nonsense in every field never breaks the page', async (t) => {
+      const { page, requests, errors } = await pageFor(t, env.browser, target.url());
       const names = await page.$$eval('#scenario-form input[name]', (els) => els.filter((e) => e.offsetParent !== null).map((e) => e.name));
       for (const junk of ['1e999', '-', '💥', '0x10', '1,5', 'NaN', '9'.repeat(400), '-0', '1e-400']) {
         for (const name of names) await page.fill(`[name="${name}"]`, junk);
@@ -225,11 +205,10 @@ for (const target of TARGETS) {
       await loadDemo(page, 'small-pixel-rolling-shutter');
       assert.deepEqual(compareWithReport(await shownValues(page), cliReport(demoText('small-pixel-rolling-shutter'))), []);
       assertOwnRequests(target, requests, errors);
-      await ctx.close();
     });
 
-    test('a strict Content-Security-Policy is in force: no fetch, no unhashed script', async () => {
-      const { ctx, page, requests, errors } = await openPage(browser, target.url());
+    test('a strict Content-Security-Policy is in force: no fetch, no unhashed script', async (t) => {
+      const { page, requests, errors } = await pageFor(t, env.browser, target.url());
       const csp = await page.getAttribute('meta[http-equiv="Content-Security-Policy"]', 'content');
       assert.match(csp, /default-src 'none'/);
       assert.match(csp, /connect-src 'none'/);
@@ -250,24 +229,22 @@ for (const target of TARGETS) {
       // Those refusals are the only errors, and the refused fetch made no request.
       assert.ok(errors.every((e) => /Content Security Policy/.test(e)), errors.join('\n'));
       assertOwnRequests(target, requests, []);
-      await ctx.close();
     });
 
-    test('no serious or critical accessibility violations (axe-core), for each demo', async () => {
-      const { ctx, page, requests, errors } = await openPage(browser, target.url());
+    test('no serious or critical accessibility violations (axe-core), for each demo', async (t) => {
+      const { page, requests, errors } = await pageFor(t, env.browser, target.url());
       for (const name of DEMO_NAMES) {
         await loadDemo(page, name);
         assert.deepEqual(await axeSeriousViolations(page), [], name);
       }
       assertOwnRequests(target, requests, errors);
-      await ctx.close();
     });
   });
 }
 
 describe('the served page: keeping, sharing, keyboard, print, narrow column', () => {
-  test('save as file, then open it again; the file is what the command-line tool reads', async () => {
-    const { ctx, page, requests, errors } = await openPage(browser, `${server.origin}/`);
+  test('save as file, then open it again; the file is what the command-line tool reads', async (t) => {
+    const { page, requests, errors } = await pageFor(t, env.browser, `${env.server.origin}/`);
     await loadDemo(page, 'cooled-scientific');
     await page.fill('[name="exposure.time_s"]', '0.75');
     const shown = await shownValues(page);
@@ -298,16 +275,15 @@ describe('the served page: keeping, sharing, keyboard, print, narrow column', ()
       assert.deepEqual(await shownValues(page), shown, name);
     }
     assertOwnRequests(TARGETS[0], requests, errors);
-    await ctx.close();
   });
 
-  test('the last scenario survives a reload, and scenarios kept by name come back', async () => {
-    const { ctx, page, requests, errors } = await openPage(browser, `${server.origin}/`);
+  test('the last scenario survives a reload, and scenarios kept by name come back', async (t) => {
+    const { page, requests, errors } = await pageFor(t, env.browser, `${env.server.origin}/`);
     await loadDemo(page, 'small-pixel-rolling-shutter');
     await page.fill('[name="sensor.read_noise_e"]', '0.42');
     await settledUrl(page);
     const shown = await shownValues(page);
-    await page.goto(`${server.origin}/`); // no link: the browser's store decides
+    await page.goto(`${env.server.origin}/`); // no link: the browser's store decides
     await page.waitForSelector('html[data-ready]');
     assert.equal(await page.inputValue('[name="sensor.read_noise_e"]'), '0.42');
     assert.deepEqual(await shownValues(page), shown);
@@ -322,13 +298,12 @@ describe('the served page: keeping, sharing, keyboard, print, narrow column', ()
     await page.click('#forget-saved');
     assert.deepEqual(await page.$$eval('#saved-list option', (o) => o.map((x) => x.value)), ['']);
     assertOwnRequests(TARGETS[0], requests, errors);
-    await ctx.close();
   });
 
-  test('copy link puts the address of the scenario on the clipboard', async () => {
-    const context = await browser.newContext();
-    await context.grantPermissions(['clipboard-read', 'clipboard-write'], { origin: server.origin });
-    const { page, requests, errors } = await openPage(browser, `${server.origin}/`, { context });
+  test('copy link puts the address of the scenario on the clipboard', async (t) => {
+    const context = await env.browser.newContext();
+    await context.grantPermissions(['clipboard-read', 'clipboard-write'], { origin: env.server.origin });
+    const { page, requests, errors } = await pageFor(t, env.browser, `${env.server.origin}/`, { context });
     await page.fill('[name="exposure.time_s"]', '0.004');
     await page.click('#copy-link');
     await page.waitForFunction(() => document.getElementById('status').textContent === 'Link copied.');
@@ -340,11 +315,10 @@ describe('the served page: keeping, sharing, keyboard, print, narrow column', ()
     await page.click('#copy-link');
     assert.match(await page.textContent('#status'), /fix them first/);
     assertOwnRequests(TARGETS[0], requests, errors);
-    await context.close();
   });
 
-  test('works by keyboard alone: load a demo, edit a field', async () => {
-    const { ctx, page, requests, errors } = await openPage(browser, `${server.origin}/`);
+  test('works by keyboard alone: load a demo, edit a field', async (t) => {
+    const { page, requests, errors } = await pageFor(t, env.browser, `${env.server.origin}/`);
     const want = demoJson('cooled-scientific');
     let found = false;
     for (let i = 0; i < 40 && !found; i++) {
@@ -361,17 +335,16 @@ describe('the served page: keeping, sharing, keyboard, print, narrow column', ()
     }
     assert.ok(found, 'the read noise field is reachable with Tab');
     // Its explanation shows while it has focus.
-    assert.ok(await page.isVisible('#h-read'));
+    assert.ok(await page.isVisible('#h-read-noise'));
     await page.keyboard.press('Control+A');
     await page.keyboard.type('2.5');
     want.sensor.read_noise_e = 2.5;
     assert.deepEqual(compareWithReport(await shownValues(page), cliReport(want)), []);
     assertOwnRequests(TARGETS[0], requests, errors);
-    await ctx.close();
   });
 
-  test('prints inputs, results, warnings, version and date on one page, the curves on the next', async () => {
-    const { ctx, page, requests, errors } = await openPage(browser, `${server.origin}/`);
+  test('prints inputs, results, warnings, version and date on one page, the curves on the next', async (t) => {
+    const { page, requests, errors } = await pageFor(t, env.browser, `${env.server.origin}/`);
     for (const name of DEMO_NAMES) {
       await loadDemo(page, name);
       await page.emulateMedia({ media: 'print' });
@@ -393,11 +366,10 @@ describe('the served page: keeping, sharing, keyboard, print, narrow column', ()
       await page.emulateMedia({ media: 'screen' });
     }
     assertOwnRequests(TARGETS[0], requests, errors);
-    await ctx.close();
   });
 
-  test('readable in a narrow wiki column (400 px): no sideways scrolling', async () => {
-    const { ctx, page, requests, errors } = await openPage(browser, `${server.origin}/`, { viewport: { width: 400, height: 900 } });
+  test('readable in a narrow wiki column (400 px): no sideways scrolling', async (t) => {
+    const { page, requests, errors } = await pageFor(t, env.browser, `${env.server.origin}/`, { viewport: { width: 400, height: 900 } });
     for (const name of ['three-transistor-no-cds', 'cooled-scientific']) {
       await loadDemo(page, name);
       const overflow = await page.evaluate(() => document.documentElement.scrollWidth - document.documentElement.clientWidth);
@@ -406,6 +378,5 @@ describe('the served page: keeping, sharing, keyboard, print, narrow column', ()
     }
     assert.deepEqual(await axeSeriousViolations(page), []);
     assertOwnRequests(TARGETS[0], requests, errors);
-    await ctx.close();
   });
 });

@@ -66,7 +66,14 @@ const MAX_PULLS: u32 = 60;
 /// [`keys::LightKind::amount`] of the light's kind.
 #[must_use]
 pub fn amount_key(light: &Light) -> &'static str {
-    keys::light_kind(light).map_or(keys::PHOTON_FLUX_PER_UM2_S.path, |k| k.amount)
+    let kind = keys::light_kind_name(light);
+    keys::LIGHT_KIND_AMOUNTS
+        .iter()
+        .find(|(name, _, _)| *name == kind)
+        .map_or(
+            const { keys::PHOTON_FLUX_PER_UM2_S.path },
+            |(_, amount, _)| amount,
+        )
 }
 
 /// The light's amount, in the unit of [`amount_key`].
@@ -109,10 +116,10 @@ pub fn amount(light: &Light) -> f64 {
 pub fn request(sc: &Scenario, view: View, points: u32) -> SweepRequest {
     let (key, value) = match view {
         View::Light => (amount_key(&sc.light), amount(&sc.light)),
-        View::Exposure => (keys::TIME_S.path, sc.exposure.time_s),
+        View::Exposure => (const { keys::TIME_S.path }, sc.exposure.time_s),
         View::Temperature => {
             return SweepRequest {
-                key: keys::TEMPERATURE_C.path.into(),
+                key: const { keys::TEMPERATURE_C.path }.into(),
                 from: sc.temperature_c - TEMPERATURE_SPAN_C,
                 to: sc.temperature_c + TEMPERATURE_SPAN_C,
                 points,

@@ -54,6 +54,18 @@ pub const DEMOS: &[Demo] = &[
         summary: "850 nm illuminator with daylight as background light, QE curve",
         json: include_str!("../../../www/demos/nir-illuminator-daylight.json"),
     },
+    Demo {
+        name: "colour-machine-vision",
+        label: "3.45 µm colour machine vision",
+        summary: "3.45 µm global-shutter colour class (BGGR) under white LEDs, white balance and colour matrix",
+        json: include_str!("../../../www/demos/colour-machine-vision.json"),
+    },
+    Demo {
+        name: "automotive-hdr-colour",
+        label: "3.0 µm automotive HDR colour",
+        summary: "3.0 µm automotive-class HDR colour sensor (RGGB, three exposures), hot, band-gap dark current",
+        json: include_str!("../../../www/demos/automotive-hdr-colour.json"),
+    },
 ];
 
 /// The demo with this name.

@@ -12,11 +12,10 @@ use engine::Problem;
 use serde_json::Value;
 use wasm_bindgen::closure::Closure;
 use wasm_bindgen::{JsCast, JsValue};
-use web_sys::{
-    Element, Event, EventTarget, HtmlButtonElement, HtmlInputElement, HtmlSelectElement,
-};
+use web_sys::{Element, Event, HtmlButtonElement, HtmlInputElement, HtmlSelectElement};
 
-use crate::{address, curves, demos, dom, fields, form, plot, results, store};
+use crate::events::{on, on_id, when_settled, Action};
+use crate::{address, curves, demos, dom, fields, form, ids, plot, results, store};
 
 /// Delay before the address bar and the browser's store follow an edit: edits in quick
 /// succession are written once (browsers throttle frequent `history.replaceState` calls).
@@ -39,11 +38,11 @@ thread_local! {
 /// scenario from the address, else the last one kept, else the first demo. Does nothing on a
 /// page without the scenario form (such as the browser-test page).
 pub fn mount() {
-    let Some(form_el) = dom::by_id("scenario-form") else {
+    let Some(form_el) = dom::by_id(ids::SCENARIO_FORM) else {
         return;
     };
     results::reset();
-    dom::set_text_of("tool-version", env!("CARGO_PKG_VERSION"));
+    dom::set_text_of(ids::TOOL_VERSION, env!("CARGO_PKG_VERSION"));
     stamp_date();
     build_demo_buttons();
     refresh_kept_list(None);
@@ -54,19 +53,6 @@ pub fn mount() {
     }
 }
 
-pub(crate) fn on(target: &EventTarget, kind: &str, handler: impl FnMut(Event) + 'static) {
-    let cb = Closure::<dyn FnMut(Event)>::new(handler);
-    let _ = target.add_event_listener_with_callback(kind, cb.as_ref().unchecked_ref());
-    // The listener lives as long as the page.
-    cb.forget();
-}
-
-fn on_id(id: &'static str, kind: &str, handler: impl FnMut(Event) + 'static) {
-    if let Some(el) = dom::by_id(id) {
-        on(&el, kind, handler);
-    }
-}
-
 fn wire(form_el: &Element) {
     on(form_el, "input", |e: Event| {
         let is_choice = e
@@ -74,14 +60,14 @@ fn wire(form_el: &Element) {
             .and_then(|t| t.dyn_into::<Element>().ok())
             .is_some_and(|t| t.tag_name().eq_ignore_ascii_case("select"));
         if is_choice {
-            if let Some(f) = dom::by_id("scenario-form") {
+            if let Some(f) = dom::by_id(ids::SCENARIO_FORM) {
                 form::show_chosen(&f);
             }
         }
         recompute();
     });
     on(form_el, "submit", |e: Event| e.prevent_default());
-    on_id("demo-list", "click", |e: Event| {
+    on_id(ids::DEMO_LIST, "click", |e: Event| {
         let name = e
             .target()
             .and_then(|t| t.dyn_into::<Element>().ok())
@@ -92,13 +78,13 @@ fn wire(form_el: &Element) {
             load_text(demo.json, &format!("the demo “{}”", demo.label));
         }
     });
-    on_id("copy-link", "click", |_| copy_link());
-    on_id("save-file", "click", |_| save_file());
-    on_id("open-file", "change", |_| open_file());
-    on_id("keep-scenario", "click", |_| keep_scenario());
-    on_id("load-saved", "click", |_| load_kept());
-    on_id("forget-saved", "click", |_| forget_kept());
-    curves::wire();
+    on_id(ids::COPY_LINK, "click", |_| copy_link());
+    on_id(ids::SAVE_FILE, "click", |_| save_file());
+    on_id(ids::OPEN_FILE, "change", |_| open_file());
+    on_id(ids::KEEP_SCENARIO, "click", |_| keep_scenario());
+    on_id(ids::LOAD_SAVED, "click", |_| load_kept());
+    on_id(ids::FORGET_SAVED, "click", |_| forget_kept());
+    curves::wire(act);
     if !WINDOW_WIRED.with(Cell::get) {
         WINDOW_WIRED.with(|w| w.set(true));
         if let Some(w) = dom::window() {
@@ -109,37 +95,13 @@ fn wire(form_el: &Element) {
     }
 }
 
-/// Run `ok` or `failed` once when a promise settles.
-fn when_settled(
-    promise: &js_sys::Promise,
-    ok: impl FnOnce(JsValue) + 'static,
-    failed: impl FnOnce(JsValue) + 'static,
-) {
-    let mut ok = Some(ok);
-    let mut failed = Some(failed);
-    let ok = Closure::<dyn FnMut(JsValue)>::new(move |v| {
-        if let Some(f) = ok.take() {
-            f(v);
-        }
-    });
-    let failed = Closure::<dyn FnMut(JsValue)>::new(move |v| {
-        if let Some(f) = failed.take() {
-            f(v);
-        }
-    });
-    let _ = promise.then2(&ok, &failed);
-    // Each runs at most once, after this function returns; a user action makes one pair.
-    ok.forget();
-    failed.forget();
-}
-
 fn stamp_date() {
     let iso = String::from(js_sys::Date::new_0().to_iso_string());
-    dom::set_text_of("print-date", iso.get(..10).unwrap_or(&iso));
+    dom::set_text_of(ids::PRINT_DATE, iso.get(..10).unwrap_or(&iso));
 }
 
 fn build_demo_buttons() {
-    let Some(list) = dom::by_id("demo-list") else {
+    let Some(list) = dom::by_id(ids::DEMO_LIST) else {
         return;
     };
     dom::clear(&list);
@@ -155,7 +117,7 @@ fn build_demo_buttons() {
 /// The one flow after any change to the form: read it, let the engine judge and compute, show
 /// the results (or mark the refused fields and keep the last results, marked stale).
 pub fn recompute() {
-    let Some(form_el) = dom::by_id("scenario-form") else {
+    let Some(form_el) = dom::by_id(ids::SCENARIO_FORM) else {
         return;
     };
     form::clear_problems(&form_el);
@@ -165,6 +127,7 @@ pub fn recompute() {
             form::show_problems(&form_el, &problems);
             results::set_stale(true);
             FORM_VALID.with(|v| v.set(false));
+            curves::mark_stale();
             return;
         }
     };
@@ -196,6 +159,7 @@ pub fn recompute() {
             form::show_problems(&form_el, &problems);
             results::set_stale(true);
             FORM_VALID.with(|v| v.set(false));
+            curves::mark_stale();
         }
     }
 }
@@ -217,7 +181,7 @@ fn address_base() -> String {
 
 fn update_share_link() {
     if let (Some(input), Some(json)) = (
-        dom::by_id_as::<HtmlInputElement>("share-link"),
+        dom::by_id_as::<HtmlInputElement>(ids::SHARE_LINK),
         last_good_json(),
     ) {
         input.set_value(&format!(
@@ -271,7 +235,7 @@ fn load_text(text: &str, source: &str) -> bool {
     }
     let (Ok(value), Some(form_el)) = (
         serde_json::from_str::<Value>(text),
-        dom::by_id("scenario-form"),
+        dom::by_id(ids::SCENARIO_FORM),
     ) else {
         return false;
     };
@@ -289,18 +253,15 @@ fn load_text(text: &str, source: &str) -> bool {
     true
 }
 
-/// Load a scenario given as a JSON value (a pinned one) into the form.
-pub(crate) fn load_value(value: &Value, source: &str) {
-    clear_load_problems();
-    load_text(&value.to_string(), source);
-}
-
-/// The scenario on screen when the form is valid (without its pins).
-pub(crate) fn valid_scenario() -> Option<Value> {
-    if !FORM_VALID.with(Cell::get) {
-        return None;
+/// What the app does when a section asks (see `events::Action`).
+fn act(action: Action) {
+    match action {
+        Action::Recompute => recompute(),
+        Action::Load { value, source } => {
+            clear_load_problems();
+            load_text(&value.to_string(), &source);
+        }
     }
-    LAST_GOOD.with(|g| g.borrow().clone())
 }
 
 fn load_initial() {
@@ -360,15 +321,15 @@ fn show_link_error(e: &address::LinkError) {
 }
 
 fn status(text: &str) {
-    dom::set_text_of("status", text);
+    dom::set_text_of(ids::STATUS, text);
 }
 
 fn show_load_problems(source: &str, problems: &[Problem]) {
     dom::set_text_of(
-        "load-problems-head",
+        ids::LOAD_PROBLEMS_HEAD,
         &format!("Could not load {source}; the scenario on screen is unchanged. Problems found:"),
     );
-    if let Some(list) = dom::by_id("load-problems-list") {
+    if let Some(list) = dom::by_id(ids::LOAD_PROBLEMS_LIST) {
         dom::clear(&list);
         for p in problems {
             if let Some(li) = dom::new_element("li", &p.to_string()) {
@@ -376,14 +337,14 @@ fn show_load_problems(source: &str, problems: &[Problem]) {
             }
         }
     }
-    if let Some(b) = dom::by_id("load-problems") {
+    if let Some(b) = dom::by_id(ids::LOAD_PROBLEMS) {
         dom::set_hidden(&b, false);
     }
     status("");
 }
 
 fn clear_load_problems() {
-    if let Some(b) = dom::by_id("load-problems") {
+    if let Some(b) = dom::by_id(ids::LOAD_PROBLEMS) {
         dom::set_hidden(&b, true);
     }
 }
@@ -404,7 +365,7 @@ fn copy_link() {
         return;
     }
     follow_now();
-    let Some(input) = dom::by_id_as::<HtmlInputElement>("share-link") else {
+    let Some(input) = dom::by_id_as::<HtmlInputElement>(ids::SHARE_LINK) else {
         return;
     };
     let link = input.value();
@@ -434,7 +395,7 @@ fn copy_link() {
         &promise,
         |_| status("Link copied."),
         move |_| {
-            if let Some(i) = dom::by_id_as::<HtmlInputElement>("share-link") {
+            if let Some(i) = dom::by_id_as::<HtmlInputElement>(ids::SHARE_LINK) {
                 i.select();
             }
             status(by_hand);
@@ -466,7 +427,7 @@ fn save_file() {
 }
 
 fn open_file() {
-    let Some(input) = dom::by_id_as::<HtmlInputElement>("open-file") else {
+    let Some(input) = dom::by_id_as::<HtmlInputElement>(ids::OPEN_FILE) else {
         return;
     };
     let Some(file) = input.files().and_then(|l| l.get(0)) else {
@@ -504,7 +465,7 @@ fn open_file() {
 }
 
 fn refresh_kept_list(select_name: Option<&str>) {
-    let Some(select) = dom::by_id_as::<HtmlSelectElement>("saved-list") else {
+    let Some(select) = dom::by_id_as::<HtmlSelectElement>(ids::SAVED_LIST) else {
         return;
     };
     select.set_text_content(None);
@@ -525,8 +486,8 @@ fn refresh_kept_list(select_name: Option<&str>) {
         select.set_value(n);
     }
     let buttons = [
-        dom::by_id_as::<HtmlButtonElement>("load-saved"),
-        dom::by_id_as::<HtmlButtonElement>("forget-saved"),
+        dom::by_id_as::<HtmlButtonElement>(ids::LOAD_SAVED),
+        dom::by_id_as::<HtmlButtonElement>(ids::FORGET_SAVED),
     ];
     for b in buttons.into_iter().flatten() {
         b.set_disabled(kept.is_empty());
@@ -538,7 +499,7 @@ fn keep_scenario() {
     let Some(scenario) = valid_scenario_or_say("keep the scenario") else {
         return;
     };
-    let typed = dom::by_id_as::<HtmlInputElement>("saved-name")
+    let typed = dom::by_id_as::<HtmlInputElement>(ids::SAVED_NAME)
         .map(|i| i.value().trim().to_string())
         .unwrap_or_default();
     let name = if typed.is_empty() {
@@ -566,7 +527,7 @@ fn keep_scenario() {
 }
 
 fn selected_kept_name() -> Option<String> {
-    dom::by_id_as::<HtmlSelectElement>("saved-list")
+    dom::by_id_as::<HtmlSelectElement>(ids::SAVED_LIST)
         .map(|s| s.value())
         .filter(|v| !v.is_empty())
 }

@@ -3,221 +3,15 @@
 //! markers, a legend, and a title and description for screen readers.
 //!
 //! Drawing only: every value drawn is given by the caller (the engine's sweeps); here they are
-//! only placed on the drawing. Pure functions, tested natively. Hand-written rather than a
-//! plotting crate: this is a few hundred lines, while a general plotting library would add
-//! more to the page's wasm than the whole calculator (see DEVELOPERS.md).
+//! only placed on the drawing, with the primitives of `svg.rs` (axes, ticks, coordinates).
+//! Pure functions, tested natively. Hand-written rather than a plotting crate: this is a few
+//! hundred lines, while a general plotting library would add more to the page's wasm than the
+//! whole calculator (see DEVELOPERS.md).
 
 use std::fmt::Write as _;
 
-/// How an axis maps values to positions.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub enum Scale {
-    /// Equal steps for equal differences.
-    Linear,
-    /// Equal steps for equal ratios (values must be > 0).
-    Log,
-}
-
-/// One axis: its name and unit (for labels) and the range drawn.
-#[derive(Debug, Clone, PartialEq)]
-pub struct Axis {
-    /// What the axis shows, in words.
-    pub label: String,
-    /// Unit written after each tick value (with an engineering prefix); empty for a ratio.
-    pub unit: &'static str,
-    /// Spacing.
-    pub scale: Scale,
-    /// Value at the start (left or bottom).
-    pub lo: f64,
-    /// Value at the end (right or top).
-    pub hi: f64,
-}
-
-impl Axis {
-    /// An axis spanning `values` (non-finite values, and values ≤ 0 on a log axis, ignored),
-    /// widened to whole decades on a log axis, with `max_decades` at most below the top.
-    #[must_use]
-    pub fn fitted(
-        label: &str,
-        unit: &'static str,
-        scale: Scale,
-        values: impl IntoIterator<Item = f64>,
-        max_decades: f64,
-    ) -> Axis {
-        let usable = |v: &f64| v.is_finite() && (scale == Scale::Linear || *v > 0.0);
-        let (mut lo, mut hi) = values
-            .into_iter()
-            .filter(usable)
-            .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), v| {
-                (a.min(v), b.max(v))
-            });
-        if lo > hi {
-            (lo, hi) = if scale == Scale::Log {
-                (1.0, 10.0)
-            } else {
-                (0.0, 1.0)
-            };
-        }
-        if scale == Scale::Log {
-            hi = 10f64.powf(hi.log10().ceil());
-            lo = 10f64
-                .powf(lo.log10().floor())
-                .max(hi / 10f64.powf(max_decades));
-            if lo >= hi {
-                lo = hi / 10.0;
-            }
-        } else if lo >= hi {
-            lo -= 1.0;
-            hi += 1.0;
-        }
-        Axis {
-            label: label.to_string(),
-            unit,
-            scale,
-            lo,
-            hi,
-        }
-    }
-
-    /// Where `v` falls between the ends, 0 at `lo` and 1 at `hi` (beyond them outside 0..1;
-    /// `None` for a value a log axis cannot place).
-    #[must_use]
-    pub fn fraction(&self, v: f64) -> Option<f64> {
-        let f = match self.scale {
-            Scale::Linear => (v - self.lo) / (self.hi - self.lo),
-            Scale::Log if v > 0.0 => (v / self.lo).ln() / (self.hi / self.lo).ln(),
-            Scale::Log => return None,
-        };
-        f.is_finite().then_some(f)
-    }
-
-    /// The value at fraction `f` of the way from `lo` to `hi`.
-    #[must_use]
-    pub fn value_at(&self, f: f64) -> f64 {
-        match self.scale {
-            Scale::Linear => self.lo + f * (self.hi - self.lo),
-            Scale::Log => self.lo * (self.hi / self.lo).powf(f),
-        }
-    }
-
-    /// Whether the unit is short enough to write after every tick (else the axis name
-    /// carries it and ticks show the number with its prefix only).
-    fn unit_on_ticks(&self) -> bool {
-        self.unit.chars().count() <= 3
-    }
-
-    /// The axis name as drawn: with its unit when the ticks do not carry it.
-    #[must_use]
-    pub fn title(&self) -> String {
-        if self.unit_on_ticks() {
-            self.label.clone()
-        } else {
-            format!("{}, {}", self.label, self.unit)
-        }
-    }
-
-    /// Tick values and their labels.
-    #[must_use]
-    pub fn ticks(&self) -> Vec<(f64, String)> {
-        let unit = if self.unit_on_ticks() { self.unit } else { "" };
-        let mut out = Vec::new();
-        match self.scale {
-            Scale::Log => {
-                let (a, b) = (self.lo.log10().ceil(), self.hi.log10().floor());
-                let decades = b - a;
-                let every = if decades > 8.0 { 2.0 } else { 1.0 };
-                let mut k = a;
-                while k <= b && out.len() < 40 {
-                    let v = 10f64.powf(k);
-                    out.push((v, eng(v, unit)));
-                    if decades < 2.0 {
-                        for m in [2.0, 5.0] {
-                            let w = v * m;
-                            if w <= self.hi {
-                                out.push((w, eng(w, unit)));
-                            }
-                        }
-                    }
-                    k += every;
-                }
-            }
-            Scale::Linear => {
-                let raw = (self.hi - self.lo) / 5.0;
-                if !(raw > 0.0 && raw.is_finite()) {
-                    return out;
-                }
-                let mag = 10f64.powf(raw.log10().floor());
-                let step = [1.0, 2.0, 5.0, 10.0]
-                    .into_iter()
-                    .map(|m| m * mag)
-                    .find(|s| *s >= raw)
-                    .unwrap_or(10.0 * mag);
-                let mut v = (self.lo / step).ceil() * step;
-                while v <= self.hi + step * 1e-9 && out.len() < 40 {
-                    // Snap away the rounding left by the multiplication (−0.0000001 → 0).
-                    let snapped = (v / step).round() * step;
-                    out.push((snapped, eng(snapped, unit)));
-                    v += step;
-                }
-            }
-        }
-        out
-    }
-}
-
-/// A value with an engineering prefix and its unit: `eng(0.00025, "s")` is `250 µs`; three
-/// significant digits at most, trailing zeros dropped. A unit-less value above 1000 gets `k`,
-/// `M`; a temperature or a dB value is written plain.
-#[must_use]
-pub fn eng(v: f64, unit: &str) -> String {
-    if !v.is_finite() {
-        return "—".into();
-    }
-    let plain = unit == "°C" || unit == "dB" || unit == "%";
-    let exp3 = if v == 0.0 || plain {
-        0
-    } else {
-        // OK to truncate: a decade count of a finite non-zero double, within ±330.
-        #[allow(clippy::cast_possible_truncation)]
-        let e = (v.abs().log10() / 3.0).floor() as i32 * 3;
-        e.clamp(-15, 12)
-    };
-    let prefix = match exp3 {
-        -15 => "f",
-        -12 => "p",
-        -9 => "n",
-        -6 => "µ",
-        -3 => "m",
-        3 => "k",
-        6 => "M",
-        9 => "G",
-        12 => "T",
-        _ => "",
-    };
-    let m = v / 10f64.powi(exp3);
-    // Digits after the point for three significant digits.
-    let int_digits = if m == 0.0 {
-        1.0
-    } else {
-        m.abs().log10().floor() + 1.0
-    };
-    // OK to truncate: 0..=2.
-    #[allow(clippy::cast_possible_truncation, clippy::cast_sign_loss)]
-    let decimals = (3.0 - int_digits).clamp(0.0, 2.0) as usize;
-    let mut text = format!("{m:.decimals$}");
-    if text.contains('.') {
-        text = text.trim_end_matches('0').trim_end_matches('.').to_string();
-    }
-    if text == "-0" {
-        text = "0".into();
-    }
-    let sep = if unit.is_empty() && prefix.is_empty() {
-        ""
-    } else {
-        " "
-    };
-    format!("{text}{sep}{prefix}{unit}")
-}
+use crate::svg::{self, tenths as t};
+pub use crate::svg::{eng, escape, Axis, Scale};
 
 /// A line of the chart.
 #[derive(Debug, Clone, PartialEq)]
@@ -315,23 +109,6 @@ const INK: &str = "#1c2330";
 const MIN_STEP: i64 = 15;
 const GRID: &str = "#d5dbe4";
 
-/// A coordinate in tenths of a drawing unit, as an integer (compact and exact to write).
-fn t(v: f64) -> i64 {
-    // OK: a saturating cast of a coordinate clamped to a few drawing sizes below.
-    #[allow(clippy::cast_possible_truncation)]
-    let r = (v.clamp(-10.0 * WIDTH, 10.0 * WIDTH) * 10.0).round() as i64;
-    r
-}
-
-/// Escape text for SVG markup.
-#[must_use]
-pub fn escape(text: &str) -> String {
-    text.replace('&', "&amp;")
-        .replace('<', "&lt;")
-        .replace('>', "&gt;")
-        .replace('"', "&quot;")
-}
-
 impl Chart {
     /// Horizontal drawing position of an x value (`None` where a log axis cannot place it).
     #[must_use]
@@ -357,17 +134,24 @@ impl Chart {
     pub fn svg(&self) -> String {
         let id = escape(&self.id);
         let mut o = String::with_capacity(16 * 1024);
+        svg::open(
+            &mut o,
+            &svg::Head {
+                id: &self.id,
+                svg_id: Some(&self.id),
+                id_suffixes: ("t", "d"),
+                width: t(WIDTH),
+                height: t(HEIGHT),
+                attributes:
+                    " class=\"chart-svg\" font-family=\"system-ui, sans-serif\" font-size=\"120\"",
+                title: &self.title,
+                desc: &self.desc,
+            },
+        );
         let _ = write!(
             o,
-            "<svg xmlns=\"http://www.w3.org/2000/svg\" id=\"{id}\" class=\"chart-svg\" viewBox=\"0 0 {} {}\" \
-             role=\"img\" aria-labelledby=\"{id}-t {id}-d\" font-family=\"system-ui, sans-serif\" font-size=\"120\">\
-             <title id=\"{id}-t\">{}</title><desc id=\"{id}-d\">{}</desc>\
-             <rect width=\"{}\" height=\"{}\" fill=\"#fff\"/>\
+            "<rect width=\"{}\" height=\"{}\" fill=\"#fff\"/>\
              <clipPath id=\"{id}-clip\"><rect x=\"{}\" y=\"{}\" width=\"{}\" height=\"{}\"/></clipPath>",
-            t(WIDTH),
-            t(HEIGHT),
-            escape(&self.title),
-            escape(&self.desc),
             t(WIDTH),
             t(HEIGHT),
             t(LEFT),
@@ -684,55 +468,13 @@ impl Chart {
 mod tests {
     use super::*;
 
-    #[test]
-    fn engineering_prefixes() {
-        // SI prefixes (BIPM, The International System of Units, 9th ed., 2019, table 7).
-        assert_eq!(eng(0.00025, "s"), "250 µs");
-        assert_eq!(eng(1e-3, "s"), "1 ms");
-        assert_eq!(eng(1.0, "s"), "1 s");
-        assert_eq!(eng(12_500.0, "e⁻"), "12.5 ke⁻");
-        assert_eq!(eng(1e6, "lx"), "1 Mlx");
-        assert_eq!(eng(0.1, ""), "100 m");
-        assert_eq!(eng(100.0, ""), "100");
-        assert_eq!(eng(2000.0, ""), "2 k");
-        assert_eq!(eng(-15.0, "°C"), "-15 °C");
-        assert_eq!(eng(0.0, "s"), "0 s");
-        assert_eq!(eng(4.567_8, "e⁻"), "4.57 e⁻");
-        assert_eq!(eng(f64::NAN, "s"), "—");
-    }
-
-    #[test]
-    fn log_axes_take_whole_decades_and_tick_each() {
-        let a = Axis::fitted("x", "s", Scale::Log, [2e-4, 0.0, 3.0, f64::NAN], 12.0);
-        assert_eq!((a.lo, a.hi), (1e-4, 10.0));
-        let labels: Vec<String> = a.ticks().into_iter().map(|t| t.1).collect();
-        assert_eq!(labels, ["100 µs", "1 ms", "10 ms", "100 ms", "1 s", "10 s"]);
-        assert!((a.fraction(1e-2).unwrap() - 0.4).abs() < 1e-12);
-        assert!((a.value_at(0.4) / 1e-2 - 1.0).abs() < 1e-12);
-        assert_eq!(a.fraction(0.0), None);
-        // Capped at max_decades below the top.
-        let a = Axis::fitted("y", "", Scale::Log, [1e-9, 50.0], 4.0);
-        assert_eq!((a.lo, a.hi), (1e-2, 100.0));
-    }
-
-    #[test]
-    fn linear_ticks_are_round_steps() {
-        let a = Axis::fitted("T", "°C", Scale::Linear, [-15.0, 65.0], 0.0);
-        let ticks: Vec<f64> = a.ticks().into_iter().map(|t| t.0).collect();
-        assert_eq!(ticks, [0.0, 20.0, 40.0, 60.0]);
-        // A long unit moves from the ticks to the axis name.
-        let a = Axis::fitted("flux", "ph/(µm²·s)", Scale::Log, [1.0, 1e3], 12.0);
-        assert_eq!(a.ticks()[3].1, "1 k");
-        assert_eq!(a.title(), "flux, ph/(µm²·s)");
-    }
-
     fn chart() -> Chart {
         Chart {
             id: "c".into(),
             title: "SNR & exposure".into(),
             desc: "a <test>".into(),
-            x: Axis::fitted("exposure time", "s", Scale::Log, [1e-3, 1.0], 12.0),
-            y: Axis::fitted("SNR", "", Scale::Log, [1.0, 100.0], 6.0),
+            x: Axis::fitted("exposure time", "s", Scale::Log, &[1e-3, 1.0], 12.0),
+            y: Axis::fitted("SNR", "", Scale::Log, &[1.0, 100.0], 6.0),
             regions: vec![Region {
                 from: 1e-3,
                 to: 1e-2,

@@ -4,29 +4,8 @@
 //! field that is not a number is passed on as text so that the engine names the broken rule.
 //! No DOM, no engine call, no formula.
 
+use engine::keys;
 use serde_json::{Map, Value};
-
-/// The light kinds the page's light choices offer, each named by the choice's value, with the
-/// keys that mark a light object as that kind (the first kind with one present wins).
-/// Order matters: the irradiance with a spectrum is told from the monochromatic one by its
-/// `spectrum`, so it comes first.
-pub const LIGHT_KINDS: &[(&str, &[&str])] = &[
-    ("photon_flux_per_um2_s", &["photon_flux_per_um2_s"]),
-    ("irradiance_spectrum", &["irradiance_w_per_m2+spectrum"]),
-    (
-        "irradiance_w_per_m2",
-        &["irradiance_w_per_m2", "wavelength_nm"],
-    ),
-    ("photons_per_pixel", &["photons_per_pixel"]),
-    ("illuminance_lux", &["illuminance_lux"]),
-    ("scene_illuminance_lux", &["scene_illuminance_lux"]),
-    ("scene_irradiance_w_per_m2", &["scene_irradiance_w_per_m2"]),
-    ("scene_luminance_cd_per_m2", &["scene_luminance_cd_per_m2"]),
-    (
-        "scene_radiance_w_per_m2_sr",
-        &["scene_radiance_w_per_m2_sr"],
-    ),
-];
 
 /// How a field's text becomes a JSON value.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -85,13 +64,35 @@ pub fn value_for(text: &str, kind: Kind) -> Option<Value> {
     }
 }
 
-/// Put `value` at the dot `path` inside `root`, making objects on the way.
-/// A path that runs into a non-object is left alone (the form never makes one).
+/// Put `value` at the dot `path` inside `root`, making objects on the way; a part `name[i]`
+/// is element i of a list of objects (`hdr.exposures[1].ratio`; earlier elements not yet there
+/// become empty objects). A path that runs into something else is left alone (the form never
+/// makes one).
 pub fn insert_at(root: &mut Map<String, Value>, path: &str, value: Value) {
     let mut parts = path.split('.').peekable();
     let mut here = root;
     while let Some(part) = parts.next() {
-        if parts.peek().is_none() {
+        let last = parts.peek().is_none();
+        if let Some((name, i)) = split_index(part) {
+            let list = here
+                .entry(name.to_string())
+                .or_insert_with(|| Value::Array(Vec::new()));
+            let Value::Array(items) = list else { return };
+            while items.len() <= i {
+                items.push(Value::Object(Map::new()));
+            }
+            let Some(item) = items.get_mut(i) else { return };
+            if last {
+                *item = value;
+                return;
+            }
+            match item {
+                Value::Object(m) => here = m,
+                _ => return,
+            }
+            continue;
+        }
+        if last {
             here.insert(part.to_string(), value);
             return;
         }
@@ -105,12 +106,53 @@ pub fn insert_at(root: &mut Map<String, Value>, path: &str, value: Value) {
     }
 }
 
-/// The value at the dot `path` inside `root`, if there is one (and it is not `null`).
+/// The value at the dot `path` inside `root` (`name[i]` parts index lists), if there is one
+/// (and it is not `null`).
 #[must_use]
 pub fn value_at<'v>(root: &'v Value, path: &str) -> Option<&'v Value> {
     path.split('.')
-        .try_fold(root, |v, part| v.get(part))
+        .try_fold(root, |v, part| match split_index(part) {
+            Some((name, i)) => v.get(name)?.get(i),
+            None => v.get(part),
+        })
         .filter(|v| !v.is_null())
+}
+
+/// The numbers typed in one line (`1.9, 1, 2.6` or `1.9 1 2.6`), each as [`value_for`] reads a
+/// number field: what is not a number is passed on as text for the engine to refuse by name.
+#[must_use]
+pub fn numbers_value(text: &str) -> Option<Value> {
+    let items: Vec<Value> = text
+        .split(|c: char| c == ',' || c == ';' || c.is_whitespace())
+        .filter(|t| !t.is_empty())
+        .filter_map(|t| value_for(t, Kind::Number))
+        .collect();
+    (!items.is_empty()).then_some(Value::Array(items))
+}
+
+/// A matrix typed a row a line, as lists of [`numbers_value`]; blank lines are skipped.
+#[must_use]
+pub fn matrix_value(text: &str) -> Option<Value> {
+    let rows: Vec<Value> = text.lines().filter_map(numbers_value).collect();
+    (!rows.is_empty()).then_some(Value::Array(rows))
+}
+
+/// The text of a list of numbers (`1.9, 1, 2.6`) or of a matrix (a row a line).
+#[must_use]
+pub fn numbers_text(value: Option<&Value>) -> String {
+    match value {
+        Some(Value::Array(items)) if items.iter().all(Value::is_array) => items
+            .iter()
+            .map(|row| numbers_text(Some(row)))
+            .collect::<Vec<_>>()
+            .join("\n"),
+        Some(Value::Array(items)) => items
+            .iter()
+            .map(|v| text_for(Some(v)))
+            .collect::<Vec<_>>()
+            .join(", "),
+        other => text_for(other),
+    }
 }
 
 /// The text a field shows for a scenario value: numbers as written by JSON, text as is.
@@ -123,16 +165,24 @@ pub fn text_for(value: Option<&Value>) -> String {
     }
 }
 
-/// Which light kind the light object at `path` (`light`, `background_light`) of a scenario
-/// gives: the first kind with a marking key present (`a+b`: both present).
+/// Which light kind (`engine::keys::LIGHT_KINDS`) the light object at `path` (`light`,
+/// `background_light`) of a scenario gives: the kind whose amount key it has (of the two
+/// irradiance kinds, the one that agrees on having a spectrum); a wavelength alone is the
+/// monochromatic irradiance it is incomplete without.
 #[must_use]
 pub fn light_kind_of(scenario: &Value, path: &str) -> Option<&'static str> {
     let light = value_at(scenario, path)?;
-    let has = |mark: &str| mark.split('+').all(|k| value_at(light, k).is_some());
-    LIGHT_KINDS
+    let has = |key: &str| value_at(light, key).is_some();
+    let spectrum = has(const { keys::SPECTRUM.name });
+    keys::LIGHT_KIND_AMOUNTS
         .iter()
-        .find(|(_, marks)| marks.iter().any(|m| has(m)))
-        .map(|(name, _)| *name)
+        .filter(|(_, amount, _)| amount.strip_prefix("light.").is_some_and(&has))
+        .min_by_key(|(_, _, with_spectrum)| *with_spectrum != spectrum)
+        .map(|(name, _, _)| *name)
+        .or_else(|| {
+            has(const { keys::WAVELENGTH_NM.name })
+                .then_some(const { keys::IRRADIANCE_W_PER_M2.name })
+        })
 }
 
 /// A line of pasted wavelength/value pairs that is not two numbers.
@@ -255,7 +305,12 @@ pub fn without_fields(scenario: &Value, fields: &[String]) -> Option<Value> {
                     } else {
                         format!("{prefix}.{k}")
                     };
-                    if path == "version" || fields.contains(&path) {
+                    // A list of objects whose elements have rows of fields is the form's.
+                    let rows = fields.iter().any(|f| {
+                        f.strip_prefix(path.as_str())
+                            .is_some_and(|rest| rest.starts_with('['))
+                    });
+                    if path == "version" || fields.contains(&path) || rows {
                         continue;
                     }
                     if let Some(c) = strip(child, &path, fields) {
@@ -376,6 +431,30 @@ mod tests {
         assert_eq!(value_for(" a b ", Kind::Text), Some(json!(" a b ")));
         assert_eq!(value_for("", Kind::Text), None);
         assert_eq!(value_for("   ", Kind::Text), None);
+    }
+
+    #[test]
+    fn lists_of_objects_and_numbers() {
+        let mut m = Map::new();
+        insert_at(&mut m, "hdr.exposures[1].ratio", json!(16));
+        insert_at(&mut m, "hdr.exposures[0].ratio", json!(8));
+        let v = Value::Object(m);
+        assert_eq!(
+            v,
+            json!({"hdr": {"exposures": [{"ratio": 8}, {"ratio": 16}]}})
+        );
+        assert_eq!(value_at(&v, "hdr.exposures[1].ratio"), Some(&json!(16)));
+        assert_eq!(value_at(&v, "hdr.exposures[2].ratio"), None);
+        assert_eq!(numbers_value(" 1.9, 1 2.6"), Some(json!([1.9, 1, 2.6])));
+        assert_eq!(numbers_value("1, x"), Some(json!([1, "x"])));
+        assert_eq!(numbers_value("  "), None);
+        let m = matrix_value("1 0 0\n\n0, 1, 0\n0 0 1\n").unwrap_or_default();
+        assert_eq!(m, json!([[1, 0, 0], [0, 1, 0], [0, 0, 1]]));
+        assert_eq!(numbers_text(Some(&m)), "1, 0, 0\n0, 1, 0\n0, 0, 1");
+        assert_eq!(numbers_text(Some(&json!([1.9, 1, 2.6]))), "1.9, 1, 2.6");
+        let names = vec!["hdr.exposures[0].ratio".to_string(), "hdr.kind".to_string()];
+        let s = json!({"hdr": {"kind": "exposures", "exposures": [{"ratio": 4}]}, "x_a": 1});
+        assert_eq!(without_fields(&s, &names), Some(json!({"x_a": 1})));
     }
 
     #[test]

@@ -14,14 +14,15 @@ use web_sys::{Element, HtmlInputElement, HtmlSelectElement, HtmlTextAreaElement}
 
 use crate::dom;
 use crate::fields::{self, Kind};
+use crate::ids;
 
 /// The light-kind choices of the form (not scenario keys: they decide which fields are read),
 /// with the light object each one is for.
 fn light_kind_selects() -> [(Option<HtmlSelectElement>, &'static str); 2] {
     [
-        (dom::by_id_as::<HtmlSelectElement>("light-kind"), "light"),
+        (dom::by_id_as::<HtmlSelectElement>(ids::LIGHT_KIND), "light"),
         (
-            dom::by_id_as::<HtmlSelectElement>("bg-kind"),
+            dom::by_id_as::<HtmlSelectElement>(ids::BACKGROUND_KIND),
             "background_light",
         ),
     ]
@@ -94,7 +95,7 @@ fn in_inactive_box(el: &Element) -> bool {
 /// The box for scenario keys the form has no field for (other light kinds, spectra, background
 /// light, QE curves, `x_` keys), as JSON text.
 fn extra_box() -> Option<HtmlTextAreaElement> {
-    dom::by_id_as::<HtmlTextAreaElement>("extra-json")
+    dom::by_id_as::<HtmlTextAreaElement>(ids::EXTRA_JSON)
 }
 
 /// The scenario the form describes, with the problems of pasted lists that the form found
@@ -200,6 +201,17 @@ fn read_fields(form: &Element) -> FormScenario {
             lines.push((path, pairs.lines));
             continue;
         }
+        let listed = match data_kind.as_deref() {
+            Some("numbers") => Some(fields::numbers_value(&control_text(&el))),
+            Some("matrix") => Some(fields::matrix_value(&control_text(&el))),
+            _ => None,
+        };
+        if let Some(v) = listed {
+            if let Some(v) = v {
+                fields::insert_at(&mut root, &path, v);
+            }
+            continue;
+        }
         let k = if data_kind.as_deref() == Some("text")
             || el.dyn_ref::<HtmlSelectElement>().is_some()
         {
@@ -228,10 +240,10 @@ pub fn fill(form: &Element, scenario: &Value) {
     let controls = named_controls(form);
     for (path, el) in &controls {
         let value = fields::value_at(scenario, path);
-        let text = if el.get_attribute("data-kind").as_deref() == Some("pairs") {
-            fields::pairs_text(value)
-        } else {
-            fields::text_for(value)
+        let text = match el.get_attribute("data-kind").as_deref() {
+            Some("pairs") => fields::pairs_text(value),
+            Some("numbers" | "matrix") => fields::numbers_text(value),
+            _ => fields::text_for(value),
         };
         set_control_text(el, &text);
     }
@@ -266,7 +278,7 @@ pub fn clear_problems(form: &Element) {
     for el in dom::all(form, ".field .problem") {
         dom::clear(&el);
     }
-    if let Some(list) = dom::by_id("form-problems") {
+    if let Some(list) = dom::by_id(ids::FORM_PROBLEMS) {
         dom::clear(&list);
     }
 }
@@ -274,7 +286,7 @@ pub fn clear_problems(form: &Element) {
 /// Mark each refused field and put the engine's message beside it; problems that belong to no
 /// field (the scenario as a whole) go in the list at the top of the form.
 pub fn show_problems(form: &Element, problems: &[Problem]) {
-    let general = dom::by_id("form-problems");
+    let general = dom::by_id(ids::FORM_PROBLEMS);
     let has_extra = extra_box().is_some_and(|b| !b.value().trim().is_empty());
     let fields = dom::all(form, ".field[data-path]");
     // A field stands for its own path and for those in its `data-also` (a choice's object).

@@ -5,13 +5,15 @@
 //!
 //! It scales the engine's plot series (`engine::ptc::CurveSeries`, computed in the frame
 //! worker) to a drawing; it computes no statistic and fits nothing. Tick labels are formatted
-//! by the browser (`display`). The calculator's own plots are `plot.rs`.
+//! by the browser (`display`); axes, ticks and coordinates are `svg.rs`'s. The calculator's own
+//! plots are `plot.rs`.
 
 use std::fmt::Write as _;
 
 use engine::ptc::{CurveSeries, SpatialSeries};
 
 use crate::display::{self, Style};
+use crate::svg::{self, escape as esc, whole as px, Axis, Scale};
 
 /// The drawing's size and margins, in SVG user units.
 const W: f64 = 1000.0;
@@ -21,130 +23,46 @@ const RIGHT: f64 = 30.0;
 const TOP: f64 = 30.0;
 const BOTTOM: f64 = 90.0;
 
-fn esc(s: &str) -> String {
-    s.replace('&', "&amp;")
-        .replace('<', "&lt;")
-        .replace('>', "&gt;")
-        .replace('"', "&quot;")
-}
-
-/// A whole number of user units (integer formatting keeps float formatting out of the wasm).
-#[allow(clippy::cast_possible_truncation)] // clamped to the drawing's range first
-fn px(x: f64) -> i32 {
-    if x.is_finite() {
-        x.clamp(-10_000.0, 10_000.0).round() as i32
-    } else {
-        0
-    }
-}
-
-/// One axis: its range in data units and whether it is logarithmic.
-#[derive(Clone, Copy)]
-struct Axis {
-    lo: f64,
-    hi: f64,
-    log: bool,
-}
-
-impl Axis {
-    fn new(values: impl Iterator<Item = f64>, log: bool, zero: bool) -> Self {
-        let (mut lo, mut hi) = (f64::INFINITY, f64::NEG_INFINITY);
-        for v in values.filter(|v| v.is_finite() && (!log || *v > 0.0)) {
-            lo = lo.min(v);
-            hi = hi.max(v);
-        }
-        if !lo.is_finite() {
-            (lo, hi) = if log { (1.0, 10.0) } else { (0.0, 1.0) };
-        }
-        if log {
-            lo = 10f64.powf(lo.log10().floor());
-            hi = 10f64.powf(hi.log10().ceil());
-            if hi <= lo {
-                hi = lo * 10.0;
-            }
-        } else {
-            if zero {
-                lo = lo.min(0.0);
-                hi = hi.max(0.0);
-            }
-            let pad = if hi > lo { (hi - lo) * 0.05 } else { 1.0 };
-            lo -= pad;
-            hi += pad;
-        }
-        Axis { lo, hi, log }
-    }
-
-    fn fraction(&self, v: f64) -> f64 {
-        if self.log {
-            (v.max(f64::MIN_POSITIVE).log10() - self.lo.log10())
-                / (self.hi.log10() - self.lo.log10())
-        } else {
-            (v - self.lo) / (self.hi - self.lo)
-        }
-    }
-
-    fn ticks(&self) -> Vec<f64> {
-        if self.log {
-            let (a, b) = (self.lo.log10().round(), self.hi.log10().round());
-            let mut t = Vec::new();
-            let mut e = a;
-            while e <= b && t.len() < 20 {
-                t.push(10f64.powf(e));
-                e += 1.0;
-            }
-            t
-        } else {
-            let span = self.hi - self.lo;
-            let raw = span / 5.0;
-            let mag = 10f64.powf(raw.log10().floor());
-            let step = [1.0, 2.0, 5.0, 10.0]
-                .iter()
-                .map(|m| m * mag)
-                .find(|s| span / s <= 6.0)
-                .unwrap_or(mag * 10.0);
-            let mut t = Vec::new();
-            let mut v = (self.lo / step).ceil() * step;
-            while v <= self.hi && t.len() < 20 {
-                t.push(if v.abs() < step * 1e-9 { 0.0 } else { v });
-                v += step;
-            }
-            t
-        }
-    }
-}
-
 struct Plot {
     x: Axis,
     y: Axis,
     height: f64,
 }
 
+/// Where a log axis cannot place a value (≤ 0): far off the plot, on its low side.
+const OFF_PLOT: f64 = -10.0;
+
 impl Plot {
-    fn sx(&self, v: f64) -> i32 {
-        px(LEFT + self.x.fraction(v) * (W - LEFT - RIGHT))
+    fn sx(&self, v: f64) -> i64 {
+        px(LEFT + self.x.fraction(v).unwrap_or(OFF_PLOT) * (W - LEFT - RIGHT))
     }
-    fn sy(&self, v: f64) -> i32 {
-        px(self.height - BOTTOM - self.y.fraction(v) * (self.height - TOP - BOTTOM))
+    fn sy(&self, v: f64) -> i64 {
+        px(self.height
+            - BOTTOM
+            - self.y.fraction(v).unwrap_or(OFF_PLOT) * (self.height - TOP - BOTTOM))
     }
 }
 
 fn open_svg(out: &mut String, height: f64, id: &str, title: &str, desc: &str) {
-    let _ = write!(
+    svg::open(
         out,
-        "<svg xmlns=\"http://www.w3.org/2000/svg\" viewBox=\"0 0 {} {}\" role=\"img\" \
-         aria-labelledby=\"{id}-title {id}-desc\"><title id=\"{id}-title\">{}</title>\
-         <desc id=\"{id}-desc\">{}</desc>",
-        px(W),
-        px(height),
-        esc(title),
-        esc(desc)
+        &svg::Head {
+            id,
+            svg_id: None,
+            id_suffixes: ("title", "desc"),
+            width: px(W),
+            height: px(height),
+            attributes: "",
+            title,
+            desc,
+        },
     );
 }
 
 fn axes(out: &mut String, f: &Plot, xlabel: &str, ylabel: &str) {
     let (x0, x1) = (px(LEFT), px(W - RIGHT));
     let (y0, y1) = (px(f.height - BOTTOM), px(TOP));
-    for t in f.x.ticks() {
+    for t in f.x.tick_values() {
         let x = f.sx(t);
         let _ = write!(
             out,
@@ -154,7 +72,7 @@ fn axes(out: &mut String, f: &Plot, xlabel: &str, ylabel: &str) {
             esc(&display::rounded(t, Style::Number))
         );
     }
-    for t in f.y.ticks() {
+    for t in f.y.tick_values() {
         let y = f.sy(t);
         let _ = write!(
             out,
@@ -213,7 +131,7 @@ fn marks(out: &mut String, f: &Plot, pts: &[(f64, f64, bool)]) {
 
 fn legend(out: &mut String, items: &[&str]) {
     for (i, text) in items.iter().enumerate() {
-        let y = px(TOP + 10.0) + 30 * i32::try_from(i).unwrap_or(0);
+        let y = px(TOP + 10.0) + 30 * i64::try_from(i).unwrap_or(0);
         let _ = write!(
             out,
             "<text x=\"{}\" y=\"{y}\">{}</text>",
@@ -234,8 +152,8 @@ pub fn ptc_svg(s: &CurveSeries, k: f64) -> String {
         .chain(s.model.iter().map(|m| m.1))
         .chain(std::iter::once(s.dark_noise_dn));
     let f = Plot {
-        x: Axis::new(xs, true, false),
-        y: Axis::new(ys, true, false),
+        x: Axis::padded(&xs.collect::<Vec<_>>(), Scale::Log, false),
+        y: Axis::padded(&ys.collect::<Vec<_>>(), Scale::Log, false),
         height: H,
     };
     let mut out = String::new();
@@ -289,13 +207,18 @@ pub fn ptc_svg(s: &CurveSeries, k: f64) -> String {
 pub fn fit_svg(s: &CurveSeries) -> String {
     let used: Vec<_> = s.points.iter().filter(|p| p.used_in_fit).collect();
     let f = Plot {
-        x: Axis::new(s.points.iter().map(|p| p.signal_dn), false, true),
-        y: Axis::new(
-            s.points
+        x: Axis::padded(
+            &s.points.iter().map(|p| p.signal_dn).collect::<Vec<_>>(),
+            Scale::Linear,
+            true,
+        ),
+        y: Axis::padded(
+            &s.points
                 .iter()
                 .map(|p| p.variance_above_dark_dn2)
-                .chain(s.fit_line.iter().map(|l| l.1)),
-            false,
+                .chain(s.fit_line.iter().map(|l| l.1))
+                .collect::<Vec<_>>(),
+            Scale::Linear,
             true,
         ),
         height: H,
@@ -336,8 +259,12 @@ pub fn fit_svg(s: &CurveSeries) -> String {
         .filter_map(|p| p.residual_dn2.map(|r| (p.signal_dn, r)))
         .collect();
     let g = Plot {
-        x: f.x,
-        y: Axis::new(res.iter().map(|r| r.1), false, true),
+        x: f.x.clone(),
+        y: Axis::padded(
+            &res.iter().map(|r| r.1).collect::<Vec<_>>(),
+            Scale::Linear,
+            true,
+        ),
         height: rh,
     };
     open_svg(

@@ -26,6 +26,7 @@ use web_sys::{
 
 use crate::display::{self, Style};
 use crate::dom;
+use crate::events::{on_id, when_settled};
 use crate::fields::{self, Kind};
 use crate::frames_plot;
 
@@ -126,29 +127,6 @@ pub fn mount() {
     if !has_worker() {
         status(&format!("Note: {NO_WORKER}."));
     }
-}
-
-fn on_id(id: &'static str, kind: &str, handler: impl FnMut(Event) + 'static) {
-    if let Some(el) = dom::by_id(id) {
-        let cb = Closure::<dyn FnMut(Event)>::new(handler);
-        let _ = el.add_event_listener_with_callback(kind, cb.as_ref().unchecked_ref());
-        // The listener lives as long as the page.
-        cb.forget();
-    }
-}
-
-/// Run `ok` or `failed` once when a promise settles.
-fn when_settled(
-    promise: &js_sys::Promise,
-    ok: impl FnOnce(JsValue) + 'static,
-    failed: impl FnOnce(JsValue) + 'static,
-) {
-    let ok = Closure::once(ok);
-    let failed = Closure::once(failed);
-    let _ = promise.then2(&ok, &failed);
-    // Each runs at most once, after this function returns.
-    ok.forget();
-    failed.forget();
 }
 
 fn status(text: &str) {

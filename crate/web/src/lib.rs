@@ -6,18 +6,22 @@
 
 pub mod address;
 pub mod chart;
+pub mod curves;
 pub mod demos;
+pub mod display;
 pub mod fields;
+pub mod ids;
+#[cfg(not(target_arch = "wasm32"))]
+pub mod markup;
 pub mod plot;
+pub mod svg;
 
 #[cfg(target_arch = "wasm32")]
 pub mod app;
 #[cfg(target_arch = "wasm32")]
-mod curves;
-#[cfg(target_arch = "wasm32")]
-mod display;
-#[cfg(target_arch = "wasm32")]
 pub mod dom;
+#[cfg(target_arch = "wasm32")]
+mod events;
 #[cfg(target_arch = "wasm32")]
 mod form;
 #[cfg(target_arch = "wasm32")]

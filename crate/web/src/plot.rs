@@ -3,11 +3,12 @@
 //!
 //! Drawing only: the values plotted are the engine's (`Spectrum::power_at`, the checked QE
 //! curve's points); here they are only placed on the drawing (scaled to its height). The
-//! markup is built by pure functions, tested natively; only [`show`] touches the page.
+//! markup is built by pure functions with the primitives of `svg.rs`, tested natively; only
+//! [`show`] touches the page.
 
 use engine::spectrum::{QeCurve, Spectrum};
 
-use crate::chart::escape;
+use crate::svg::{self, tenths as c};
 
 /// What to draw: a curve of (wavelength nm, value) and, for a single line, its wavelength.
 #[derive(Debug, Clone, PartialEq, Default)]
@@ -95,21 +96,13 @@ pub fn range_for(band_nm: (f64, f64), curve: Option<&Curve>) -> (f64, f64) {
     (lo, hi)
 }
 
-// The drawing, in units of a tenth (integer coordinates keep float formatting out of wasm).
+// The drawing's size and plot area, in drawing units (written in tenths, `svg::tenths`).
 const WIDTH: f64 = 320.0;
 const HEIGHT: f64 = 120.0;
 const LEFT: f64 = 30.0;
 const RIGHT: f64 = 310.0;
 const TOP: f64 = 8.0;
 const BOTTOM: f64 = 98.0;
-
-/// A drawing coordinate in tenths, as an integer.
-fn c(v: f64) -> i64 {
-    // OK: a saturating cast of a finite, bounded coordinate.
-    #[allow(clippy::cast_possible_truncation)]
-    let t = (v * 10.0).round() as i64;
-    t
-}
 
 /// The SVG markup of one plot. `y_top`: the value at the top of the drawing (`None`: the
 /// curve's own peak, for a relative spectrum). `id` makes the title's and description's ids.
@@ -134,13 +127,19 @@ pub fn svg(
         1.0
     };
     let y_of = |v: f64| BOTTOM - (v / top).clamp(0.0, 1.0) * (BOTTOM - TOP);
-    let mut out = format!(
-        "<svg class=\"plot-svg\" viewBox=\"0 0 {} {}\" role=\"img\" aria-labelledby=\"{id}-t {id}-d\">\
-         <title id=\"{id}-t\">{}</title><desc id=\"{id}-d\">{}</desc>",
-        c(WIDTH),
-        c(HEIGHT),
-        escape(title),
-        escape(desc)
+    let mut out = String::new();
+    svg::open(
+        &mut out,
+        &svg::Head {
+            id,
+            svg_id: None,
+            id_suffixes: ("t", "d"),
+            width: c(WIDTH),
+            height: c(HEIGHT),
+            attributes: " class=\"plot-svg\"",
+            title,
+            desc,
+        },
     );
     let (b0, b1) = (x_of(band_nm.0.max(lo)), x_of(band_nm.1.min(hi)));
     out.push_str(&format!(
@@ -198,7 +197,7 @@ pub fn svg(
 /// curve; a plot with nothing to draw is emptied.
 #[cfg(target_arch = "wasm32")]
 pub fn show(scenario: &engine::Scenario) {
-    use crate::dom;
+    use crate::{dom, ids};
     let band = scenario.sensor().response_band_nm;
     let band_words = format!(
         "The shaded part is the band the sensor responds to, {} to {} nm.",
@@ -232,16 +231,16 @@ pub fn show(scenario: &engine::Scenario) {
         slot.set_inner_html(&markup);
     };
     spectrum_plot(
-        dom::by_id("plot-light"),
+        dom::by_id(ids::PLOT_LIGHT),
         "plot-light-svg",
         Some(scenario.light()),
     );
     spectrum_plot(
-        dom::by_id("plot-bg"),
+        dom::by_id(ids::PLOT_BACKGROUND),
         "plot-bg-svg",
         scenario.background_light(),
     );
-    if let Some(slot) = dom::by_id("plot-qe") {
+    if let Some(slot) = dom::by_id(ids::PLOT_QE) {
         let markup = scenario
             .sensor()
             .quantum_efficiency_curve

@@ -14,6 +14,7 @@ use web_sys::{Element, HtmlElement};
 use crate::display::{self, Style};
 use crate::dom;
 use crate::fields::value_at;
+use crate::ids;
 
 thread_local! {
     /// The warnings on the page now (messages and concerns), to leave them alone when an edit
@@ -201,7 +202,7 @@ fn show_warnings(warnings: &[Warning]) {
     for list in dom::all_in_document("[data-warn-host] > .warnings") {
         dom::clear(&list);
     }
-    if let Some(general) = dom::by_id("warnings-general") {
+    if let Some(general) = dom::by_id(ids::WARNINGS_GENERAL) {
         dom::clear(&general);
     }
     for el in dom::all_in_document("[data-report].warned") {
@@ -232,7 +233,7 @@ fn show_warnings(warnings: &[Warning]) {
             }
         }
         if lists.is_empty() {
-            lists.extend(dom::by_id("warnings-general"));
+            lists.extend(dom::by_id(ids::WARNINGS_GENERAL));
         }
         for list in lists {
             if let Some(li) = dom::new_element("li", &w.message) {
@@ -245,7 +246,7 @@ fn show_warnings(warnings: &[Warning]) {
 
 /// Mark the results as belonging to an earlier, valid scenario (or not).
 pub fn set_stale(stale: bool) {
-    if let Some(results) = dom::by_id("results") {
+    if let Some(results) = dom::by_id(ids::RESULTS) {
         dom::set_class(&results, "stale", stale);
         if stale {
             dom::set_attr(&results, "aria-describedby", "stale-note");
@@ -253,7 +254,7 @@ pub fn set_stale(stale: bool) {
             dom::remove_attr(&results, "aria-describedby");
         }
     }
-    if let Some(note) = dom::by_id("stale-note") {
+    if let Some(note) = dom::by_id(ids::STALE_NOTE) {
         dom::set_hidden(&note, !stale);
     }
 }

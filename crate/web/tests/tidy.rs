@@ -1,5 +1,6 @@
 //! Tidy checks for the page, run natively by `cargo test`: the web crate and `www/index.html`
-//! agree (ids, names, report paths), and every source file says what it is for.
+//! agree (ids, names, report paths), and every source file says what it is for. The generated
+//! field markup is checked by `markup.rs` beside this file.
 //!
 //! They read files and the engine's output only; they drive no browser (the page tests do).
 
@@ -26,20 +27,42 @@ fn index_html() -> String {
 }
 
 fn rust_sources() -> Vec<PathBuf> {
-    let mut out = Vec::new();
-    for dir in ["src", "tests"] {
-        let entries = fs::read_dir(crate_dir().join(dir));
-        assert!(entries.is_ok(), "cannot list {dir}");
+    fn walk(dir: &Path, out: &mut Vec<PathBuf>) {
+        let entries = fs::read_dir(dir);
+        assert!(entries.is_ok(), "cannot list {}", dir.display());
         for e in entries.into_iter().flatten().flatten() {
             let p = e.path();
-            if p.extension().and_then(|x| x.to_str()) == Some("rs") {
+            if p.is_dir() {
+                walk(&p, out);
+            } else if p.extension().and_then(|x| x.to_str()) == Some("rs") {
                 out.push(p);
             }
         }
     }
+    let mut out = Vec::new();
+    for dir in ["src", "tests"] {
+        walk(&crate_dir().join(dir), &mut out);
+    }
     out.sort();
     out
 }
+
+/// The ids of `src/ids.rs`: (constant name, id).
+fn id_constants() -> Vec<(String, String)> {
+    let text = read(&crate_dir().join("src/ids.rs"));
+    text.lines()
+        .filter_map(|l| {
+            let rest = l.trim().strip_prefix("pub const ")?;
+            let (name, value) = rest.split_once(": &str = \"")?;
+            let value = value.strip_suffix("\";")?;
+            Some((name.to_string(), value.to_string()))
+        })
+        .collect()
+}
+
+/// Files that still look ids up by literal (checked against the page all the same): the
+/// frame measurement's section, until its ids move to `ids.rs`.
+const LITERAL_IDS_ALLOWED: &[&str] = &["frames_ui.rs"];
 
 /// Every value of `attr="…"` in the HTML text.
 fn attribute_values(html: &str, attr: &str) -> Vec<String> {
@@ -58,9 +81,20 @@ fn attribute_values(html: &str, attr: &str) -> Vec<String> {
 /// their own `id: &'static str` parameter to it.
 const LOOKUPS: &[&str] = &["by_id", "by_id_as", "on_id", "set_text_of"];
 
-/// Every id argument of a look-up in a Rust source: `Ok(literal)`, or `Err(text)` for an
-/// argument that is neither a literal nor a helper forwarding its own `id` parameter.
-fn looked_up_ids(src: &str) -> Vec<Result<String, String>> {
+/// An id argument of a look-up in a Rust source.
+#[derive(Debug)]
+enum Arg {
+    /// A string literal.
+    Literal(String),
+    /// A constant of `ids.rs` (`ids::STATUS`).
+    Constant(String),
+    /// Anything else (the text that starts it).
+    Other(String),
+}
+
+/// Every id argument of a look-up in a Rust source, except a helper forwarding its own `id`
+/// parameter.
+fn looked_up_ids(src: &str) -> Vec<Arg> {
     let mut out = Vec::new();
     for name in LOOKUPS {
         for (i, _) in src.match_indices(name) {
@@ -82,9 +116,16 @@ fn looked_up_ids(src: &str) -> Vec<Result<String, String>> {
             if rest.starts_with("id: ") || rest.starts_with("id)") || rest.starts_with("id,") {
                 continue; // the helper's own signature, or forwarding its parameter
             }
-            match rest.strip_prefix('"').and_then(|a| a.split_once('"')) {
-                Some((id, _)) => out.push(Ok(id.to_string())),
-                None => out.push(Err(rest.chars().take(40).collect())),
+            if let Some((id, _)) = rest.strip_prefix('"').and_then(|a| a.split_once('"')) {
+                out.push(Arg::Literal(id.to_string()));
+            } else if let Some(c) = rest.strip_prefix("ids::") {
+                let name: String = c
+                    .chars()
+                    .take_while(|c| c.is_ascii_uppercase() || c.is_ascii_digit() || *c == '_')
+                    .collect();
+                out.push(Arg::Constant(name));
+            } else {
+                out.push(Arg::Other(rest.chars().take(40).collect()));
             }
         }
     }
@@ -115,16 +156,47 @@ fn every_rust_file_opens_with_a_purpose_line() {
 }
 
 #[test]
+fn every_id_constant_exists_in_index_html() {
+    let ids = attribute_values(&index_html(), "id");
+    let constants = id_constants();
+    assert!(
+        constants.len() > 30,
+        "found only {} id constants: is the scan broken?",
+        constants.len()
+    );
+    for (name, id) in &constants {
+        assert!(
+            ids.contains(id),
+            "ids::{name} is #{id}, which www/index.html lacks"
+        );
+    }
+}
+
+#[test]
 fn every_id_the_web_crate_looks_up_exists_in_index_html() {
     let ids = attribute_values(&index_html(), "id");
+    let constants = id_constants();
     let mut checked = 0;
     for path in rust_sources()
         .into_iter()
         .filter(|p| p.starts_with(crate_dir().join("src")))
     {
+        let file = path
+            .file_name()
+            .and_then(|f| f.to_str())
+            .unwrap_or_default()
+            .to_string();
         for found in looked_up_ids(&read(&path)) {
             match found {
-                Ok(id) => {
+                Arg::Constant(name) => {
+                    assert!(
+                        constants.iter().any(|(n, _)| *n == name),
+                        "{} looks up ids::{name}, which src/ids.rs lacks",
+                        path.display()
+                    );
+                    checked += 1;
+                }
+                Arg::Literal(id) if LITERAL_IDS_ALLOWED.contains(&file.as_str()) => {
                     assert!(
                         ids.contains(&id),
                         "{} looks up #{id}, which www/index.html lacks",
@@ -132,15 +204,19 @@ fn every_id_the_web_crate_looks_up_exists_in_index_html() {
                     );
                     checked += 1;
                 }
-                Err(arg) => panic_free_fail(&format!(
-                    "{}: by_id must be called with a literal id, got `{arg}`",
+                Arg::Literal(id) => panic_free_fail(&format!(
+                    "{}: looks up #{id} by a literal; name it in src/ids.rs and use ids::…",
+                    path.display()
+                )),
+                Arg::Other(arg) => panic_free_fail(&format!(
+                    "{}: by_id must be called with an ids:: constant, got `{arg}`",
                     path.display()
                 )),
             }
         }
     }
     assert!(
-        checked > 10,
+        checked > 40,
         "found only {checked} id look-ups: is the scan broken?"
     );
 }
@@ -210,8 +286,13 @@ fn every_leaf_of_a_version_1_demo_has_a_field_named_by_its_path() {
             if path == "version" {
                 continue; // written by the page, not typed
             }
+            // A list of objects (an HDR readout's exposures) has a row of fields per element.
+            let rows = names.iter().any(|n| {
+                n.strip_prefix(path.as_str())
+                    .is_some_and(|r| r.starts_with('['))
+            });
             assert!(
-                names.contains(&path),
+                names.contains(&path) || rows,
                 "demo {}: no form field named \"{path}\"",
                 d.name
             );
@@ -244,23 +325,46 @@ fn collect_leaves(v: &serde_json::Value, prefix: String, out: &mut Vec<String>) 
 
 #[test]
 fn every_form_field_is_a_scenario_key_the_engine_accepts() {
-    // Put each named field's path into a valid demo with a valid value of its kind: the engine
-    // must not call it an unknown key. Values come from the demos, where each key is used.
+    // Each named field is a key of the engine's catalogue (at one of its places; a row of a
+    // list of objects by its element), and each key a demo uses has a field. The catalogue
+    // itself is checked against the validator in the engine (`keys/tests.rs`).
     let names = form_field_names();
     assert!(names.len() >= 22, "found only {} named fields", names.len());
     for name in &names {
-        let used = DEMOS.iter().any(|d| {
-            let v: serde_json::Value = serde_json::from_str(d.json).unwrap_or_default();
-            value_at(&v, name).is_some()
-        });
-        // Keys of the light kinds, the background light and the response band are known from
-        // the format description (docs/scenario-format.md), not all used by a demo.
-        let light_key = name.starts_with("light.")
-            || name.starts_with("background_light.")
-            || name.starts_with("sensor.response_");
+        let general = strip_indices(name);
         assert!(
-            used || light_key,
-            "field {name} is not used by any demo, so it is not known to be a scenario key"
+            engine::keys::find(&general).is_some(),
+            "field {name} is not a key of the engine's catalogue"
         );
     }
+    for d in DEMOS {
+        let v: serde_json::Value = serde_json::from_str(d.json).unwrap_or_default();
+        let mut leaves = Vec::new();
+        collect_leaves(&v, String::new(), &mut leaves);
+        for leaf in leaves.iter().filter(|l| *l != "version") {
+            let known = engine::keys::find(leaf).is_some();
+            assert!(known, "{}: {leaf} is not a key of the catalogue", d.name);
+        }
+    }
+}
+
+/// `hdr.exposures[1].ratio` as the catalogue writes it, `hdr.exposures[].ratio`.
+fn strip_indices(path: &str) -> String {
+    let mut out = String::new();
+    let mut in_index = false;
+    for c in path.chars() {
+        match c {
+            '[' => {
+                in_index = true;
+                out.push('[');
+            }
+            ']' => {
+                in_index = false;
+                out.push(']');
+            }
+            _ if in_index => {}
+            _ => out.push(c),
+        }
+    }
+    out
 }

@@ -505,6 +505,11 @@ impl Sweepable {
 /// in catalogue order: the validator tells a light's kind by which of them is present.
 pub const LIGHT_AMOUNTS: [&str; count_amounts()] = amount_names();
 
+/// Each light kind's name, the path of its amount key and whether it has a spectrum: a
+/// compile-time projection of [`LIGHT_KINDS`] without the choice's words (which only the page's
+/// markup needs).
+pub const LIGHT_KIND_AMOUNTS: [(&str, &str, bool); LIGHT_KINDS.len()] = kind_amounts();
+
 /// The names of every key of a light object, in catalogue order.
 pub const LIGHT_KEY_NAMES: [&str; light::KEYS.len()] = light_names();
 
@@ -634,6 +639,18 @@ const fn amount_names<const N: usize>() -> [&'static str; N] {
             out[n] = light::KEYS[i].name;
             n += 1;
         }
+        i += 1;
+    }
+    out
+}
+
+#[allow(clippy::indexing_slicing)] // OK: compile time only; an index out of range fails the build
+const fn kind_amounts<const N: usize>() -> [(&'static str, &'static str, bool); N] {
+    let mut out = [("", "", false); N];
+    let mut i = 0;
+    while i < N {
+        let k = &LIGHT_KINDS[i];
+        out[i] = (k.name, k.amount, k.spectrum);
         i += 1;
     }
     out

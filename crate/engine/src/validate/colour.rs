@@ -4,7 +4,7 @@
 //! The rules joining the channels with the light are in `light.rs` (each channel's QE must
 //! reach the light, as the sensor's own QE must).
 
-use super::ReadKey;
+use super::{key, ReadKey};
 use crate::colour::Processing;
 use crate::input::{Fields, Problems};
 use crate::keys;
@@ -25,21 +25,19 @@ pub(super) fn pattern(name: &str) -> Option<BayerPattern> {
 /// `sensor.channels`: R, G and B, each with its QE.
 pub(super) fn channels(p: &mut Problems, f: &mut Fields<'_>) -> Option<[ChannelResponse; 3]> {
     use keys::{CHANNEL_B, CHANNEL_G, CHANNEL_R};
-    let mut read = |key: &keys::Key| {
-        f.object_key(p, key.name, key.rule)
-            .and_then(|mut c| channel(p, &mut c))
-    };
-    let r = read(&CHANNEL_R);
-    let g = read(&CHANNEL_G);
-    let b = read(&CHANNEL_B);
+    let mut read =
+        |key: (&str, keys::Rule)| f.object_key(p, key).and_then(|mut c| channel(p, &mut c));
+    let r = read(key!(CHANNEL_R));
+    let g = read(key!(CHANNEL_G));
+    let b = read(key!(CHANNEL_B));
     f.finish(p);
     Some([r?, g?, b?])
 }
 
 fn channel(p: &mut Problems, f: &mut Fields<'_>) -> Option<ChannelResponse> {
     use keys::{CHANNEL_QUANTUM_EFFICIENCY as QE, CHANNEL_QUANTUM_EFFICIENCY_CURVE as CURVE};
-    let quantum_efficiency = f.number_key(p, QE.name, QE.rule);
-    let curve = f.pairs_key(p, CURVE.name, CURVE.rule);
+    let quantum_efficiency = f.number_key(p, key!(QE));
+    let curve = f.pairs_key(p, key!(CURVE));
     let failed = f.had_problem_at(p, QE.name) || f.had_problem_at(p, CURVE.name);
     f.finish(p);
     // Whether the light can use what is given is checked with the light (`check_light`).
@@ -53,9 +51,9 @@ fn channel(p: &mut Problems, f: &mut Fields<'_>) -> Option<ChannelResponse> {
 pub(super) fn processing(p: &mut Problems, f: &mut Fields<'_>) -> Option<Processing> {
     use keys::{CHANNEL_CORRELATION, COLOUR_MATRIX, WHITE_BALANCE};
     let defaults = Processing::default();
-    let gains = f.numbers_key(p, WHITE_BALANCE.name, WHITE_BALANCE.rule);
-    let matrix = f.matrix_key(p, COLOUR_MATRIX.name, COLOUR_MATRIX.rule);
-    let correlation = f.number_key(p, CHANNEL_CORRELATION.name, CHANNEL_CORRELATION.rule);
+    let gains = f.numbers_key(p, key!(WHITE_BALANCE));
+    let matrix = f.matrix_key(p, key!(COLOUR_MATRIX));
+    let correlation = f.number_key(p, key!(CHANNEL_CORRELATION));
     let failed = f.had_problem_at(p, WHITE_BALANCE.name) || f.had_problem_at(p, COLOUR_MATRIX.name);
     f.finish(p);
     if failed {

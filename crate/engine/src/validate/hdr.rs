@@ -2,16 +2,16 @@
 //! its low gain, each key read with its catalogue rule (`keys::hdr`). Defaults that come from
 //! the sensor (an exposure's read noise and full well) are filled in here.
 
-use super::ReadKey;
+use super::{key, ReadKey};
 use crate::input::{Fields, Problems};
 use crate::keys;
 use crate::scenario::{Hdr, HdrExposure, HdrReadouts, LowGain, Sensor};
 
 pub(super) fn hdr(p: &mut Problems, f: &mut Fields<'_>, sensor: Option<&Sensor>) -> Option<Hdr> {
     use keys::{BLEND_FRACTION, EXPOSURES, HDR_KIND, LOW_GAIN, SWITCH_FRACTION};
-    let kind = f.choice_key(p, HDR_KIND.name, HDR_KIND.rule);
-    let switch_fraction = f.number_key(p, SWITCH_FRACTION.name, SWITCH_FRACTION.rule);
-    let blend_fraction = f.number_key(p, BLEND_FRACTION.name, BLEND_FRACTION.rule);
+    let kind = f.choice_key(p, key!(HDR_KIND));
+    let switch_fraction = f.number_key(p, key!(SWITCH_FRACTION));
+    let blend_fraction = f.number_key(p, key!(BLEND_FRACTION));
     let wrong_kind = |p: &mut Problems, f: &mut Fields<'_>, key: &str, kind: &str| {
         if f.has(key) {
             f.mark_used(key);
@@ -24,7 +24,7 @@ pub(super) fn hdr(p: &mut Problems, f: &mut Fields<'_>, sensor: Option<&Sensor>)
     let readouts = match kind {
         Some("exposures") => {
             wrong_kind(p, f, LOW_GAIN.name, "dual_gain");
-            match f.list_key(p, EXPOSURES.name, EXPOSURES.rule) {
+            match f.list_key(p, key!(EXPOSURES)) {
                 Some(list) => {
                     let n = list.len();
                     let read: Vec<Option<HdrExposure>> = list
@@ -37,7 +37,7 @@ pub(super) fn hdr(p: &mut Problems, f: &mut Fields<'_>, sensor: Option<&Sensor>)
                 None => {
                     if !f.had_problem_at(p, EXPOSURES.name) {
                         p.push(
-                            &f.path_of(EXPOSURES.name),
+                            &f.path_of(const { EXPOSURES.name }),
                             "required when hdr.kind is \"exposures\": list the shorter exposures"
                                 .into(),
                         );
@@ -48,14 +48,14 @@ pub(super) fn hdr(p: &mut Problems, f: &mut Fields<'_>, sensor: Option<&Sensor>)
         }
         Some(_) => {
             wrong_kind(p, f, EXPOSURES.name, "exposures");
-            f.object_key(p, LOW_GAIN.name, LOW_GAIN.rule)
+            f.object_key(p, key!(LOW_GAIN))
                 .and_then(|mut g| low_gain(p, &mut g))
                 .map(HdrReadouts::DualGain)
         }
         None => {
             // The kind is missing or wrong (already a problem): read the rest for its own
             // problems, then give up.
-            for key in [EXPOSURES.name, LOW_GAIN.name] {
+            for key in [const { EXPOSURES.name }, LOW_GAIN.name] {
                 f.mark_used(key);
             }
             None
@@ -71,17 +71,15 @@ pub(super) fn hdr(p: &mut Problems, f: &mut Fields<'_>, sensor: Option<&Sensor>)
 
 fn exposure(p: &mut Problems, f: &mut Fields<'_>, sensor: Option<&Sensor>) -> Option<HdrExposure> {
     use keys::{EXPOSURE_FULL_WELL_E, EXPOSURE_RATIO, EXPOSURE_READ_NOISE_E};
-    let ratio = f.number_key(p, EXPOSURE_RATIO.name, EXPOSURE_RATIO.rule);
+    let ratio = f.number_key(p, key!(EXPOSURE_RATIO));
     let read_noise = f.number_key_or(
         p,
-        EXPOSURE_READ_NOISE_E.name,
-        EXPOSURE_READ_NOISE_E.rule,
+        key!(EXPOSURE_READ_NOISE_E),
         sensor.map_or(f64::NAN, |s| s.read_noise_e),
     );
     let full_well = f.number_key_or(
         p,
-        EXPOSURE_FULL_WELL_E.name,
-        EXPOSURE_FULL_WELL_E.rule,
+        key!(EXPOSURE_FULL_WELL_E),
         sensor.map_or(f64::NAN, |s| s.full_well_e),
     );
     f.finish(p);
@@ -98,13 +96,13 @@ fn low_gain(p: &mut Problems, f: &mut Fields<'_>) -> Option<LowGain> {
         LOW_GAIN_CONVERSION_GAIN_UV_PER_E as CG, LOW_GAIN_FULL_WELL_E as FW,
         LOW_GAIN_READ_NOISE_E as READ, LOW_GAIN_SYSTEM_GAIN_DN_PER_E as K,
     };
-    let system_gain = f.number_key(p, K.name, K.rule);
-    let read_noise = f.number_key(p, READ.name, READ.rule);
-    let full_well = f.number_key(p, FW.name, FW.rule);
-    let conversion_gain = if f.has(CG.name) {
-        f.number_key(p, CG.name, CG.rule)
+    let system_gain = f.number_key(p, key!(K));
+    let read_noise = f.number_key(p, key!(READ));
+    let full_well = f.number_key(p, key!(FW));
+    let conversion_gain = if f.has(const { CG.name }) {
+        f.number_key(p, key!(CG))
     } else {
-        f.mark_used(CG.name);
+        f.mark_used(const { CG.name });
         None
     };
     let cg_failed = f.had_problem_at(p, CG.name);

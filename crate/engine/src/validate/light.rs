@@ -2,7 +2,7 @@
 //! with its catalogue rule (`keys::light`), its lens and spectrum; then the rules that join the
 //! light with the sensor's response (QE, response band, visible light for photometric units).
 
-use super::ReadKey;
+use super::{key, ReadKey};
 use crate::input::{show, Fields, Problems};
 use crate::keys::{self, LIGHT_AMOUNTS, LIGHT_KEY_NAMES};
 use crate::light::{Lens, Light, Response, SceneQuantity};
@@ -24,8 +24,8 @@ pub(super) fn read_light(p: &mut Problems, f: &mut Fields<'_>) -> Option<Light> 
         [one] => Some(*one),
         [] => {
             // `wavelength_nm` alone is an incomplete irradiance, named as such.
-            if f.has(WAVELENGTH_NM.name) {
-                Some(IRRADIANCE_W_PER_M2.name)
+            if f.has(const { WAVELENGTH_NM.name }) {
+                Some(const { IRRADIANCE_W_PER_M2.name })
             } else {
                 p.push(
                     &f.prefix(),
@@ -53,41 +53,41 @@ pub(super) fn read_light(p: &mut Problems, f: &mut Fields<'_>) -> Option<Light> 
         f.finish(p);
         return None;
     };
-    let light = if kind == PHOTON_FLUX_PER_UM2_S.name {
-        f.number_key(p, kind, PHOTON_FLUX_PER_UM2_S.rule)
+    let light = if kind == const { PHOTON_FLUX_PER_UM2_S.name } {
+        f.number_key(p, (kind, const { PHOTON_FLUX_PER_UM2_S.rule }))
             .map(|v| Light::PhotonFlux {
                 photon_flux_per_um2_s: v,
             })
-    } else if kind == PHOTONS_PER_PIXEL.name {
-        f.number_key(p, kind, PHOTONS_PER_PIXEL.rule)
+    } else if kind == const { PHOTONS_PER_PIXEL.name } {
+        f.number_key(p, (kind, const { PHOTONS_PER_PIXEL.rule }))
             .map(|v| Light::PhotonsPerPixel {
                 photons_per_pixel: v,
             })
-    } else if kind == IRRADIANCE_W_PER_M2.name {
-        let e = f.number_key(p, kind, IRRADIANCE_W_PER_M2.rule);
-        if f.has(SPECTRUM.name) && f.has(WAVELENGTH_NM.name) {
+    } else if kind == const { IRRADIANCE_W_PER_M2.name } {
+        let e = f.number_key(p, (kind, const { IRRADIANCE_W_PER_M2.rule }));
+        if f.has(const { SPECTRUM.name }) && f.has(const { WAVELENGTH_NM.name }) {
             p.push(
-                &f.path_of(WAVELENGTH_NM.name),
+                &f.path_of(const { WAVELENGTH_NM.name }),
                 "give either wavelength_nm (monochromatic) or a spectrum, not both".into(),
             );
-            f.mark_used(WAVELENGTH_NM.name);
-            f.mark_used(SPECTRUM.name);
+            f.mark_used(const { WAVELENGTH_NM.name });
+            f.mark_used(const { SPECTRUM.name });
             None
-        } else if f.has(SPECTRUM.name) {
+        } else if f.has(const { SPECTRUM.name }) {
             let s = spectrum(p, f);
             Some(Light::SpectralIrradiance {
                 irradiance_w_per_m2: e?,
                 spectrum: s?,
             })
         } else {
-            let l = f.number_key(p, WAVELENGTH_NM.name, WAVELENGTH_NM.rule);
+            let l = f.number_key(p, key!(WAVELENGTH_NM));
             Some(Light::Irradiance {
                 irradiance_w_per_m2: e?,
                 wavelength_nm: l?,
             })
         }
-    } else if kind == ILLUMINANCE_LUX.name {
-        let e = f.number_key(p, kind, ILLUMINANCE_LUX.rule);
+    } else if kind == const { ILLUMINANCE_LUX.name } {
+        let e = f.number_key(p, (kind, const { ILLUMINANCE_LUX.rule }));
         let s = spectrum(p, f);
         Some(Light::Illuminance {
             illuminance_lux: e?,
@@ -95,36 +95,37 @@ pub(super) fn read_light(p: &mut Problems, f: &mut Fields<'_>) -> Option<Light> 
         })
     } else {
         // A scene quantity through a lens (the four kinds left).
-        let amount = [
-            SCENE_ILLUMINANCE_LUX,
-            SCENE_IRRADIANCE_W_PER_M2,
-            SCENE_LUMINANCE_CD_PER_M2,
-            keys::SCENE_RADIANCE_W_PER_M2_SR,
-        ]
-        .into_iter()
-        .find(|k| k.name == kind)
-        .map_or(keys::SCENE_RADIANCE_W_PER_M2_SR.rule, |k| k.rule);
-        let value = f.number_key(p, kind, amount);
-        let lit = kind == SCENE_ILLUMINANCE_LUX.name || kind == SCENE_IRRADIANCE_W_PER_M2.name;
+        let amount = if kind == const { SCENE_ILLUMINANCE_LUX.name } {
+            const { SCENE_ILLUMINANCE_LUX.rule }
+        } else if kind == const { SCENE_IRRADIANCE_W_PER_M2.name } {
+            const { SCENE_IRRADIANCE_W_PER_M2.rule }
+        } else if kind == const { SCENE_LUMINANCE_CD_PER_M2.name } {
+            const { SCENE_LUMINANCE_CD_PER_M2.rule }
+        } else {
+            const { keys::SCENE_RADIANCE_W_PER_M2_SR.rule }
+        };
+        let value = f.number_key(p, (kind, amount));
+        let lit = kind == const { SCENE_ILLUMINANCE_LUX.name }
+            || kind == const { SCENE_IRRADIANCE_W_PER_M2.name };
         let reflectance = if lit {
-            f.number_key(p, REFLECTANCE.name, REFLECTANCE.rule)
+            f.number_key(p, key!(REFLECTANCE))
         } else {
             Some(0.0)
         };
         let s = spectrum(p, f);
         let lens = lens(p, f);
         let (value, reflectance) = (value?, reflectance?);
-        let quantity = if kind == SCENE_ILLUMINANCE_LUX.name {
+        let quantity = if kind == const { SCENE_ILLUMINANCE_LUX.name } {
             SceneQuantity::Illuminance {
                 lux: value,
                 reflectance,
             }
-        } else if kind == SCENE_IRRADIANCE_W_PER_M2.name {
+        } else if kind == const { SCENE_IRRADIANCE_W_PER_M2.name } {
             SceneQuantity::Irradiance {
                 w_per_m2: value,
                 reflectance,
             }
-        } else if kind == SCENE_LUMINANCE_CD_PER_M2.name {
+        } else if kind == const { SCENE_LUMINANCE_CD_PER_M2.name } {
             SceneQuantity::Luminance { cd_per_m2: value }
         } else {
             SceneQuantity::Radiance { w_per_m2_sr: value }
@@ -141,10 +142,10 @@ pub(super) fn read_light(p: &mut Problems, f: &mut Fields<'_>) -> Option<Light> 
 
 fn lens(p: &mut Problems, f: &mut Fields<'_>) -> Option<Lens> {
     use keys::{FIELD_ANGLE_DEG, F_NUMBER, LENS_TRANSMISSION, MAGNIFICATION};
-    let f_number = f.number_key(p, F_NUMBER.name, F_NUMBER.rule);
-    let transmission = f.number_key(p, LENS_TRANSMISSION.name, LENS_TRANSMISSION.rule);
-    let magnification = f.number_key(p, MAGNIFICATION.name, MAGNIFICATION.rule);
-    let field_angle_deg = f.number_key(p, FIELD_ANGLE_DEG.name, FIELD_ANGLE_DEG.rule);
+    let f_number = f.number_key(p, key!(F_NUMBER));
+    let transmission = f.number_key(p, key!(LENS_TRANSMISSION));
+    let magnification = f.number_key(p, key!(MAGNIFICATION));
+    let field_angle_deg = f.number_key(p, key!(FIELD_ANGLE_DEG));
     Some(Lens {
         f_number: f_number?,
         transmission: transmission?,
@@ -159,28 +160,28 @@ fn spectrum(p: &mut Problems, f: &mut Fields<'_>) -> Option<Spectrum> {
         SPECTRUM, SPECTRUM_CENTRE_NM, SPECTRUM_FWHM_NM, SPECTRUM_KIND, SPECTRUM_POINTS,
         SPECTRUM_TEMPERATURE_K, SPECTRUM_WAVELENGTH_NM,
     };
-    let mut s = f.object_key(p, SPECTRUM.name, SPECTRUM.rule)?;
-    let kind = s.choice_key(p, SPECTRUM_KIND.name, SPECTRUM_KIND.rule);
+    let mut s = f.object_key(p, key!(SPECTRUM))?;
+    let kind = s.choice_key(p, key!(SPECTRUM_KIND));
     let spectrum = match kind? {
         "cie_a" => Some(Spectrum::CieA),
         "cie_d65" => Some(Spectrum::CieD65),
         "equal_energy" => Some(Spectrum::EqualEnergy),
         "blackbody" => s
-            .number_key(p, SPECTRUM_TEMPERATURE_K.name, SPECTRUM_TEMPERATURE_K.rule)
+            .number_key(p, key!(SPECTRUM_TEMPERATURE_K))
             .map(|t| Spectrum::Blackbody { temperature_k: t }),
         "monochromatic" => s
-            .number_key(p, SPECTRUM_WAVELENGTH_NM.name, SPECTRUM_WAVELENGTH_NM.rule)
+            .number_key(p, key!(SPECTRUM_WAVELENGTH_NM))
             .map(|l| Spectrum::Monochromatic { wavelength_nm: l }),
         "gaussian" => {
-            let c = s.number_key(p, SPECTRUM_CENTRE_NM.name, SPECTRUM_CENTRE_NM.rule);
-            let w = s.number_key(p, SPECTRUM_FWHM_NM.name, SPECTRUM_FWHM_NM.rule);
+            let c = s.number_key(p, key!(SPECTRUM_CENTRE_NM));
+            let w = s.number_key(p, key!(SPECTRUM_FWHM_NM));
             Some(Spectrum::Gaussian {
                 centre_nm: c?,
                 fwhm_nm: w?,
             })
         }
         _ => s
-            .pairs_key(p, SPECTRUM_POINTS.name, SPECTRUM_POINTS.rule)
+            .pairs_key(p, key!(SPECTRUM_POINTS))
             .map(|points| Spectrum::Table { points }),
     };
     s.finish(p);

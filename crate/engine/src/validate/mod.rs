@@ -101,7 +101,7 @@ pub fn scenario_from_value(v: &Value) -> Result<Scenario, ScenarioError> {
     let mut top = Fields::new("", map);
 
     // The version is checked first: a newer file gets one clear message, not a list of its keys.
-    match top.get(keys::VERSION.name) {
+    match top.get(const { keys::VERSION.name }) {
         None => p.push(
             "version",
             "required: this calculator reads format version 1".into(),
@@ -119,10 +119,10 @@ pub fn scenario_from_value(v: &Value) -> Result<Scenario, ScenarioError> {
         Some(other) => p.push("version", format!("must be 1, got {}", show_value(other))),
     }
 
-    let title = top.string(&mut p, keys::TITLE.name);
+    let title = top.string(&mut p, const { keys::TITLE.name });
     let sensor = top
         .object(&mut p, "sensor", true)
-        .and_then(|mut f| sensor::sensor(&mut p, &mut f));
+        .and_then(|mut f| sensor::read_sensor(&mut p, &mut f));
     let light = top
         .object(&mut p, "light", true)
         .and_then(|mut f| light::read_light(&mut p, &mut f));
@@ -132,17 +132,17 @@ pub fn scenario_from_value(v: &Value) -> Result<Scenario, ScenarioError> {
     let exposure = top
         .object(&mut p, "exposure", true)
         .and_then(|mut f| exposure::exposure(&mut p, &mut f));
-    let temperature_c = top.number_key(&mut p, keys::TEMPERATURE_C.name, keys::TEMPERATURE_C.rule);
-    let snr_threshold = top.number_key(&mut p, keys::SNR_THRESHOLD.name, keys::SNR_THRESHOLD.rule);
-    let processing_given = top.has(keys::PROCESSING.name);
-    let processing = match top.object_key(&mut p, keys::PROCESSING.name, keys::PROCESSING.rule) {
+    let temperature_c = top.number_key(&mut p, key!(keys::TEMPERATURE_C));
+    let snr_threshold = top.number_key(&mut p, key!(keys::SNR_THRESHOLD));
+    let processing_given = top.has(const { keys::PROCESSING.name });
+    let processing = match top.object_key(&mut p, key!(keys::PROCESSING)) {
         Some(mut f) => colour::processing(&mut p, &mut f),
         None => Some(crate::colour::Processing::default()),
     };
     let hdr = top
-        .object_key(&mut p, keys::HDR.name, keys::HDR.rule)
+        .object_key(&mut p, key!(keys::HDR))
         .and_then(|mut f| hdr::hdr(&mut p, &mut f, sensor.as_ref()));
-    let hdr_failed = top.had_problem_at(&p, keys::HDR.name);
+    let hdr_failed = top.had_problem_at(&p, const { keys::HDR.name });
     top.finish(&mut p);
 
     // Rules that join keys, checked only where both sides were readable.
@@ -242,41 +242,44 @@ pub fn scenario_from_value(v: &Value) -> Result<Scenario, ScenarioError> {
     }
 }
 
-/// Reading a key of the catalogue with its entry's rule: `f.number_key(p, K.name, K.rule)`.
+/// A catalogue entry's name and rule, taken at compile time: `f.number_key(p, key!(K))`.
 ///
-/// Only the name and the rule are passed, not the entry: a build that only validates (the
-/// page's wasm) then carries no help text. A rule of another kind than the method reads cannot
+/// Only these two go into the code, in `const` blocks of their own: reading a field of an
+/// entry at run time would put the whole entry (its label, its help) into the page's wasm.
+macro_rules! key {
+    ($k:path) => {
+        (const { $k.name }, const { $k.rule })
+    };
+}
+pub(crate) use key;
+
+/// Reading a key of the catalogue with its entry's rule (from [`key!`]).
+/// A rule of another kind than the method reads cannot
 /// come from the catalogue (every key is read in `keys/tests.rs` with its rule); it is reported
 /// as a problem, never a panic.
 trait ReadKey<'v> {
     /// A number (`Rule::Number`), with its presence and range.
-    fn number_key(&mut self, p: &mut Problems, name: &str, rule: Rule) -> Option<f64>;
+    fn number_key(&mut self, p: &mut Problems, key: (&str, Rule)) -> Option<f64>;
     /// A number whose default, computed from other keys, is `default`.
-    fn number_key_or(
-        &mut self,
-        p: &mut Problems,
-        name: &str,
-        rule: Rule,
-        default: f64,
-    ) -> Option<f64>;
+    fn number_key_or(&mut self, p: &mut Problems, key: (&str, Rule), default: f64) -> Option<f64>;
     /// A whole number (`Rule::Whole`).
-    fn whole_key(&mut self, p: &mut Problems, name: &str, rule: Rule) -> Option<u32>;
+    fn whole_key(&mut self, p: &mut Problems, key: (&str, Rule)) -> Option<u32>;
     /// One of a choice's values (`Rule::Choice`).
-    fn choice_key(&mut self, p: &mut Problems, name: &str, rule: Rule) -> Option<&'static str>;
+    fn choice_key(&mut self, p: &mut Problems, key: (&str, Rule)) -> Option<&'static str>;
     /// A list of wavelength/value pairs (`Rule::Pairs`).
-    fn pairs_key(&mut self, p: &mut Problems, name: &str, rule: Rule) -> Option<Vec<(f64, f64)>>;
+    fn pairs_key(&mut self, p: &mut Problems, key: (&str, Rule)) -> Option<Vec<(f64, f64)>>;
     /// A nested object (`Rule::Object`).
-    fn object_key(&mut self, p: &mut Problems, name: &str, rule: Rule) -> Option<Fields<'v>>;
+    fn object_key(&mut self, p: &mut Problems, key: (&str, Rule)) -> Option<Fields<'v>>;
     /// A list of numbers (`Rule::Numbers`).
-    fn numbers_key(&mut self, p: &mut Problems, name: &str, rule: Rule) -> Option<Vec<f64>>;
+    fn numbers_key(&mut self, p: &mut Problems, key: (&str, Rule)) -> Option<Vec<f64>>;
     /// A matrix (`Rule::Matrix`).
-    fn matrix_key(&mut self, p: &mut Problems, name: &str, rule: Rule) -> Option<Vec<Vec<f64>>>;
+    fn matrix_key(&mut self, p: &mut Problems, key: (&str, Rule)) -> Option<Vec<Vec<f64>>>;
     /// A list of objects (`Rule::List`).
-    fn list_key(&mut self, p: &mut Problems, name: &str, rule: Rule) -> Option<Vec<Fields<'v>>>;
+    fn list_key(&mut self, p: &mut Problems, key: (&str, Rule)) -> Option<Vec<Fields<'v>>>;
 }
 
 impl<'v> ReadKey<'v> for Fields<'v> {
-    fn number_key(&mut self, p: &mut Problems, name: &str, rule: Rule) -> Option<f64> {
+    fn number_key(&mut self, p: &mut Problems, (name, rule): (&str, Rule)) -> Option<f64> {
         let Rule::Number { presence, range } = rule else {
             return not_this_kind(self, p, name, "a number");
         };
@@ -297,8 +300,7 @@ impl<'v> ReadKey<'v> for Fields<'v> {
     fn number_key_or(
         &mut self,
         p: &mut Problems,
-        name: &str,
-        rule: Rule,
+        (name, rule): (&str, Rule),
         default: f64,
     ) -> Option<f64> {
         let Rule::Number { range, .. } = rule else {
@@ -307,21 +309,25 @@ impl<'v> ReadKey<'v> for Fields<'v> {
         self.number(p, name, Need::Default(default), range)
     }
 
-    fn whole_key(&mut self, p: &mut Problems, name: &str, rule: Rule) -> Option<u32> {
+    fn whole_key(&mut self, p: &mut Problems, (name, rule): (&str, Rule)) -> Option<u32> {
         let Rule::Whole { default, min, max } = rule else {
             return not_this_kind(self, p, name, "a whole number");
         };
         self.integer(p, name, default, min, max)
     }
 
-    fn choice_key(&mut self, p: &mut Problems, name: &str, rule: Rule) -> Option<&'static str> {
+    fn choice_key(&mut self, p: &mut Problems, (name, rule): (&str, Rule)) -> Option<&'static str> {
         let Rule::Choice { values, default } = rule else {
             return not_this_kind(self, p, name, "a choice");
         };
         self.choice(p, name, values, default)
     }
 
-    fn pairs_key(&mut self, p: &mut Problems, name: &str, rule: Rule) -> Option<Vec<(f64, f64)>> {
+    fn pairs_key(
+        &mut self,
+        p: &mut Problems,
+        (name, rule): (&str, Rule),
+    ) -> Option<Vec<(f64, f64)>> {
         let Rule::Pairs {
             max_value,
             presence,
@@ -343,21 +349,25 @@ impl<'v> ReadKey<'v> for Fields<'v> {
         pairs
     }
 
-    fn object_key(&mut self, p: &mut Problems, name: &str, rule: Rule) -> Option<Fields<'v>> {
+    fn object_key(&mut self, p: &mut Problems, (name, rule): (&str, Rule)) -> Option<Fields<'v>> {
         let Rule::Object { required, .. } = rule else {
             return not_this_kind(self, p, name, "an object");
         };
         self.object(p, name, required)
     }
 
-    fn numbers_key(&mut self, p: &mut Problems, name: &str, rule: Rule) -> Option<Vec<f64>> {
+    fn numbers_key(&mut self, p: &mut Problems, (name, rule): (&str, Rule)) -> Option<Vec<f64>> {
         let Rule::Numbers { count, range, .. } = rule else {
             return not_this_kind(self, p, name, "a list of numbers");
         };
         self.numbers(p, name, count, range)
     }
 
-    fn matrix_key(&mut self, p: &mut Problems, name: &str, rule: Rule) -> Option<Vec<Vec<f64>>> {
+    fn matrix_key(
+        &mut self,
+        p: &mut Problems,
+        (name, rule): (&str, Rule),
+    ) -> Option<Vec<Vec<f64>>> {
         let Rule::Matrix {
             rows,
             columns,
@@ -370,7 +380,11 @@ impl<'v> ReadKey<'v> for Fields<'v> {
         self.matrix(p, name, rows, columns, range)
     }
 
-    fn list_key(&mut self, p: &mut Problems, name: &str, rule: Rule) -> Option<Vec<Fields<'v>>> {
+    fn list_key(
+        &mut self,
+        p: &mut Problems,
+        (name, rule): (&str, Rule),
+    ) -> Option<Vec<Fields<'v>>> {
         let Rule::List { min, max, .. } = rule else {
             return not_this_kind(self, p, name, "a list of objects");
         };

@@ -4,7 +4,7 @@
 //!
 //! The rules joining the sensor with the light are in `light.rs`.
 
-use super::ReadKey;
+use super::{key, ReadKey};
 use crate::dark;
 use crate::input::{show, Fields, Problems};
 use crate::keys::{self, Presence, Rule};
@@ -29,7 +29,7 @@ const fn fallback(rule: Rule) -> f64 {
     }
 }
 
-pub(super) fn sensor(p: &mut Problems, f: &mut Fields<'_>) -> Option<Sensor> {
+pub(super) fn read_sensor(p: &mut Problems, f: &mut Fields<'_>) -> Option<Sensor> {
     use keys::{
         ADC_BITS, BAND_GAP_PARAMETERS, BLACK_LEVEL_DN, CFA, CHANNELS, CONVERSION_GAIN_UV_PER_E,
         DARK_CURRENT_DOUBLING_C, DARK_CURRENT_E_PER_S, DARK_CURRENT_LAW,
@@ -38,30 +38,20 @@ pub(super) fn sensor(p: &mut Problems, f: &mut Fields<'_>) -> Option<Sensor> {
         READ_NOISE_E, RESPONSE_FROM_NM, RESPONSE_TO_NM, SENSE_NODE_CAPACITANCE_FF, SUMMING_WELL_E,
         SYSTEM_GAIN_DN_PER_E,
     };
-    let pixel_pitch_um = f.number_key(p, PIXEL_PITCH_UM.name, PIXEL_PITCH_UM.rule);
+    let pixel_pitch_um = f.number_key(p, key!(PIXEL_PITCH_UM));
     // Required unless a QE curve covers the light; checked with the light (`check_light`).
-    let quantum_efficiency = f.number_key(p, QUANTUM_EFFICIENCY.name, QUANTUM_EFFICIENCY.rule);
-    let qe_curve = f.pairs_key(
-        p,
-        QUANTUM_EFFICIENCY_CURVE.name,
-        QUANTUM_EFFICIENCY_CURVE.rule,
-    );
+    let quantum_efficiency = f.number_key(p, key!(QUANTUM_EFFICIENCY));
+    let qe_curve = f.pairs_key(p, key!(QUANTUM_EFFICIENCY_CURVE));
     let band_default = qe_curve
         .as_ref()
         .and_then(|c| Some((c.first()?.0, c.last()?.0)))
         .unwrap_or(DEFAULT_BAND_NM);
-    let response_from_nm = f.number_key_or(
-        p,
-        RESPONSE_FROM_NM.name,
-        RESPONSE_FROM_NM.rule,
-        band_default.0,
-    );
-    let response_to_nm =
-        f.number_key_or(p, RESPONSE_TO_NM.name, RESPONSE_TO_NM.rule, band_default.1);
+    let response_from_nm = f.number_key_or(p, key!(RESPONSE_FROM_NM), band_default.0);
+    let response_to_nm = f.number_key_or(p, key!(RESPONSE_TO_NM), band_default.1);
     if let (Some(a), Some(b)) = (response_from_nm, response_to_nm) {
         if b <= a {
             p.push(
-                &f.path_of(RESPONSE_TO_NM.name),
+                &f.path_of(const { RESPONSE_TO_NM.name }),
                 format!(
                     "must be above sensor.response_from_nm ({}), got {}",
                     show(a),
@@ -70,41 +60,22 @@ pub(super) fn sensor(p: &mut Problems, f: &mut Fields<'_>) -> Option<Sensor> {
             );
         }
     }
-    let full_well_e = f.number_key(p, FULL_WELL_E.name, FULL_WELL_E.rule);
-    let read_noise_e = f.number_key(p, READ_NOISE_E.name, READ_NOISE_E.rule);
-    let capacitance = f.number_key(
-        p,
-        SENSE_NODE_CAPACITANCE_FF.name,
-        SENSE_NODE_CAPACITANCE_FF.rule,
-    );
-    let gain_uv = f.number_key(
-        p,
-        CONVERSION_GAIN_UV_PER_E.name,
-        CONVERSION_GAIN_UV_PER_E.rule,
-    );
-    let readout = f
-        .choice_key(p, READOUT.name, READOUT.rule)
-        .map(|s| match s {
-            "dds" => Readout::Dds,
-            "single" => Readout::Single,
-            _ => Readout::Cds,
-        });
-    let dark_current_e_per_s =
-        f.number_key(p, DARK_CURRENT_E_PER_S.name, DARK_CURRENT_E_PER_S.rule);
-    let dark_current_reference_c = f.number_key(
-        p,
-        DARK_CURRENT_REFERENCE_C.name,
-        DARK_CURRENT_REFERENCE_C.rule,
-    );
-    let dark_current_doubling_c = f.number_key(
-        p,
-        DARK_CURRENT_DOUBLING_C.name,
-        DARK_CURRENT_DOUBLING_C.rule,
-    );
-    let law_name = f.choice_key(p, DARK_CURRENT_LAW.name, DARK_CURRENT_LAW.rule);
-    let gap_given = f.has(BAND_GAP_PARAMETERS.name);
+    let full_well_e = f.number_key(p, key!(FULL_WELL_E));
+    let read_noise_e = f.number_key(p, key!(READ_NOISE_E));
+    let capacitance = f.number_key(p, key!(SENSE_NODE_CAPACITANCE_FF));
+    let gain_uv = f.number_key(p, key!(CONVERSION_GAIN_UV_PER_E));
+    let readout = f.choice_key(p, key!(READOUT)).map(|s| match s {
+        "dds" => Readout::Dds,
+        "single" => Readout::Single,
+        _ => Readout::Cds,
+    });
+    let dark_current_e_per_s = f.number_key(p, key!(DARK_CURRENT_E_PER_S));
+    let dark_current_reference_c = f.number_key(p, key!(DARK_CURRENT_REFERENCE_C));
+    let dark_current_doubling_c = f.number_key(p, key!(DARK_CURRENT_DOUBLING_C));
+    let law_name = f.choice_key(p, key!(DARK_CURRENT_LAW));
+    let gap_given = f.has(const { BAND_GAP_PARAMETERS.name });
     let gap = f
-        .choice_key(p, BAND_GAP_PARAMETERS.name, BAND_GAP_PARAMETERS.rule)
+        .choice_key(p, key!(BAND_GAP_PARAMETERS))
         .map(|name| match name {
             "thurmond_1975" => dark::THURMOND_1975,
             "sze_ng_2007" => dark::SZE_NG_2007,
@@ -112,9 +83,9 @@ pub(super) fn sensor(p: &mut Problems, f: &mut Fields<'_>) -> Option<Sensor> {
         });
     let dark_current_law = match law_name {
         Some("bandgap") => {
-            if f.has(DARK_CURRENT_DOUBLING_C.name) {
+            if f.has(const { DARK_CURRENT_DOUBLING_C.name }) {
                 p.push(
-                    &f.path_of(DARK_CURRENT_DOUBLING_C.name),
+                    &f.path_of(const { DARK_CURRENT_DOUBLING_C.name }),
                     "not used with the band-gap law: leave it out, or set \
                      sensor.dark_current_law to \"doubling\""
                         .into(),
@@ -125,7 +96,7 @@ pub(super) fn sensor(p: &mut Problems, f: &mut Fields<'_>) -> Option<Sensor> {
         Some(_) => {
             if gap_given {
                 p.push(
-                    &f.path_of(BAND_GAP_PARAMETERS.name),
+                    &f.path_of(const { BAND_GAP_PARAMETERS.name }),
                     "used only with the band-gap law: set sensor.dark_current_law to \"bandgap\", \
                      or leave it out"
                         .into(),
@@ -135,30 +106,25 @@ pub(super) fn sensor(p: &mut Problems, f: &mut Fields<'_>) -> Option<Sensor> {
         }
         None => None,
     };
-    let dsnu_e = f.number_key(p, DSNU_E.name, DSNU_E.rule);
-    let dark_nonuniformity = f.number_key(
-        p,
-        DARK_CURRENT_NONUNIFORMITY_PERCENT.name,
-        DARK_CURRENT_NONUNIFORMITY_PERCENT.rule,
-    );
-    let cfa = f.choice_key(p, CFA.name, CFA.rule);
+    let dsnu_e = f.number_key(p, key!(DSNU_E));
+    let dark_nonuniformity = f.number_key(p, key!(DARK_CURRENT_NONUNIFORMITY_PERCENT));
+    let cfa = f.choice_key(p, key!(CFA));
     let channels = f
-        .object_key(p, CHANNELS.name, CHANNELS.rule)
+        .object_key(p, key!(CHANNELS))
         .and_then(|mut c| super::colour::channels(p, &mut c));
     let channels_failed = f.had_problem_at(p, CHANNELS.name);
-    let prnu_percent = f.number_key(p, PRNU_PERCENT.name, PRNU_PERCENT.rule);
-    let adc_bits = f.whole_key(p, ADC_BITS.name, ADC_BITS.rule);
-    let system_gain_dn_per_e =
-        f.number_key(p, SYSTEM_GAIN_DN_PER_E.name, SYSTEM_GAIN_DN_PER_E.rule);
-    let black_level_dn = f.number_key(p, BLACK_LEVEL_DN.name, BLACK_LEVEL_DN.rule);
-    let summing_well_e = f.number_key(p, SUMMING_WELL_E.name, SUMMING_WELL_E.rule);
+    let prnu_percent = f.number_key(p, key!(PRNU_PERCENT));
+    let adc_bits = f.whole_key(p, key!(ADC_BITS));
+    let system_gain_dn_per_e = f.number_key(p, key!(SYSTEM_GAIN_DN_PER_E));
+    let black_level_dn = f.number_key(p, key!(BLACK_LEVEL_DN));
+    let summing_well_e = f.number_key(p, key!(SUMMING_WELL_E));
     f.finish(p);
 
     if let (Some(bits), Some(black)) = (adc_bits, black_level_dn) {
         let full_scale = f64::from(bits).exp2() - 1.0;
         if black >= full_scale {
             p.push(
-                &f.path_of(BLACK_LEVEL_DN.name),
+                &f.path_of(const { BLACK_LEVEL_DN.name }),
                 format!(
                     "must be below the ADC's full scale 2^adc_bits − 1 = {}, got {}",
                     show(full_scale),
@@ -173,7 +139,7 @@ pub(super) fn sensor(p: &mut Problems, f: &mut Fields<'_>) -> Option<Sensor> {
             && !f.had_problem_at(p, SENSE_NODE_CAPACITANCE_FF.name)
         {
             p.push(
-                &f.path_of(SENSE_NODE_CAPACITANCE_FF.name),
+                &f.path_of(const { SENSE_NODE_CAPACITANCE_FF.name }),
                 format!(
                     "required when sensor.readout is \"{}\": reset noise needs the sense-node \
                      capacitance; give it, or sensor.conversion_gain_uv_per_e to derive it",
@@ -190,7 +156,7 @@ pub(super) fn sensor(p: &mut Problems, f: &mut Fields<'_>) -> Option<Sensor> {
         (Some(_), None) => {
             if !channels_failed {
                 p.push(
-                    &f.path_of(CHANNELS.name),
+                    &f.path_of(const { CHANNELS.name }),
                     "required with a Bayer pattern (sensor.cfa): give the quantum efficiency of \
                      R, G and B"
                         .into(),
@@ -201,7 +167,7 @@ pub(super) fn sensor(p: &mut Problems, f: &mut Fields<'_>) -> Option<Sensor> {
         (None, Some(_)) => {
             if cfa.is_some() {
                 p.push(
-                    &f.path_of(CHANNELS.name),
+                    &f.path_of(const { CHANNELS.name }),
                     "only with a Bayer pattern: set sensor.cfa, or leave the channels out".into(),
                 );
             }

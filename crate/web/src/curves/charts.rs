@@ -1,0 +1,657 @@
+//! Which charts the Curves section draws and what is on each: the series (the scenario's and
+//! the pins' SNR along a view, or the noise budget's shares), the axes and their words, the
+//! regimes, the markers, and the readout of a point.
+//!
+//! Pure, natively tested: the sweeps are the engine's (`engine::curves`), the axis words and
+//! units the key catalogue's (`engine::keys`); drawing is `chart.rs`. No DOM here, and no figure
+//! computed: values are only placed.
+
+use std::rc::Rc;
+
+use engine::curves::View;
+use engine::keys;
+use engine::sweep::{Sweep, SweepPoint};
+use engine::Report;
+use serde_json::Value;
+
+use crate::chart::{eng, Axis, Chart, Layer, Line, Marker, Region, Scale};
+use crate::display::{Numbers, Style};
+
+/// The charts, in the order the page shows them.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum ChartKind {
+    /// SNR against the signal (the light view's sweep, by signal), with the noise regimes.
+    Signal,
+    /// SNR against exposure time.
+    Exposure,
+    /// SNR against the light's amount.
+    Light,
+    /// SNR against temperature.
+    Temperature,
+    /// The noise budget's shares along a chosen view.
+    Budget,
+}
+
+impl ChartKind {
+    /// Every chart, in the page's order.
+    pub const ALL: [ChartKind; 5] = [
+        ChartKind::Signal,
+        ChartKind::Exposure,
+        ChartKind::Light,
+        ChartKind::Temperature,
+        ChartKind::Budget,
+    ];
+
+    /// Its name in the page (`data-chart`) and in the SVG's id (`svg-NAME`).
+    #[must_use]
+    pub fn name(self) -> &'static str {
+        match self {
+            ChartKind::Signal => "signal",
+            ChartKind::Exposure => "exposure",
+            ChartKind::Light => "light",
+            ChartKind::Temperature => "temperature",
+            ChartKind::Budget => "budget",
+        }
+    }
+
+    /// The chart named `name` ([`ChartKind::name`]).
+    #[must_use]
+    pub fn from_name(name: &str) -> Option<ChartKind> {
+        ChartKind::ALL.into_iter().find(|c| c.name() == name)
+    }
+
+    /// The view whose sweep it draws; the budget's is chosen on the page.
+    #[must_use]
+    pub fn view(self, budget_along: View) -> View {
+        match self {
+            ChartKind::Signal | ChartKind::Light => View::Light,
+            ChartKind::Exposure => View::Exposure,
+            ChartKind::Temperature => View::Temperature,
+            ChartKind::Budget => budget_along,
+        }
+    }
+
+    /// Words for exported file names.
+    #[must_use]
+    pub fn file_words(self) -> &'static str {
+        match self {
+            ChartKind::Signal => "snr-vs-signal",
+            ChartKind::Exposure => "snr-vs-exposure-time",
+            ChartKind::Light => "snr-vs-light-level",
+            ChartKind::Temperature => "snr-vs-temperature",
+            ChartKind::Budget => "noise-budget-along",
+        }
+    }
+
+    fn title_word(self) -> &'static str {
+        match self {
+            ChartKind::Signal => "signal",
+            ChartKind::Exposure => "exposure time",
+            ChartKind::Light => "light level",
+            ChartKind::Temperature => "temperature",
+            ChartKind::Budget => "",
+        }
+    }
+}
+
+/// Decades of SNR shown below the highest.
+const SNR_DECADES: f64 = 5.0;
+/// Decades of x shown at most.
+const X_DECADES: f64 = 12.0;
+/// Colour of the scenario on screen, then of pins A to D.
+pub const NOW_COLOR: &str = "#1d5fa8";
+const PIN_COLORS: [&str; 4] = ["#c2410c", "#15803d", "#7e22ce", "#a16207"];
+/// Dash of a temporal-SNR line (the total-SNR line is solid).
+const TEMPORAL_DASH: &str = "60 40";
+/// Shades of the noise regimes on the SNR-against-signal chart.
+const REGION_READ: &str = "#eef2f8";
+const REGION_SHOT: &str = "#ffffff";
+const REGION_FPN: &str = "#f4f1e6";
+const REGION_SAT: &str = "#f8e9e9";
+/// Most characters of a pin's name in a legend.
+const LEGEND_NAME_CHARS: usize = 34;
+
+/// The noise sources of the stacked chart: label and colour (as the page's bar).
+const SOURCES: [(&str, &str); 8] = [
+    ("photon shot", "#2f6db5"),
+    ("dark shot", "#7a4fa3"),
+    ("background shot", "#8c6d46"),
+    ("read", "#d9822b"),
+    ("reset", "#c23b48"),
+    ("quantization", "#6b7a8f"),
+    ("DSNU", "#2e9c8a"),
+    ("PRNU", "#9aa83a"),
+];
+
+/// Each source's share of the total variance, in the order of [`SOURCES`].
+fn shares(r: &Report) -> [f64; 8] {
+    let s = &r.variance_share;
+    [
+        s.photon_shot,
+        s.dark_shot,
+        s.background_shot,
+        s.read,
+        s.reset,
+        s.quantization,
+        s.dsnu,
+        s.prnu,
+    ]
+}
+
+/// The scenario on screen as the charts need it.
+pub struct Now<'a> {
+    /// Its JSON (valid).
+    pub value: &'a Value,
+    /// Its checked form, for the regimes.
+    pub scenario: Option<&'a engine::Scenario>,
+    /// Its report.
+    pub report: &'a Report,
+    /// Its views' sweeps, in the order of `View::ALL` (`None` where one failed).
+    pub views: &'a [Option<Rc<Sweep>>],
+}
+
+/// A pin as the charts need it.
+pub struct PinCurves<'a> {
+    /// Its name (legend).
+    pub name: &'a str,
+    /// Its scenario JSON.
+    pub value: &'a Value,
+    /// Its report.
+    pub report: &'a Report,
+    /// Its views' sweeps, as for [`Now::views`].
+    pub views: &'a [Option<Rc<Sweep>>],
+    /// Whether it is the scenario on screen (then drawn once, as the pin).
+    pub on_screen: bool,
+}
+
+/// A chart built: what is drawn, and what reading values and exporting need.
+pub struct Drawn {
+    /// The chart.
+    pub chart: Chart,
+    /// Its SVG.
+    pub markup: String,
+    /// x of each point of the scenario's own curve.
+    pub xs: Vec<f64>,
+    /// The point of the scenario's own curve nearest its operating point.
+    pub at: usize,
+    /// The sweep behind it (for the readouts and the CSV).
+    pub sweep: Rc<Sweep>,
+}
+
+/// The unit of a swept key as the catalogue shows it.
+fn axis_unit(key: &str) -> &'static str {
+    keys::sweepable(key).map_or("", |k| k.unit.shown)
+}
+
+/// The quantity of a swept key in the catalogue's words.
+fn axis_words(key: &str) -> &'static str {
+    keys::sweepable(key).map_or("value", |k| k.quantity)
+}
+
+fn view_index(v: View) -> usize {
+    View::ALL.iter().position(|x| *x == v).unwrap_or(0)
+}
+
+/// A pin's name cut to fit a legend.
+fn short(name: &str) -> String {
+    if name.chars().count() <= LEGEND_NAME_CHARS {
+        name.to_string()
+    } else {
+        let cut: String = name.chars().take(LEGEND_NAME_CHARS - 1).collect();
+        format!("{cut}…")
+    }
+}
+
+/// Index of the x nearest `x` (by value, which orders a log and a linear scale alike).
+#[must_use]
+pub fn nearest(xs: &[f64], x: f64) -> usize {
+    xs.iter()
+        .enumerate()
+        .min_by(|a, b| (a.1 - x).abs().total_cmp(&(b.1 - x).abs()))
+        .map_or(0, |(i, _)| i)
+}
+
+/// The total and temporal SNR lines of one sweep.
+fn snr_lines(
+    label: &str,
+    color: &'static str,
+    sweep: &Sweep,
+    x_of: &dyn Fn(&SweepPoint) -> f64,
+) -> [Line; 2] {
+    let line = |get: fn(&Report) -> f64| {
+        sweep
+            .points
+            .iter()
+            .map(|p| (x_of(p), get(&p.report)))
+            .collect()
+    };
+    [
+        Line {
+            label: label.to_string(),
+            points: line(|r| r.snr.total),
+            color,
+            dash: "",
+            legend: true,
+        },
+        Line {
+            label: format!("{label}, temporal"),
+            points: line(|r| r.snr.temporal),
+            color,
+            dash: TEMPORAL_DASH,
+            legend: false,
+        },
+    ]
+}
+
+/// The chart `kind` of the scenario on screen with the pins overlaid; `None` when its view
+/// could not be swept.
+#[must_use]
+pub fn build(
+    kind: ChartKind,
+    budget_along: View,
+    now: &Now<'_>,
+    pins: &[PinCurves<'_>],
+) -> Option<Drawn> {
+    let view = kind.view(budget_along);
+    let k = view_index(view);
+    let sweep = now.views.get(k).cloned().flatten()?;
+    let key = sweep.key.as_str();
+    let by_signal = kind == ChartKind::Signal;
+    let x_of = |p: &SweepPoint| -> f64 {
+        if by_signal {
+            p.report.signal_e
+        } else {
+            p.value
+        }
+    };
+    let value_of = |v: &Value| {
+        crate::fields::value_at(v, key)
+            .and_then(Value::as_f64)
+            .unwrap_or(f64::NAN)
+    };
+    let here_x = if by_signal {
+        now.report.signal_e
+    } else {
+        value_of(now.value)
+    };
+    let (x_label, x_unit) = if by_signal {
+        ("signal per output pixel".to_string(), "e⁻")
+    } else {
+        (axis_words(key).to_string(), axis_unit(key))
+    };
+    let x_scale = if view == View::Temperature {
+        Scale::Linear
+    } else {
+        Scale::Log
+    };
+    let xs: Vec<f64> = sweep.points.iter().map(x_of).collect();
+    let at = nearest(&xs, here_x);
+    if kind == ChartKind::Budget {
+        let chart = budget(&sweep, &xs, here_x, (&x_label, x_unit), x_scale);
+        let markup = chart.svg();
+        return Some(Drawn {
+            chart,
+            markup,
+            xs,
+            at,
+            sweep,
+        });
+    }
+    let mut lines: Vec<Line> = Vec::new();
+    let mut markers = Vec::new();
+    let mut all_x = xs.clone();
+    // The scenario on screen, unless it is one of the pins (drawn as that pin).
+    if !pins.iter().any(|p| p.on_screen) {
+        let label = if pins.is_empty() {
+            "this scenario"
+        } else {
+            "on screen (not pinned)"
+        };
+        lines.extend(snr_lines(label, NOW_COLOR, &sweep, &x_of));
+        for y in [now.report.snr.total, now.report.snr.temporal] {
+            markers.push(Marker {
+                x: here_x,
+                y,
+                color: NOW_COLOR,
+            });
+        }
+    }
+    for (i, pin) in pins.iter().enumerate() {
+        let color = PIN_COLORS.get(i).copied().unwrap_or(NOW_COLOR);
+        // Pins are overlaid only where their view varies the same quantity.
+        let Some(ps) = pin
+            .views
+            .get(k)
+            .cloned()
+            .flatten()
+            .filter(|ps| ps.key == key || by_signal)
+        else {
+            continue;
+        };
+        all_x.extend(ps.points.iter().map(x_of));
+        lines.extend(snr_lines(&short(pin.name), color, &ps, &x_of));
+        let px = if by_signal {
+            pin.report.signal_e
+        } else {
+            value_of(pin.value)
+        };
+        for y in [pin.report.snr.total, pin.report.snr.temporal] {
+            markers.push(Marker { x: px, y, color });
+        }
+    }
+    let x = Axis::fitted(&x_label, x_unit, x_scale, &all_x, X_DECADES);
+    let y = Axis::fitted(
+        "signal-to-noise ratio",
+        "",
+        Scale::Log,
+        &lines
+            .iter()
+            .flat_map(|l| l.points.iter().map(|p| p.1))
+            .collect::<Vec<_>>(),
+        SNR_DECADES,
+    );
+    let regions = match (by_signal, now.scenario) {
+        (true, Some(sc)) => regimes(sc, &x),
+        _ => Vec::new(),
+    };
+    let pins_words = if pins.is_empty() {
+        String::new()
+    } else {
+        format!(
+            " Pinned scenarios in their own colours: {}.",
+            pins.iter().map(|p| p.name).collect::<Vec<_>>().join("; ")
+        )
+    };
+    let region_words = if by_signal {
+        " Shaded: where read noise, photon shot noise or fixed-pattern noise dominates, and where the pixel saturates."
+    } else {
+        ""
+    };
+    let chart = Chart {
+        id: format!("svg-{}", kind.name()),
+        title: format!("SNR against {}", kind.title_word()),
+        desc: format!(
+            "Signal-to-noise ratio, total (solid) and temporal (dashed), against {x_label} on a {} axis, SNR on a log axis. Circles mark the scenarios' operating points.{region_words}{pins_words}",
+            if x_scale == Scale::Log { "log" } else { "linear" }
+        ),
+        x,
+        y,
+        regions,
+        stack: None,
+        lines,
+        markers,
+        note: "solid: total SNR · dashed: temporal SNR".into(),
+    };
+    let markup = chart.svg();
+    Some(Drawn {
+        chart,
+        markup,
+        xs,
+        at,
+        sweep,
+    })
+}
+
+/// The stacked noise budget along a sweep, with the scenario as a vertical line.
+fn budget(
+    sweep: &Sweep,
+    xs: &[f64],
+    here_x: f64,
+    (label, unit): (&str, &'static str),
+    x_scale: Scale,
+) -> Chart {
+    let layers: Vec<Layer> = SOURCES
+        .iter()
+        .enumerate()
+        .map(|(i, (label, color))| Layer {
+            label,
+            color,
+            shares: sweep
+                .points
+                .iter()
+                .map(|p| shares(&p.report).get(i).copied().unwrap_or(0.0))
+                .collect(),
+        })
+        .collect();
+    let mut chart = Chart {
+        id: "svg-budget".into(),
+        title: format!("Noise budget against {label}"),
+        desc: format!(
+            "Each noise source's share of the total variance, stacked to 100 %, against {label} ({}). The vertical line is this scenario.",
+            if x_scale == Scale::Log { "log scale" } else { "linear scale" }
+        ),
+        x: Axis::fitted(label, unit, x_scale, xs, X_DECADES),
+        y: Axis {
+            label: "share of total variance".into(),
+            unit: "%",
+            scale: Scale::Linear,
+            lo: 0.0,
+            hi: 100.0,
+        },
+        regions: Vec::new(),
+        stack: Some((xs.to_vec(), layers)),
+        lines: Vec::new(),
+        markers: Vec::new(),
+        note: String::new(),
+    };
+    // The stack is drawn in shares of the height; the axis is labelled in percent.
+    if here_x.is_finite() {
+        chart.lines.push(Line {
+            label: "this scenario".into(),
+            points: vec![(here_x, 0.0), (here_x, 100.0)],
+            color: "#1c2330",
+            dash: "",
+            legend: true,
+        });
+    }
+    chart
+}
+
+/// The noise regimes of the SNR-against-signal chart, from the engine's boundaries.
+fn regimes(sc: &engine::Scenario, x: &Axis) -> Vec<Region> {
+    let r = engine::sweep::regimes(sc);
+    let sat = r.saturation_signal_e.unwrap_or(x.hi);
+    let shot_end = r.shot_to_prnu_signal_e.map_or(sat, |p| p.min(sat));
+    let mut regions = vec![
+        Region {
+            from: x.lo,
+            to: r.read_to_shot_signal_e.min(sat),
+            label: "read-noise limited",
+            color: REGION_READ,
+        },
+        Region {
+            from: r.read_to_shot_signal_e,
+            to: shot_end,
+            label: "shot-noise limited",
+            color: REGION_SHOT,
+        },
+    ];
+    if let Some(p) = r.shot_to_prnu_signal_e.filter(|p| *p < sat) {
+        regions.push(Region {
+            from: p,
+            to: sat,
+            label: "fixed-pattern limited",
+            color: REGION_FPN,
+        });
+    }
+    if r.saturation_signal_e.is_some() {
+        regions.push(Region {
+            from: sat,
+            to: x.hi,
+            label: "saturated",
+            color: REGION_SAT,
+        });
+    }
+    regions
+}
+
+/// The readout of one point of chart `kind`, whose sweep varies `key`.
+#[must_use]
+pub fn readout(kind: ChartKind, key: &str, p: &SweepPoint, numbers: &dyn Numbers) -> String {
+    if kind == ChartKind::Budget {
+        let parts: Vec<String> = SOURCES
+            .iter()
+            .zip(shares(&p.report))
+            .filter(|(_, s)| *s > 0.0)
+            .map(|((label, _), s)| format!("{label} {}", numbers.rounded(s, Style::Percent)))
+            .collect();
+        return format!(
+            "{} {}: {}",
+            axis_words(key),
+            eng(p.value, axis_unit(key)),
+            parts.join(", ")
+        );
+    }
+    let lead = if kind == ChartKind::Signal {
+        format!("signal {}", eng(p.report.signal_e, "e⁻"))
+    } else {
+        format!("{} {}", axis_words(key), eng(p.value, axis_unit(key)))
+    };
+    format!(
+        "{lead}: SNR total {}, temporal {}",
+        numbers.rounded(p.report.snr.total, Style::Number),
+        numbers.rounded(p.report.snr.temporal, Style::Number)
+    )
+}
+
+#[cfg(test)]
+#[allow(clippy::unwrap_used, clippy::indexing_slicing)]
+mod tests {
+    use std::rc::Rc;
+
+    use engine::curves::{view_sweep, View};
+    use serde_json::{json, Value};
+
+    use super::{build, readout, ChartKind, Drawn, Now, PinCurves};
+    use crate::display::{Numbers, Style};
+
+    /// Numbers as Rust writes them (the page uses the browser's `Intl.NumberFormat`).
+    struct Plain;
+    impl Numbers for Plain {
+        fn rounded(&self, x: f64, style: Style) -> String {
+            match style {
+                Style::Number => format!("{x:.3}"),
+                Style::Percent => format!("{:.1} %", x * 100.0),
+            }
+        }
+        fn full(&self, x: f64) -> String {
+            format!("{x}")
+        }
+    }
+
+    fn scenario(read_noise: f64) -> Value {
+        json!({"version": 1,
+            "sensor": {"pixel_pitch_um": 3.45, "quantum_efficiency": 0.6, "full_well_e": 10000,
+                "read_noise_e": read_noise, "dark_current_e_per_s": 30, "prnu_percent": 3.0,
+                "adc_bits": 12, "system_gain_dn_per_e": 0.25},
+            "light": {"photon_flux_per_um2_s": 1000}, "exposure": {"time_s": 0.01}})
+    }
+
+    fn views(v: &Value) -> Vec<Option<Rc<engine::sweep::Sweep>>> {
+        View::ALL
+            .iter()
+            .map(|view| view_sweep(v, *view, 40).ok().map(Rc::new))
+            .collect()
+    }
+
+    fn draw(kind: ChartKind, v: &Value, pins: &[PinCurves<'_>]) -> Drawn {
+        let sc = engine::validate::scenario_from_value(v).unwrap();
+        let report = engine::evaluate(&sc);
+        let views = views(v);
+        let now = Now {
+            value: v,
+            scenario: Some(&sc),
+            report: &report,
+            views: &views,
+        };
+        build(kind, View::Exposure, &now, pins).unwrap()
+    }
+
+    #[test]
+    fn chart_kinds_have_names_and_views() {
+        for k in ChartKind::ALL {
+            assert_eq!(ChartKind::from_name(k.name()), Some(k));
+        }
+        assert_eq!(ChartKind::from_name("nothing"), None);
+        assert_eq!(ChartKind::Signal.view(View::Temperature), View::Light);
+        assert_eq!(ChartKind::Budget.view(View::Temperature), View::Temperature);
+    }
+
+    #[test]
+    fn each_chart_has_its_title_axes_and_series() {
+        let v = scenario(2.5);
+        let d = draw(ChartKind::Signal, &v, &[]);
+        assert_eq!(d.chart.title, "SNR against signal");
+        assert_eq!(d.chart.x.label, "signal per output pixel");
+        assert_eq!(d.chart.lines.len(), 2, "total and temporal");
+        let regions: Vec<&str> = d.chart.regions.iter().map(|r| r.label).collect();
+        assert_eq!(
+            regions,
+            [
+                "read-noise limited",
+                "shot-noise limited",
+                "fixed-pattern limited",
+                "saturated"
+            ]
+        );
+        // The light chart's axis is named and unit-ed by the key catalogue.
+        let d = draw(ChartKind::Light, &v, &[]);
+        assert_eq!(
+            d.chart.x.title(),
+            "photon flux at the sensor, photons/(µm²·s)"
+        );
+        assert_eq!(d.xs.len(), 40);
+        assert!(
+            (d.xs[d.at] / 1000.0 - 1.0).abs() < 0.2,
+            "the operating point is near 1000"
+        );
+        let d = draw(ChartKind::Temperature, &v, &[]);
+        assert_eq!(d.chart.x.title(), "temperature");
+        let d = draw(ChartKind::Budget, &v, &[]);
+        assert_eq!(d.chart.title, "Noise budget against exposure time");
+        assert!(d.chart.stack.is_some());
+        assert!(d.markup.contains("<title id=\"svg-budget-t\">"));
+    }
+
+    #[test]
+    fn pins_are_overlaid_in_their_colours_and_the_pinned_scenario_once() {
+        let v = scenario(2.5);
+        let other = scenario(6.0);
+        let sc = engine::validate::scenario_from_value(&other).unwrap();
+        let report = engine::evaluate(&sc);
+        let pviews = views(&other);
+        let pin = |on_screen| PinCurves {
+            name: "A: a pin whose name is longer than any legend can hold",
+            value: &other,
+            report: &report,
+            views: &pviews,
+            on_screen,
+        };
+        let d = draw(ChartKind::Exposure, &v, &[pin(false)]);
+        assert_eq!(d.chart.lines.len(), 4);
+        assert_eq!(d.chart.lines[0].label, "on screen (not pinned)");
+        assert!(
+            d.chart.lines[2].label.ends_with('…') && d.chart.lines[2].label.chars().count() == 34
+        );
+        assert!(d
+            .chart
+            .desc
+            .contains("Pinned scenarios in their own colours: A: a pin"));
+        let d = draw(ChartKind::Exposure, &v, &[pin(true)]);
+        assert_eq!(d.chart.lines.len(), 2, "the scenario on screen is the pin");
+    }
+
+    #[test]
+    fn readouts_name_the_quantity_in_the_catalogues_words() {
+        let v = scenario(2.5);
+        let d = draw(ChartKind::Exposure, &v, &[]);
+        let p = &d.sweep.points[0];
+        let text = readout(ChartKind::Exposure, &d.sweep.key, p, &Plain);
+        assert!(text.starts_with("exposure time "), "{text}");
+        assert!(text.contains(": SNR total "), "{text}");
+        let text = readout(ChartKind::Budget, &d.sweep.key, p, &Plain);
+        assert!(text.contains("read "), "{text}");
+        let text = readout(ChartKind::Signal, &d.sweep.key, p, &Plain);
+        assert!(text.starts_with("signal "), "{text}");
+    }
+}
