@@ -300,14 +300,20 @@ fn lines_svg(
     ylog: bool,
 ) -> String {
     let f = Plot {
-        x: Axis::new(
-            lines.iter().flat_map(|l| l.1.iter().map(|p| p.0)),
-            false,
+        x: Axis::padded(
+            &lines
+                .iter()
+                .flat_map(|l| l.1.iter().map(|p| p.0))
+                .collect::<Vec<_>>(),
+            Scale::Linear,
             false,
         ),
-        y: Axis::new(
-            lines.iter().flat_map(|l| l.1.iter().map(|p| p.1)),
-            ylog,
+        y: Axis::padded(
+            &lines
+                .iter()
+                .flat_map(|l| l.1.iter().map(|p| p.1))
+                .collect::<Vec<_>>(),
+            if ylog { Scale::Log } else { Scale::Linear },
             !ylog,
         ),
         height: H,
@@ -342,7 +348,7 @@ fn lines_svg(
                 p.trim_end()
             );
         }
-        let y = px(TOP + 10.0) + 30 * i32::try_from(i).unwrap_or(0);
+        let y = px(TOP + 10.0) + 30 * i64::try_from(i).unwrap_or(0);
         let x0 = px(W - RIGHT - 330.0);
         let _ = write!(
             out,
