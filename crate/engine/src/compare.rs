@@ -129,17 +129,6 @@ pub const FIGURES: &[(&str, &str, &str, Change, Getter)] = &[
         Change::Difference,
         |r| r.hdr.as_ref().and_then(|h| h.dynamic_range.db),
     ),
-    (
-        "hdr.deepest_dip_db",
-        "deepest HDR SNR dip",
-        "dB",
-        Change::Difference,
-        |r| {
-            r.hdr
-                .as_ref()
-                .and_then(|h| h.transitions.iter().map(|t| t.dip_db).reduce(f64::max))
-        },
-    ),
 ];
 
 /// One figure across the scenarios compared.
@@ -163,11 +152,20 @@ pub struct Row {
     pub ratios: Vec<Option<f64>>,
 }
 
-/// The comparison of `reports` (the first is the reference), one row per figure of [`FIGURES`].
+/// Report sections only colour or HDR scenarios have: their rows are left out of a comparison
+/// in which no scenario has them.
+const OPTIONAL_SECTIONS: [&str; 2] = ["colour.", "hdr."];
+
+/// The comparison of `reports` (the first is the reference), one row per figure of [`FIGURES`]
+/// (a colour or HDR figure only when a scenario has it).
 #[must_use]
 pub fn rows(reports: &[&Report]) -> Vec<Row> {
     FIGURES
         .iter()
+        .filter(|(key, .., get)| {
+            !OPTIONAL_SECTIONS.iter().any(|s| key.starts_with(s))
+                || reports.iter().any(|r| get(r).is_some())
+        })
         .map(|&(key, label, unit, change, get)| {
             let values: Vec<Option<f64>> = reports.iter().map(|r| get(r)).collect();
             let first = values.first().copied().flatten();
@@ -256,12 +254,38 @@ mod tests {
     }
 
     #[test]
+    fn colour_and_hdr_rows_appear_when_a_scenario_has_them() {
+        let mono = evaluate_json(DEMOS[0].json).unwrap();
+        let hdr = DEMOS
+            .iter()
+            .find(|d| d.name == "automotive-hdr-colour")
+            .unwrap();
+        let hdr = evaluate_json(hdr.json).unwrap();
+        let rows = rows(&[&mono, &hdr]);
+        let row = rows
+            .iter()
+            .find(|r| r.key == "hdr.dynamic_range.db")
+            .unwrap();
+        assert_eq!(row.values[0], None);
+        assert_eq!(row.values[1], hdr.hdr.as_ref().unwrap().dynamic_range.db);
+        assert!(rows
+            .iter()
+            .any(|r| r.key == "colour.luminance.snr.total_db"));
+    }
+
+    #[test]
     fn csv_has_one_row_a_figure_and_quotes_names() {
         let a = evaluate_json(DEMOS[0].json).unwrap();
         let b = evaluate_json(DEMOS[1].json).unwrap();
         let csv = to_csv(&["A, cooled", "B"], &[&a, &b]);
         let lines: Vec<&str> = csv.split_terminator("\r\n").collect();
-        assert_eq!(lines.len(), 1 + super::FIGURES.len());
+        // Two monochrome, single-readout demos: the colour and HDR rows are left out.
+        let optional = super::FIGURES
+            .iter()
+            .filter(|f| super::OPTIONAL_SECTIONS.iter().any(|s| f.0.starts_with(s)))
+            .count();
+        assert_eq!(optional, 3);
+        assert_eq!(lines.len(), 1 + super::FIGURES.len() - optional);
         assert_eq!(
             lines[0],
             "figure,label,unit,\"A, cooled\",B,\"B minus A, cooled\",\"B / A, cooled\""

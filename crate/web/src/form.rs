@@ -201,6 +201,12 @@ fn read_fields(form: &Element) -> FormScenario {
             lines.push((path, pairs.lines));
             continue;
         }
+        if el
+            .get_attribute("data-omit-default")
+            .is_some_and(|d| d == control_text(&el))
+        {
+            continue;
+        }
         let listed = match data_kind.as_deref() {
             Some("numbers") => Some(fields::numbers_value(&control_text(&el))),
             Some("matrix") => Some(fields::matrix_value(&control_text(&el))),

@@ -21,6 +21,9 @@ pub const BEGIN: &str = "<!-- generated fields: begin (crate/web/src/markup.rs, 
 /// The end marker.
 pub const END: &str = "<!-- generated fields: end -->";
 
+/// The choices of format version 1 (SCENARIO.md), always written into the scenario.
+const VERSION_1_CHOICES: [&str; 2] = ["sensor.readout", "exposure.binning_mode"];
+
 /// A place a light object occurs at, as the form shows it.
 struct LightPlace {
     /// Dot path (`light`, `background_light`).
@@ -382,12 +385,21 @@ fn field(o: &mut String, level: usize, k: &Key, path: &str, id_prefix: &str) {
                 "{i}  <span class=\"control\"><textarea id=\"in-{s}\" name=\"{path}\" data-kind=\"pairs\" rows=\"{rows}\" spellcheck=\"false\" placeholder=\"{example}\" aria-describedby=\"{described}\"></textarea></span>"
             );
         }
-        Rule::Choice { .. } => {
+        Rule::Choice { default, .. } => {
+            // A choice added to the format (a colour filter, a dark-current law) is left out of
+            // the scenario while it shows its default, so that a scenario without it reads back
+            // unchanged; the version-1 choices are written as they always were.
+            let omit = match default {
+                Some(d) if !VERSION_1_CHOICES.contains(&k.path) => {
+                    format!(" data-omit-default=\"{d}\"")
+                }
+                _ => String::new(),
+            };
             let _ = writeln!(o, "{i}  <label for=\"in-{s}\">{label}</label>");
             let _ = writeln!(o, "{i}  <span class=\"control\">");
             let _ = writeln!(
                 o,
-                "{i}    <select id=\"in-{s}\" name=\"{path}\" aria-describedby=\"{described}\">"
+                "{i}    <select id=\"in-{s}\" name=\"{path}\"{omit} aria-describedby=\"{described}\">"
             );
             if matches!(k.rule, Rule::Choice { default: None, .. }) {
                 let _ = writeln!(o, "{i}      <option value=\"\">none</option>");
