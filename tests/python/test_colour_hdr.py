@@ -268,7 +268,11 @@ def check_colour(name, sc, report, rng):
 
 def main():
     rng = np.random.default_rng(20261202)
-    scenarios = {p.stem: json.loads(p.read_text()) for p in sorted((ROOT / "www" / "demos").glob("*.json") if json.loads(p.read_text())["sensor"].get("cfa", "mono") != "mono" or "hdr" in json.loads(p.read_text()))}
+    scenarios = {}
+    for path in sorted((ROOT / "www" / "demos").glob("*.json")):
+        scenario = json.loads(path.read_text())
+        if scenario["sensor"].get("cfa", "mono") != "mono" or "hdr" in scenario:
+            scenarios[path.stem] = scenario
     base = scenarios["automotive-hdr-colour"]
     # Variants: a blend, a dual gain (with its own well and read noise), and the hard switch
     # at saturation.
