@@ -8,7 +8,7 @@
 //! each when maxval < 256, else two bytes, most significant first. `#` starts a comment that runs
 //! to the end of the line, anywhere in the header before maxval.
 
-use super::{check_exact_len, check_max, check_size, from_be16, Frame, FrameError};
+use super::{check_exact_len, check_max, check_size, widen16_into, widen8_into, Frame, FrameError};
 
 const FORMAT: &str = "pgm";
 
@@ -96,7 +96,15 @@ fn parse_header(bytes: &[u8]) -> Result<Header, FrameError> {
 }
 
 /// Decode a P5 greymap.
-pub(super) fn decode(bytes: &[u8]) -> Result<Frame, FrameError> {
+#[cfg(test)]
+fn decode(bytes: &[u8]) -> Result<Frame, FrameError> {
+    let mut frame = Frame::default();
+    decode_into(bytes, &mut frame)?;
+    Ok(frame)
+}
+
+/// Decode a P5 greymap into `frame`, reusing its buffer.
+pub(super) fn decode_into(bytes: &[u8], frame: &mut Frame) -> Result<(), FrameError> {
     let h = parse_header(bytes)?;
     if h.maxval == 0 || h.maxval > 65535 {
         return Err(bad(format!(
@@ -112,15 +120,18 @@ pub(super) fn decode(bytes: &[u8]) -> Result<Frame, FrameError> {
     // OK because check_size bounded width and height by MAX_PIXELS = 2^28.
     #[allow(clippy::cast_possible_truncation)]
     let (width, height) = (h.width as u32, h.height as u32);
-    let pixels = if bytes_per_sample == 1 {
-        data.iter().map(|b| u16::from(*b)).collect()
+    let pixels = frame.buffer();
+    let largest = if bytes_per_sample == 1 {
+        widen8_into(data, pixels)
     } else {
-        from_be16(data)
+        widen16_into::<true>(data, pixels)
     };
     // OK because maxval ≤ 65535 was checked above.
     #[allow(clippy::cast_possible_truncation)]
     let maxval = h.maxval as u16;
-    check_max(&pixels, width, maxval)?;
+    if largest > maxval {
+        check_max(pixels, width, maxval)?;
+    }
     let significant_bits = if (h.maxval + 1).is_power_of_two() {
         // OK because maxval + 1 ≤ 65536 = 2^16.
         #[allow(clippy::cast_possible_truncation)]
@@ -129,8 +140,7 @@ pub(super) fn decode(bytes: &[u8]) -> Result<Frame, FrameError> {
         None
     };
     let sample_bits = if bytes_per_sample == 1 { 8 } else { 16 };
-    Frame::new(width, height, sample_bits, pixels)
-        .map(|f| f.with_significant_bits(significant_bits))
+    frame.set_header(width, height, sample_bits, significant_bits)
 }
 
 #[cfg(test)]

@@ -4,7 +4,7 @@
 //! geometry from the file size, and reads no other sample layout (no 8-bit, big-endian or
 //! packed 10/12-bit raw).
 
-use super::{check_exact_len, check_max, check_size, from_le16, Frame, FrameError};
+use super::{check_exact_len, check_max, check_size, widen16_into, Frame, FrameError};
 
 /// The geometry of a raw frame, which the file itself does not carry.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -18,7 +18,19 @@ pub struct RawGeometry {
 }
 
 /// Decode raw little-endian 16-bit samples.
-pub(super) fn decode(bytes: &[u8], g: RawGeometry) -> Result<Frame, FrameError> {
+#[cfg(test)]
+fn decode(bytes: &[u8], g: RawGeometry) -> Result<Frame, FrameError> {
+    let mut frame = Frame::default();
+    decode_into(bytes, g, &mut frame)?;
+    Ok(frame)
+}
+
+/// Decode raw little-endian 16-bit samples into `frame`, reusing its buffer.
+pub(super) fn decode_into(
+    bytes: &[u8],
+    g: RawGeometry,
+    frame: &mut Frame,
+) -> Result<(), FrameError> {
     if g.bits == 0 || g.bits > 16 {
         return Err(FrameError::UnsupportedBitDepth {
             format: "raw",
@@ -28,12 +40,15 @@ pub(super) fn decode(bytes: &[u8], g: RawGeometry) -> Result<Frame, FrameError> 
     let n = check_size(u64::from(g.width), u64::from(g.height))?;
     let needed = 2 * n;
     check_exact_len(needed, bytes.len() as u64)?;
-    let pixels = from_le16(bytes);
+    let pixels = frame.buffer();
+    let largest = widen16_into::<false>(bytes, pixels);
     // OK because bits ≤ 16, so 2^bits − 1 ≤ 65535.
     #[allow(clippy::cast_possible_truncation)]
     let max = ((1u32 << g.bits) - 1) as u16;
-    check_max(&pixels, g.width, max)?;
-    Frame::new(g.width, g.height, 16, pixels).map(|f| f.with_significant_bits(Some(g.bits)))
+    if largest > max {
+        check_max(pixels, g.width, max)?;
+    }
+    frame.set_header(g.width, g.height, 16, Some(g.bits))
 }
 
 #[cfg(test)]

@@ -13,7 +13,7 @@ use serde_json::Value;
 
 use super::{
     analyse_with, AnalysisOptions, Cfa, Characterization, FrameKind, Roi, StackAccumulator,
-    StackSpec, CFA_NAMES,
+    StackBuffers, StackSpec, CFA_NAMES,
 };
 use crate::frames::{self, Frame, RawGeometry};
 pub use crate::input::Problem;
@@ -82,9 +82,38 @@ pub fn measure(
     read: &mut dyn FnMut(&FrameEntry) -> Result<Vec<u8>, String>,
     seen: &mut dyn FnMut(&FrameEntry, Option<&Frame>),
 ) -> Result<Characterization, Failure> {
+    measure_buffered(
+        manifest,
+        &mut |f, buffer| {
+            *buffer = read(f)?;
+            Ok(())
+        },
+        seen,
+    )
+}
+
+/// A `read` for [`measure_buffered`]: replace the buffer's contents with the file's bytes, or
+/// say why it cannot.
+pub type ReadInto<'a> = dyn FnMut(&FrameEntry, &mut Vec<u8>) -> Result<(), String> + 'a;
+
+/// As [`measure`], with a `read` that replaces the contents of a buffer with the file's bytes
+/// (clear it, then fill it): one buffer serves every file, and one frame buffer (with the
+/// accumulator's spare, [`StackAccumulator::push_swap`]) every decoded frame, so a long series
+/// is read without fresh memory per file. The figures are those of [`measure`].
+///
+/// # Errors
+/// As [`measure`].
+pub fn measure_buffered(
+    manifest: &Manifest,
+    read: &mut ReadInto<'_>,
+    seen: &mut dyn FnMut(&FrameEntry, Option<&Frame>),
+) -> Result<Characterization, Failure> {
     let mut messages = Vec::new();
     let mut io_error = false;
     let mut stats = Vec::new();
+    let mut bytes = Vec::new();
+    let mut frame = Frame::default();
+    let mut buffers = StackBuffers::default();
     for stack in &manifest.stacks {
         let Some(first) = stack.first() else { continue };
         let spec = StackSpec {
@@ -94,7 +123,13 @@ pub fn measure(
             photons_per_pixel: first.photons_per_pixel,
             frames: u32::try_from(stack.len()).unwrap_or(u32::MAX),
         };
-        let mut acc = match StackAccumulator::with_cfa(spec, manifest.roi, manifest.cfa) {
+        let acc = StackAccumulator::with_buffers(
+            spec,
+            manifest.roi,
+            manifest.cfa,
+            std::mem::take(&mut buffers),
+        );
+        let mut acc = match acc {
             Ok(a) => a,
             Err(e) => {
                 messages.push(format!("frames[{}]: {e}", first.index));
@@ -104,41 +139,37 @@ pub fn measure(
         let mut ok = true;
         for f in stack {
             let name = format!("frames[{}] ({})", f.index, f.path);
-            let bytes = match read(f) {
-                Ok(b) => b,
-                Err(e) => {
-                    messages.push(format!("{name}: {e}"));
-                    io_error = true;
-                    ok = false;
-                    seen(f, None);
-                    continue;
-                }
-            };
-            let frame = match frames::decode(&bytes, f.raw) {
-                Ok(fr) => fr,
-                Err(e) => {
-                    messages.push(format!("{name}: {e}"));
-                    ok = false;
-                    seen(f, None);
-                    continue;
-                }
-            };
-            drop(bytes);
+            if let Err(e) = read(f, &mut bytes) {
+                messages.push(format!("{name}: {e}"));
+                io_error = true;
+                ok = false;
+                seen(f, None);
+                continue;
+            }
+            if let Err(e) = frames::decode_into(&bytes, f.raw, &mut frame) {
+                messages.push(format!("{name}: {e}"));
+                ok = false;
+                seen(f, None);
+                continue;
+            }
             seen(f, Some(&frame));
             if ok {
-                if let Err(e) = acc.push(frame) {
+                if let Err(e) = acc.push_swap(&mut frame) {
                     messages.push(format!("{name}: {e}"));
                     ok = false;
                 }
             }
         }
+        let (result, kept) = acc.finish_with_buffers();
+        buffers = kept;
         if ok {
-            match acc.finish() {
+            match result {
                 Ok(s) => stats.push(s),
                 Err(e) => messages.push(format!("frames[{}]: {e}", first.index)),
             }
         }
     }
+    drop((bytes, frame, buffers));
     if !messages.is_empty() {
         return Err(Failure {
             messages,

@@ -285,6 +285,66 @@ pub(crate) fn pair_pass(a: &[u16], b: &[u16], sums: &mut [u32], dsq: &mut [u32])
     pair_pass_portable(a, b, sums, dsq)
 }
 
+/// As [`pair_pass`] for the first pair of a stack: the per-pixel values are appended to
+/// `sums` (a + b) and, when `dsq` is given, to `dsq` ((a − b)²) instead of added, so that the
+/// buffers need no zeroing first (a reused buffer is only cleared, not rewritten).
+pub(crate) fn first_pair_pass(
+    a: &[u16],
+    b: &[u16],
+    sums: &mut Vec<u32>,
+    dsq: Option<&mut Vec<u32>>,
+) -> RowPass {
+    #[cfg(target_arch = "x86_64")]
+    {
+        if std::is_x86_feature_detected!("avx2") {
+            // SAFETY: the processor supports AVX2, checked just above; the function is the
+            // portable loop compiled with that feature enabled and touches no memory otherwise.
+            return unsafe { first_pair_pass_avx2(a, b, sums, dsq) };
+        }
+    }
+    first_pair_pass_portable(a, b, sums, dsq)
+}
+
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx2")]
+unsafe fn first_pair_pass_avx2(
+    a: &[u16],
+    b: &[u16],
+    sums: &mut Vec<u32>,
+    dsq: Option<&mut Vec<u32>>,
+) -> RowPass {
+    first_pair_pass_portable(a, b, sums, dsq)
+}
+
+#[inline(always)]
+fn first_pair_pass_portable(
+    a: &[u16],
+    b: &[u16],
+    sums: &mut Vec<u32>,
+    dsq: Option<&mut Vec<u32>>,
+) -> RowPass {
+    let n = a.len().min(b.len());
+    let a = a.get(..n).unwrap_or_default();
+    let b = b.get(..n).unwrap_or_default();
+    sums.extend(a.iter().zip(b).map(|(x, y)| u32::from(*x) + u32::from(*y)));
+    if let Some(dsq) = dsq {
+        dsq.extend(a.iter().zip(b).map(|(x, y)| {
+            let d = u32::from(x.abs_diff(*y));
+            d * d
+        }));
+    }
+    let (mut or, mut max) = (0u16, 0u16);
+    for (x, y) in a.iter().zip(b) {
+        or |= *x | *y;
+        max = max.max((*x).max(*y));
+    }
+    RowPass {
+        parity: parity_sums(a, b),
+        or,
+        max,
+    }
+}
+
 #[cfg(target_arch = "x86_64")]
 #[target_feature(enable = "avx2")]
 unsafe fn pair_pass_avx2(a: &[u16], b: &[u16], sums: &mut [u32], dsq: &mut [u32]) -> RowPass {

@@ -11,8 +11,9 @@
 use std::fmt;
 
 use super::cfa::Cfa;
-use super::pair::{pair_pass, PairSums, RowPass};
-use super::spatial::{summarise, SpatialSummary, SubImage};
+use super::pair::{first_pair_pass, pair_pass, PairSums, RowPass};
+use super::region::{region_sums, summarise_groups, Group, Region};
+use super::spatial::SpatialSummary;
 use crate::frames::Frame;
 
 /// Most frames one stack may have: 2^16. Keeps the per-pixel sum below 2^16 · (2^16 − 1) < 2^32
@@ -250,6 +251,17 @@ impl StackStats {
     }
 }
 
+/// The memory of a stack accumulator (its per-pixel sums and its spare frame buffer), handed
+/// from one stack to the next ([`StackAccumulator::with_buffers`],
+/// [`StackAccumulator::finish_with_buffers`]) so that a series of stacks allocates it once.
+/// Holds no figure: a new stack overwrites it.
+#[derive(Debug, Default)]
+pub struct StackBuffers {
+    sums: Vec<u32>,
+    dsq: Vec<u32>,
+    spare: Frame,
+}
+
 /// Accumulates one stack's frames into [`StackStats`].
 #[derive(Debug)]
 pub struct StackAccumulator {
@@ -257,7 +269,10 @@ pub struct StackAccumulator {
     cfa: Cfa,
     frame_size: Option<(u32, u32)>,
     roi: Option<Roi>,
-    held: Option<Frame>,
+    /// The first frame of a pair until its partner arrives (when `holding`), else a spare
+    /// buffer to swap with the caller's.
+    held: Frame,
+    holding: bool,
     pushed: u32,
     pairs: u32,
     /// Σ over pairs of each group's pair variance: phases 0–3, diagonals 0+3 and 1+2, all.
@@ -287,6 +302,20 @@ impl StackAccumulator {
     /// # Errors
     /// [`StackError::FrameCount`] unless 2 ≤ frames ≤ [`MAX_FRAMES_PER_STACK`].
     pub fn with_cfa(spec: StackSpec, roi: Option<Roi>, cfa: Cfa) -> Result<Self, StackError> {
+        Self::with_buffers(spec, roi, cfa, StackBuffers::default())
+    }
+
+    /// As [`StackAccumulator::with_cfa`], in the memory of an earlier stack (see
+    /// [`StackBuffers`]).
+    ///
+    /// # Errors
+    /// [`StackError::FrameCount`] unless 2 ≤ frames ≤ [`MAX_FRAMES_PER_STACK`].
+    pub fn with_buffers(
+        spec: StackSpec,
+        roi: Option<Roi>,
+        cfa: Cfa,
+        buffers: StackBuffers,
+    ) -> Result<Self, StackError> {
         if spec.frames < 2 || spec.frames > MAX_FRAMES_PER_STACK {
             return Err(StackError::FrameCount {
                 frames: spec.frames,
@@ -297,12 +326,13 @@ impl StackAccumulator {
             cfa,
             frame_size: None,
             roi,
-            held: None,
+            held: buffers.spare,
+            holding: false,
             pushed: 0,
             pairs: 0,
             variance_sums_dn2: [0.0; 7],
-            pixel_sums: Vec::new(),
-            pixel_dsq: Vec::new(),
+            pixel_sums: buffers.sums,
+            pixel_dsq: buffers.dsq,
             or: 0,
             max: 0,
             container_bits: 0,
@@ -322,7 +352,19 @@ impl StackAccumulator {
     /// # Errors
     /// A size that differs from the stack's first frame, a region of interest outside the frame,
     /// or more frames than announced.
-    pub fn push(&mut self, frame: Frame) -> Result<(), StackError> {
+    pub fn push(&mut self, mut frame: Frame) -> Result<(), StackError> {
+        self.push_swap(&mut frame)
+    }
+
+    /// Add the next frame, as [`StackAccumulator::push`], without taking it: the first frame
+    /// of a pair is swapped with the accumulator's spare buffer, so that `frame` then holds a
+    /// buffer of no particular content to decode the next frame into
+    /// ([`crate::frames::decode_into`]). A series is then read with two frame buffers, whatever
+    /// its length, and no fresh memory per frame.
+    ///
+    /// # Errors
+    /// As [`StackAccumulator::push`]; on an error `frame` is left as it was.
+    pub fn push_swap(&mut self, frame: &mut Frame) -> Result<(), StackError> {
         if self.pushed >= self.spec.frames {
             return Err(StackError::TooManyFrames {
                 frames: self.spec.frames,
@@ -341,10 +383,13 @@ impl StackAccumulator {
                 let roi = self.region(size);
                 check_roi(roi, size)?;
                 self.frame_size = Some(size);
+                // The first pair writes the per-pixel sums (first_pair_pass): no zeroing.
                 let n = (roi.width as usize) * (roi.height as usize);
-                self.pixel_sums = vec![0; n];
+                self.pixel_sums.clear();
+                self.pixel_sums.reserve_exact(n);
+                self.pixel_dsq.clear();
                 if self.spec.kind == FrameKind::Dark {
-                    self.pixel_dsq = vec![0; n];
+                    self.pixel_dsq.reserve_exact(n);
                 }
                 roi
             }
@@ -361,33 +406,48 @@ impl StackAccumulator {
             Some(b) if b == frame.msb_bits() => b,
             Some(_) => None,
         });
-        match self.held.take() {
-            None => self.held = Some(frame),
-            Some(first) => {
-                let w = roi.width as usize;
-                let mut phases = [PairSums::default(); 4];
-                let mut sums_rows = self.pixel_sums.chunks_exact_mut(w.max(1));
-                let mut dsq_rows = self.pixel_dsq.chunks_exact_mut(w.max(1));
-                let odd_x = (roi.x % 2) as usize;
-                for (r, (ra, rb)) in rows(&first, roi).zip(rows(&frame, roi)).enumerate() {
-                    let Some(sums) = sums_rows.next() else { break };
-                    let pass: RowPass =
-                        pair_pass(ra, rb, sums, dsq_rows.next().unwrap_or_default());
-                    let py = ((roi.y as usize + r) % 2) * 2;
-                    for (parity, p) in pass.parity.iter().enumerate() {
-                        if let Some(slot) = phases.get_mut(py + (parity + odd_x) % 2) {
-                            *slot = slot.merged(*p);
-                        }
-                    }
-                    self.or |= pass.or;
-                    self.max = self.max.max(pass.max);
+        if !self.holding {
+            std::mem::swap(&mut self.held, frame);
+            self.holding = true;
+            return Ok(());
+        }
+        self.holding = false;
+        let first = &self.held;
+        let w = roi.width as usize;
+        let mut phases = [PairSums::default(); 4];
+        let odd_x = (roi.x % 2) as usize;
+        let mut add = |r: usize, pass: RowPass| {
+            let py = ((roi.y as usize + r) % 2) * 2;
+            for (parity, p) in pass.parity.iter().enumerate() {
+                if let Some(slot) = phases.get_mut(py + (parity + odd_x) % 2) {
+                    *slot = slot.merged(*p);
                 }
-                for (sum, group) in self.variance_sums_dn2.iter_mut().zip(group_sums(&phases)) {
-                    *sum += group.temporal_variance_dn2().unwrap_or(0.0);
-                }
-                self.pairs += 1;
+            }
+            self.or |= pass.or;
+            self.max = self.max.max(pass.max);
+        };
+        let pairs = rows(first, roi).zip(rows(frame, roi)).enumerate();
+        if self.pairs == 0 {
+            let dark = self.spec.kind == FrameKind::Dark;
+            for (r, (ra, rb)) in pairs {
+                let dsq = dark.then_some(&mut self.pixel_dsq);
+                add(r, first_pair_pass(ra, rb, &mut self.pixel_sums, dsq));
+            }
+        } else {
+            let mut sums_rows = self.pixel_sums.chunks_exact_mut(w.max(1));
+            let mut dsq_rows = self.pixel_dsq.chunks_exact_mut(w.max(1));
+            for (r, (ra, rb)) in pairs {
+                let Some(sums) = sums_rows.next() else { break };
+                add(
+                    r,
+                    pair_pass(ra, rb, sums, dsq_rows.next().unwrap_or_default()),
+                );
             }
         }
+        for (sum, group) in self.variance_sums_dn2.iter_mut().zip(group_sums(&phases)) {
+            *sum += group.temporal_variance_dn2().unwrap_or(0.0);
+        }
+        self.pairs += 1;
         Ok(())
     }
 
@@ -395,7 +455,23 @@ impl StackAccumulator {
     ///
     /// # Errors
     /// [`StackError::MissingFrames`] when fewer frames were pushed than announced.
-    pub fn finish(mut self) -> Result<StackStats, StackError> {
+    pub fn finish(self) -> Result<StackStats, StackError> {
+        self.finish_with_buffers().0
+    }
+
+    /// As [`StackAccumulator::finish`], handing back the accumulator's memory for the next
+    /// stack ([`StackAccumulator::with_buffers`]).
+    pub fn finish_with_buffers(mut self) -> (Result<StackStats, StackError>, StackBuffers) {
+        let stats = self.statistics();
+        let buffers = StackBuffers {
+            sums: std::mem::take(&mut self.pixel_sums),
+            dsq: std::mem::take(&mut self.pixel_dsq),
+            spare: std::mem::take(&mut self.held),
+        };
+        (stats, buffers)
+    }
+
+    fn statistics(&mut self) -> Result<StackStats, StackError> {
         let (Some(size), true) = (self.frame_size, self.pushed == self.spec.frames) else {
             return Err(StackError::MissingFrames {
                 expected: self.spec.frames,
@@ -405,8 +481,10 @@ impl StackAccumulator {
         let roi = self.region(size);
         let w = roi.width as usize;
         let h = roi.height as usize;
-        if let Some(odd) = self.held.take() {
-            for (row, sums) in rows(&odd, roi).zip(self.pixel_sums.chunks_exact_mut(w.max(1))) {
+        if self.holding {
+            self.holding = false;
+            let odd = &self.held;
+            for (row, sums) in rows(odd, roi).zip(self.pixel_sums.chunks_exact_mut(w.max(1))) {
                 for (s, v) in sums.iter_mut().zip(row) {
                     *s = s.wrapping_add(u32::from(*v));
                     self.or |= *v;
@@ -418,18 +496,21 @@ impl StackAccumulator {
         let l = f64::from(frames);
         let pairs = f64::from(self.pairs.max(1));
         // Exact integer moments of the per-pixel sums, per phase: n, ΣS, ΣS² (S < 2^32,
-        // ΣS² < 2^92 for n ≤ 2^28).
+        // ΣS² < 2^92 for n ≤ 2^28), from one pass that also gives the spatial summaries'
+        // profiles. Every S is at most L times the largest sample.
+        let region = Region {
+            sums: &self.pixel_sums,
+            dsq: &self.pixel_dsq,
+            width: w,
+            height: h,
+        };
+        let region_moments = region_sums(region, u64::from(self.max) * u64::from(frames));
         let mut moments = [(0u64, 0u128, 0u128); 4];
-        for (r, sums) in self.pixel_sums.chunks_exact(w.max(1)).enumerate() {
-            let py = ((roi.y as usize + r) % 2) * 2;
-            let px = (roi.x % 2) as usize;
-            for (c, s) in sums.iter().enumerate() {
-                if let Some(m) = moments.get_mut(py + (px + c) % 2) {
-                    let s = u64::from(*s);
-                    m.0 += 1;
-                    m.1 += u128::from(s);
-                    m.2 += u128::from(s * s);
-                }
+        for (i, m) in region_moments.moments.iter().enumerate() {
+            // Region parity (row, column) → the frame's 2×2 phase.
+            let phase = ((roi.y as usize + i / 2) % 2) * 2 + (roi.x as usize + i % 2) % 2;
+            if let Some(slot) = moments.get_mut(phase) {
+                *slot = (m.n, m.s1, m.s2);
             }
         }
         let merge = |idx: &[usize]| {
@@ -474,36 +555,35 @@ impl StackAccumulator {
             spatial_variance_raw_dn2: 0.0,
             spatial_variance_dn2: 0.0,
         });
-        let view = |x0, y0, step, data| sub_image(data, w, h, x0, y0, step);
         let mut spatial = None;
         let mut phase_spatial = Vec::new();
         if self.cfa.is_bayer() {
-            for phase in 0..4usize {
-                // The phase's first pixel inside the region, in region coordinates.
-                let x0 = ((phase % 2) + roi.x as usize) % 2;
-                let y0 = ((phase / 2) + roi.y as usize) % 2;
-                let temporal = groups.get(phase).map_or(0.0, |g| g.temporal_variance_dn2);
-                if let Some(img) = view(x0, y0, 2, &self.pixel_sums) {
-                    phase_spatial.push(summarise(
-                        img,
-                        frames,
-                        temporal,
-                        view(x0, y0, 2, &self.pixel_dsq),
-                        self.pairs,
-                    ));
-                }
+            let phases: Vec<Group> = (0..4usize)
+                .map(|phase| Group {
+                    // The phase's first pixel inside the region, in region coordinates.
+                    x0: ((phase % 2) + roi.x as usize) % 2,
+                    y0: ((phase / 2) + roi.y as usize) % 2,
+                    step: 2,
+                    temporal_variance_dn2: groups
+                        .get(phase)
+                        .map_or(0.0, |g| g.temporal_variance_dn2),
+                })
+                .filter(|g| w > g.x0 && h > g.y0)
+                .collect();
+            if phases.len() == 4 {
+                phase_spatial =
+                    summarise_groups(region, &region_moments, &phases, frames, self.pairs);
             }
-            if phase_spatial.len() != 4 {
-                phase_spatial.clear();
-            }
-        } else if let Some(img) = view(0, 0, 1, &self.pixel_sums) {
-            spatial = Some(summarise(
-                img,
-                frames,
-                whole.temporal_variance_dn2,
-                view(0, 0, 1, &self.pixel_dsq),
-                self.pairs,
-            ));
+        } else {
+            let whole_region = Group {
+                x0: 0,
+                y0: 0,
+                step: 1,
+                temporal_variance_dn2: whole.temporal_variance_dn2,
+            };
+            spatial =
+                summarise_groups(region, &region_moments, &[whole_region], frames, self.pairs)
+                    .pop();
         }
         Ok(StackStats {
             mean_dn: whole.mean_dn,
@@ -523,7 +603,7 @@ impl StackAccumulator {
             groups,
             spatial,
             phase_spatial,
-            spec: self.spec,
+            spec: self.spec.clone(),
         })
     }
 
@@ -535,28 +615,6 @@ impl StackAccumulator {
             height,
         })
     }
-}
-
-/// A view of a region-sized buffer (`None` when empty).
-fn sub_image(
-    data: &[u32],
-    w: usize,
-    h: usize,
-    x0: usize,
-    y0: usize,
-    step: usize,
-) -> Option<SubImage<'_>> {
-    let columns = w.saturating_sub(x0).div_ceil(step);
-    let rows = h.saturating_sub(y0).div_ceil(step);
-    (columns > 0 && rows > 0 && !data.is_empty()).then_some(SubImage {
-        data,
-        stride: w,
-        x0,
-        y0,
-        step,
-        columns,
-        rows,
-    })
 }
 
 /// The pair sums of each group from those of the four phases: phases 0–3, the diagonals 0+3
