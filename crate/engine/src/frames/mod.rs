@@ -6,6 +6,7 @@
 //! [`crate::ptc`] for that. Colour images, alpha, floating-point and signed samples are refused,
 //! not converted.
 
+mod file;
 mod pgm;
 #[cfg(feature = "png")]
 mod png_frame;
@@ -15,6 +16,8 @@ mod tiff_frame;
 
 use std::fmt;
 
+pub use file::FrameFile;
+pub(crate) use file::{Header, Samples};
 pub use raw::RawGeometry;
 
 /// Most pixels one frame may have: 2^28 (268 megapixels, 512 MiB of 16-bit samples).
@@ -32,9 +35,6 @@ pub const MAX_PIXELS: u64 = 1 << 28;
 pub(crate) const DEFLATE_MAX_RATIO: u64 = 1032;
 
 /// A decoded greyscale frame: samples row by row, top row first, widened to `u16`.
-///
-/// [`Frame::default`] is an empty frame (0 × 0) to decode into with [`decode_into`], which
-/// reuses the frame's sample buffer from one file to the next.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct Frame {
     width: u32,
@@ -43,20 +43,6 @@ pub struct Frame {
     significant_bits: Option<u8>,
     msb_bits: Option<u8>,
     pixels: Vec<u16>,
-}
-
-impl Default for Frame {
-    /// An empty frame (0 × 0, 16-bit container, no samples): a buffer for [`decode_into`].
-    fn default() -> Self {
-        Frame {
-            width: 0,
-            height: 0,
-            sample_bits: 16,
-            significant_bits: None,
-            msb_bits: None,
-            pixels: Vec::new(),
-        }
-    }
 }
 
 impl Frame {
@@ -147,8 +133,7 @@ impl Frame {
         self.pixels.len()
     }
 
-    /// Whether the frame has no pixels (never true for a decoded frame; true for
-    /// [`Frame::default`]).
+    /// Whether the frame has no pixels (never true for a decoded frame).
     #[must_use]
     pub fn is_empty(&self) -> bool {
         self.pixels.is_empty()
@@ -158,44 +143,6 @@ impl Frame {
     pub(crate) fn with_msb_bits(mut self, bits: Option<u8>) -> Self {
         self.msb_bits = bits;
         self
-    }
-
-    /// Empty the frame (0 × 0), keeping its buffer's allocation.
-    fn clear(&mut self) {
-        *self = Frame {
-            pixels: std::mem::take(&mut self.pixels),
-            ..Frame::default()
-        };
-        self.pixels.clear();
-    }
-
-    /// The sample buffer, to be refilled by a decoder, which then calls [`Frame::set_header`].
-    /// The frame is empty until then.
-    fn buffer(&mut self) -> &mut Vec<u16> {
-        self.width = 0;
-        self.height = 0;
-        &mut self.pixels
-    }
-
-    /// Complete a frame whose buffer a decoder filled with width × height samples checked
-    /// against `sample_bits` (8: every sample ≤ 255).
-    fn set_header(
-        &mut self,
-        width: u32,
-        height: u32,
-        sample_bits: u8,
-        significant_bits: Option<u8>,
-    ) -> Result<(), FrameError> {
-        check_exact_len(
-            u64::from(width) * u64::from(height),
-            self.pixels.len() as u64,
-        )?;
-        self.width = width;
-        self.height = height;
-        self.sample_bits = sample_bits;
-        self.significant_bits = significant_bits;
-        self.msb_bits = None;
-        Ok(())
     }
 }
 
@@ -407,35 +354,7 @@ pub fn sniff(bytes: &[u8]) -> Option<Format> {
 /// assert!(e.to_string().starts_with("truncated"));
 /// ```
 pub fn decode(bytes: &[u8], raw: Option<RawGeometry>) -> Result<Frame, FrameError> {
-    let mut frame = Frame::default();
-    decode_into(bytes, raw, &mut frame)?;
-    Ok(frame)
-}
-
-/// As [`decode`], into `frame`: its sample buffer is reused (no allocation, and no fresh
-/// pages to fault in and zero, when the previous frame had at least as many samples), which is
-/// how a series of same-sized frames is read. On an error `frame` is left empty (0 × 0), its
-/// buffer kept.
-///
-/// # Errors
-/// As [`decode`].
-///
-/// ```
-/// let mut f = engine::frames::Frame::default();
-/// engine::frames::decode_into(b"P5 2 1 255\n\x01\x02", None, &mut f).unwrap();
-/// engine::frames::decode_into(b"P5 1 2 255\n\x03\x04", None, &mut f).unwrap();
-/// assert_eq!((f.width(), f.height(), f.pixels()), (1, 2, &[3u16, 4][..]));
-/// ```
-pub fn decode_into(
-    bytes: &[u8],
-    raw: Option<RawGeometry>,
-    frame: &mut Frame,
-) -> Result<(), FrameError> {
-    let format = match raw {
-        Some(_) => Format::Raw,
-        None => sniff(bytes).ok_or(FrameError::UnknownFormat)?,
-    };
-    decode_as_into(format, bytes, raw, frame)
+    decode_as(format_of(bytes, raw)?, bytes, raw)
 }
 
 /// Decode bytes as the given format (no signature sniffing); `raw` is needed for
@@ -448,37 +367,27 @@ pub fn decode_as(
     bytes: &[u8],
     raw: Option<RawGeometry>,
 ) -> Result<Frame, FrameError> {
-    let mut frame = Frame::default();
-    decode_as_into(format, bytes, raw, &mut frame)?;
-    Ok(frame)
+    match format {
+        Format::Pgm => pgm::parse(bytes).map(|h| h.widened(bytes)),
+        Format::Png => decode_png(bytes),
+        Format::Tiff => decode_tiff(bytes),
+        Format::Raw => raw::parse(bytes, raw_geometry(raw)?).map(|h| h.widened(bytes)),
+    }
 }
 
-/// As [`decode_as`], into `frame` (see [`decode_into`]).
-///
-/// # Errors
-/// As [`decode_as`].
-pub fn decode_as_into(
-    format: Format,
-    bytes: &[u8],
-    raw: Option<RawGeometry>,
-    frame: &mut Frame,
-) -> Result<(), FrameError> {
-    let result = match format {
-        Format::Pgm => pgm::decode_into(bytes, frame),
-        Format::Png => decode_png(bytes).map(|f| *frame = f),
-        Format::Tiff => decode_tiff(bytes).map(|f| *frame = f),
-        Format::Raw => match raw {
-            Some(g) => raw::decode_into(bytes, g, frame),
-            None => Err(FrameError::BadHeader {
-                format: "raw",
-                what: "no geometry (width, height, bits) given".into(),
-            }),
-        },
-    };
-    if result.is_err() {
-        frame.clear();
+/// The format to decode: raw when a geometry is given, else the file's signature.
+fn format_of(bytes: &[u8], raw: Option<RawGeometry>) -> Result<Format, FrameError> {
+    match raw {
+        Some(_) => Ok(Format::Raw),
+        None => sniff(bytes).ok_or(FrameError::UnknownFormat),
     }
-    result
+}
+
+fn raw_geometry(raw: Option<RawGeometry>) -> Result<RawGeometry, FrameError> {
+    raw.ok_or_else(|| FrameError::BadHeader {
+        format: "raw",
+        what: "no geometry (width, height, bits) given".into(),
+    })
 }
 
 #[cfg(feature = "png")]
@@ -543,56 +452,8 @@ pub(crate) fn xy(i: usize, width: u32) -> (u32, u32) {
 #[cfg(feature = "png")]
 pub(crate) fn from_be16(bytes: &[u8]) -> Vec<u16> {
     let mut out = Vec::new();
-    widen16_into::<true>(bytes, &mut out);
+    file::widen_into(Samples::Be16(0), bytes, &mut out);
     out
-}
-
-/// Replace `out` with the 16-bit samples of `bytes` (big-endian when `BIG`, else
-/// little-endian), reusing its allocation; returns the largest sample. One pass, which the
-/// compiler vectorises (byte swap and maximum); `out` is resized first, which writes nothing
-/// when it already has that length (a series of same-sized frames).
-pub(crate) fn widen16_into<const BIG: bool>(bytes: &[u8], out: &mut Vec<u16>) -> u16 {
-    out.resize(bytes.len() / 2, 0);
-    let mut max = 0u16;
-    for (o, p) in out.iter_mut().zip(bytes.chunks_exact(2)) {
-        let &[hi, lo] = p else { continue };
-        let v = if BIG {
-            u16::from_be_bytes([hi, lo])
-        } else {
-            u16::from_le_bytes([hi, lo])
-        };
-        *o = v;
-        max = max.max(v);
-    }
-    max
-}
-
-/// Replace `out` with the 8-bit samples of `bytes`, widened, reusing its allocation; returns
-/// the largest sample.
-pub(crate) fn widen8_into(bytes: &[u8], out: &mut Vec<u16>) -> u16 {
-    out.resize(bytes.len(), 0);
-    let mut max = 0u8;
-    for (o, b) in out.iter_mut().zip(bytes) {
-        *o = u16::from(*b);
-        max = max.max(*b);
-    }
-    u16::from(max)
-}
-
-/// The first sample above `max`, as an error.
-pub(crate) fn check_max(pixels: &[u16], width: u32, max: u16) -> Result<(), FrameError> {
-    match pixels.iter().position(|v| *v > max) {
-        None => Ok(()),
-        Some(i) => {
-            let (x, y) = xy(i, width);
-            Err(FrameError::SampleOutOfRange {
-                x,
-                y,
-                value: u32::from(pixels.get(i).copied().unwrap_or(0)),
-                max: u32::from(max),
-            })
-        }
-    }
 }
 
 #[cfg(test)]

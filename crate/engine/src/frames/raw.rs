@@ -4,7 +4,10 @@
 //! geometry from the file size, and reads no other sample layout (no 8-bit, big-endian or
 //! packed 10/12-bit raw).
 
-use super::{check_exact_len, check_max, check_size, widen16_into, Frame, FrameError};
+use super::file::check_samples;
+#[cfg(test)]
+use super::Frame;
+use super::{check_exact_len, check_size, FrameError, Header, Samples};
 
 /// The geometry of a raw frame, which the file itself does not carry.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -20,17 +23,12 @@ pub struct RawGeometry {
 /// Decode raw little-endian 16-bit samples.
 #[cfg(test)]
 fn decode(bytes: &[u8], g: RawGeometry) -> Result<Frame, FrameError> {
-    let mut frame = Frame::default();
-    decode_into(bytes, g, &mut frame)?;
-    Ok(frame)
+    parse(bytes, g).map(|h| h.widened(bytes))
 }
 
-/// Decode raw little-endian 16-bit samples into `frame`, reusing its buffer.
-pub(super) fn decode_into(
-    bytes: &[u8],
-    g: RawGeometry,
-    frame: &mut Frame,
-) -> Result<(), FrameError> {
+/// Check raw little-endian 16-bit samples against their geometry (all present, each below
+/// 2^bits), without widening.
+pub(super) fn parse(bytes: &[u8], g: RawGeometry) -> Result<Header, FrameError> {
     if g.bits == 0 || g.bits > 16 {
         return Err(FrameError::UnsupportedBitDepth {
             format: "raw",
@@ -40,15 +38,20 @@ pub(super) fn decode_into(
     let n = check_size(u64::from(g.width), u64::from(g.height))?;
     let needed = 2 * n;
     check_exact_len(needed, bytes.len() as u64)?;
-    let pixels = frame.buffer();
-    let largest = widen16_into::<false>(bytes, pixels);
-    // OK because bits ≤ 16, so 2^bits − 1 ≤ 65535.
-    #[allow(clippy::cast_possible_truncation)]
-    let max = ((1u32 << g.bits) - 1) as u16;
-    if largest > max {
-        check_max(pixels, g.width, max)?;
+    let samples = Samples::Le16(0);
+    if g.bits < 16 {
+        // OK because bits < 16, so 2^bits − 1 < 65535.
+        #[allow(clippy::cast_possible_truncation)]
+        let max = ((1u32 << g.bits) - 1) as u16;
+        check_samples(samples, bytes, g.width, max)?;
     }
-    frame.set_header(g.width, g.height, 16, Some(g.bits))
+    Ok(Header {
+        width: g.width,
+        height: g.height,
+        sample_bits: 16,
+        significant_bits: Some(g.bits),
+        samples,
+    })
 }
 
 #[cfg(test)]

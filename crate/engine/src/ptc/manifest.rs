@@ -15,7 +15,7 @@ use super::{
     analyse_with, AnalysisOptions, Cfa, Characterization, FrameKind, Roi, StackAccumulator,
     StackBuffers, StackSpec, CFA_NAMES,
 };
-use crate::frames::{self, Frame, RawGeometry};
+use crate::frames::{Frame, FrameFile, RawGeometry};
 pub use crate::input::Problem;
 use crate::input::{self, show_value, type_name, Fields, Need, Problems, Range};
 
@@ -88,7 +88,7 @@ pub fn measure(
             *buffer = read(f)?;
             Ok(())
         },
-        seen,
+        &mut |f, file| seen(f, file.and_then(FrameFile::to_frame).as_ref()),
     )
 }
 
@@ -97,22 +97,23 @@ pub fn measure(
 pub type ReadInto<'a> = dyn FnMut(&FrameEntry, &mut Vec<u8>) -> Result<(), String> + 'a;
 
 /// As [`measure`], with a `read` that replaces the contents of a buffer with the file's bytes
-/// (clear it, then fill it): one buffer serves every file, and one frame buffer (with the
-/// accumulator's spare, [`StackAccumulator::push_swap`]) every decoded frame, so a long series
-/// is read without fresh memory per file. The figures are those of [`measure`].
+/// (clear it, then fill it), and a `seen` told of each file as it was read
+/// ([`FrameFile`]: its size and depth; the samples are widened only when summed). The files'
+/// buffers go round between this function and the stack accumulators
+/// ([`StackAccumulator::push_file`]), so a long series is read into the same few buffers. The
+/// figures are those of [`measure`].
 ///
 /// # Errors
 /// As [`measure`].
 pub fn measure_buffered(
     manifest: &Manifest,
     read: &mut ReadInto<'_>,
-    seen: &mut dyn FnMut(&FrameEntry, Option<&Frame>),
+    seen: &mut dyn FnMut(&FrameEntry, Option<&FrameFile>),
 ) -> Result<Characterization, Failure> {
     let mut messages = Vec::new();
     let mut io_error = false;
     let mut stats = Vec::new();
-    let mut bytes = Vec::new();
-    let mut frame = Frame::default();
+    let mut file = FrameFile::default();
     let mut buffers = StackBuffers::default();
     for stack in &manifest.stacks {
         let Some(first) = stack.first() else { continue };
@@ -139,22 +140,22 @@ pub fn measure_buffered(
         let mut ok = true;
         for f in stack {
             let name = format!("frames[{}] ({})", f.index, f.path);
-            if let Err(e) = read(f, &mut bytes) {
+            if let Err(e) = read(f, file.bytes_mut()) {
                 messages.push(format!("{name}: {e}"));
                 io_error = true;
                 ok = false;
                 seen(f, None);
                 continue;
             }
-            if let Err(e) = frames::decode_into(&bytes, f.raw, &mut frame) {
+            if let Err(e) = file.decode(f.raw) {
                 messages.push(format!("{name}: {e}"));
                 ok = false;
                 seen(f, None);
                 continue;
             }
-            seen(f, Some(&frame));
+            seen(f, Some(&file));
             if ok {
-                if let Err(e) = acc.push_swap(&mut frame) {
+                if let Err(e) = acc.push_file(&mut file) {
                     messages.push(format!("{name}: {e}"));
                     ok = false;
                 }
@@ -169,7 +170,7 @@ pub fn measure_buffered(
             }
         }
     }
-    drop((bytes, frame, buffers));
+    drop((file, buffers));
     if !messages.is_empty() {
         return Err(Failure {
             messages,

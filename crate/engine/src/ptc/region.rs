@@ -47,6 +47,10 @@ pub(crate) struct Moments {
     pub hi: u32,
     /// Largest D.
     pub dsq_hi: u32,
+    /// Bitwise OR of every S and of every D: their trailing zeros give a power of two that
+    /// divides them all, by which the histograms index their tables.
+    pub or: u32,
+    pub dsq_or: u32,
 }
 
 impl Default for Moments {
@@ -58,6 +62,8 @@ impl Default for Moments {
             lo: u32::MAX,
             hi: 0,
             dsq_hi: 0,
+            or: 0,
+            dsq_or: 0,
         }
     }
 }
@@ -71,6 +77,8 @@ impl Moments {
             lo: self.lo.min(o.lo),
             hi: self.hi.max(o.hi),
             dsq_hi: self.dsq_hi.max(o.dsq_hi),
+            or: self.or | o.or,
+            dsq_or: self.dsq_or | o.dsq_or,
         }
     }
 }
@@ -105,13 +113,14 @@ pub(crate) fn region_sums(region: Region<'_>, max_sum: u64) -> RegionSums {
     let mut dsq_rows = region.dsq.chunks_exact(w.max(1));
     for (r, row) in rows.enumerate() {
         let stats = row_moments(row, block);
-        let dsq_hi = dsq_rows.next().map(row_max);
+        let dsq_hi = dsq_rows.next().map(row_max_or);
         let py = (r % 2) * 2;
         for parity in 0..2 {
             if let (Some(m), Some(s)) = (out.moments.get_mut(py + parity), stats.get(parity)) {
                 let mut s = *s;
-                if let Some(d) = dsq_hi {
-                    s.dsq_hi = d.get(parity).copied().unwrap_or(0);
+                if let Some((hi, or)) = dsq_hi {
+                    s.dsq_hi = hi.get(parity).copied().unwrap_or(0);
+                    s.dsq_or = or.get(parity).copied().unwrap_or(0);
                 }
                 *m = m.merged(s);
             }
@@ -164,6 +173,7 @@ fn row_moments_portable(row: &[u32], block: usize) -> [Moments; 2] {
         let mut s2 = [0u64; LANES];
         let mut lo = [u32::MAX; LANES];
         let mut hi = [0u32; LANES];
+        let mut or = [0u32; LANES];
         for c in chunk.chunks_exact(LANES) {
             let Ok(c) = <&[u32; LANES]>::try_from(c) else {
                 continue;
@@ -174,6 +184,7 @@ fn row_moments_portable(row: &[u32], block: usize) -> [Moments; 2] {
                 s2[j] += u64::from(v) * u64::from(v);
                 lo[j] = lo[j].min(v);
                 hi[j] = hi[j].max(v);
+                or[j] |= v;
             }
         }
         for j in 0..LANES {
@@ -182,6 +193,7 @@ fn row_moments_portable(row: &[u32], block: usize) -> [Moments; 2] {
             m.s2 += u128::from(s2[j]);
             m.lo = m.lo.min(lo[j]);
             m.hi = m.hi.max(hi[j]);
+            m.or |= or[j];
         }
     }
     for p in &mut out {
@@ -195,31 +207,36 @@ fn row_moments_portable(row: &[u32], block: usize) -> [Moments; 2] {
         m.s2 += u128::from(u64::from(*v) * u64::from(*v));
         m.lo = m.lo.min(*v);
         m.hi = m.hi.max(*v);
+        m.or |= *v;
     }
     out
 }
 
-/// The largest value of a row by column parity.
-fn row_max(row: &[u32]) -> [u32; 2] {
-    let mut lanes = [0u32; LANES];
+/// The largest value and the OR of a row's values, by column parity.
+fn row_max_or(row: &[u32]) -> ([u32; 2], [u32; 2]) {
+    let mut hi = [0u32; LANES];
+    let mut or = [0u32; LANES];
     let mut chunks = row.chunks_exact(LANES);
     for c in &mut chunks {
-        for (m, v) in lanes.iter_mut().zip(c) {
+        for ((m, o), v) in hi.iter_mut().zip(or.iter_mut()).zip(c) {
             *m = (*m).max(*v);
+            *o |= *v;
         }
     }
-    let mut out = [0u32; 2];
-    for (j, m) in lanes.iter().enumerate() {
-        if let Some(o) = out.get_mut(j % 2) {
-            *o = (*o).max(*m);
+    let (mut out_hi, mut out_or) = ([0u32; 2], [0u32; 2]);
+    let tail = chunks.remainder().iter().enumerate();
+    for (j, (m, o)) in hi
+        .iter()
+        .zip(&or)
+        .enumerate()
+        .chain(tail.map(|(i, v)| (i, (v, v))))
+    {
+        if let (Some(h), Some(r)) = (out_hi.get_mut(j % 2), out_or.get_mut(j % 2)) {
+            *h = (*h).max(*m);
+            *r |= *o;
         }
     }
-    for (i, v) in chunks.remainder().iter().enumerate() {
-        if let Some(o) = out.get_mut(i % 2) {
-            *o = (*o).max(*v);
-        }
-    }
-    out
+    (out_hi, out_or)
 }
 
 /// One group of a region's pixels: all of them (`step` 1), or the 2×2 phase whose first pixel
@@ -246,50 +263,98 @@ impl Group {
     }
 }
 
-/// Histogram bins in integers: bin(x) = ⌊x·B/R⌋ for x = v − lo in [0, R), without a division
-/// per value. Blocks of 2^s values with 2^s ≤ ⌊R/B⌋ hold at most one bin edge (edges are at
-/// least ⌊R/B⌋ apart), so a table of each block's first bin and the edge inside it, if any,
-/// gives the bin exactly; fewer than 2B + 1 blocks.
+/// Most entries of a direct bin table (two bytes each: 128 KiB, within a core's L2 cache).
+const DIRECT_TABLE_ENTRIES: u64 = 1 << 16;
+
+/// Classes of a value besides its bin: at or above the upper cut-off (1), below the lower one
+/// (2); both at once (3) cannot happen for the thresholds used, but would be counted right.
+const CLASSES: usize = 4;
+
+/// Histogram bins and tail classes in integers: bin(x) = ⌊x·B/R⌋ for x = v − lo in [0, R),
+/// without a division per value. Every x is a multiple of 2^t (t: the trailing zeros of the OR
+/// of the values, e.g. the 2^4 of 12-bit samples at the top of 16-bit files), so when R/2^t is
+/// at most [`DIRECT_TABLE_ENTRIES`] a table of each multiple's bin and class gives both at once.
+/// Else blocks of 2^s values with 2^s ≤ ⌊R/B⌋ hold at most one bin edge (edges are at least
+/// ⌊R/B⌋ apart), so a table of each block's first bin and the edge inside it, if any, gives
+/// the bin exactly (fewer than 2B + 1 blocks), and the class is two comparisons.
 struct Binner {
     lo: u32,
-    shift: u32,
-    /// Per block: its first value's bin, and the first x of the next bin (u64::MAX for none).
-    table: Vec<(u16, u64)>,
+    /// v ≥ `from` is class 1; v < `below_end` class 2.
+    from: u64,
+    below_end: u64,
+    lookup: Lookup,
+}
+
+enum Lookup {
+    /// Bin·[`CLASSES`] + class of x = i·2^shift at `table[i]`.
+    Direct { shift: u32, table: Vec<u16> },
+    /// Per block of 2^shift: its first value's bin, and the first x of the next bin (u64::MAX
+    /// for none).
+    Blocks { shift: u32, table: Vec<(u16, u64)> },
 }
 
 impl Binner {
-    fn new(lo: u32, range: u64, bins: u64) -> Binner {
-        let q = range / bins.max(1);
-        let shift = if q == 0 { 0 } else { 63 - q.leading_zeros() };
-        let blocks = range.div_ceil(1u64 << shift);
+    /// `or`: the OR of every value (lo included); `(from, below_end)`: the class cut-offs.
+    fn new(lo: u32, range: u64, bins: u64, or: u32, (from, below_end): (u64, u64)) -> Binner {
         let bin_of = |x: u64| (u128::from(x) * u128::from(bins) / u128::from(range.max(1))) as u64;
-        let table = (0..blocks)
-            .map(|b| {
-                let first = b << shift;
-                let k = bin_of(first);
-                // First x of bin k + 1: ⌈(k + 1)·R/B⌉.
-                let next = (u128::from(k + 1) * u128::from(range)).div_ceil(u128::from(bins));
-                let last = (first + (1u64 << shift)).min(range);
-                let edge = u64::try_from(next)
-                    .ok()
-                    .filter(|e| *e < last && k + 1 < bins)
-                    .unwrap_or(u64::MAX);
-                (u16::try_from(k).unwrap_or(u16::MAX), edge)
-            })
-            .collect();
-        Binner { lo, shift, table }
+        let class = |v: u64| usize::from(v >= from) + 2 * usize::from(v < below_end);
+        let t = if or == 0 { 0 } else { or.trailing_zeros() };
+        let multiples = ((range - 1) >> t) + 1;
+        let lookup = if bins <= 256 && multiples <= DIRECT_TABLE_ENTRIES {
+            let table = (0..multiples)
+                .map(|i| {
+                    let x = i << t;
+                    let index = bin_of(x) as usize * CLASSES + class(u64::from(lo) + x);
+                    u16::try_from(index).unwrap_or(u16::MAX)
+                })
+                .collect();
+            Lookup::Direct { shift: t, table }
+        } else {
+            let q = range / bins.max(1);
+            let shift = if q == 0 { 0 } else { 63 - q.leading_zeros() };
+            let blocks = range.div_ceil(1u64 << shift);
+            let table = (0..blocks)
+                .map(|b| {
+                    let first = b << shift;
+                    let k = bin_of(first);
+                    // First x of bin k + 1: ⌈(k + 1)·R/B⌉.
+                    let next = (u128::from(k + 1) * u128::from(range)).div_ceil(u128::from(bins));
+                    let last = (first + (1u64 << shift)).min(range);
+                    let edge = u64::try_from(next)
+                        .ok()
+                        .filter(|e| *e < last && k + 1 < bins)
+                        .unwrap_or(u64::MAX);
+                    (u16::try_from(k).unwrap_or(u16::MAX), edge)
+                })
+                .collect();
+            Lookup::Blocks { shift, table }
+        };
+        Binner {
+            lo,
+            from,
+            below_end,
+            lookup,
+        }
     }
 
-    /// The bin of one value (as [`Counter::add`] finds it; for the tests).
+    /// Bin·[`CLASSES`] + class of one value (as [`Counter::add`] finds it; for the tests).
     #[cfg(test)]
-    fn bin(&self, v: u32) -> usize {
+    fn index(&self, v: u32) -> usize {
         let x = u64::from(v - self.lo.min(v));
-        match self
-            .table
-            .get(usize::try_from(x >> self.shift).unwrap_or(usize::MAX))
-        {
-            Some(&(k, edge)) => usize::from(k) + usize::from(x >= edge),
-            None => usize::MAX,
+        match &self.lookup {
+            Lookup::Direct { shift, table } => table
+                .get(usize::try_from(x >> shift).unwrap_or(usize::MAX))
+                .map_or(usize::MAX, |b| usize::from(*b)),
+            Lookup::Blocks { shift, table } => {
+                match table.get(usize::try_from(x >> shift).unwrap_or(usize::MAX)) {
+                    Some(&(k, edge)) => {
+                        (usize::from(k) + usize::from(x >= edge)) * CLASSES
+                            + usize::from(u64::from(v) >= self.from)
+                            + 2 * usize::from(u64::from(v) < self.below_end)
+                    }
+                    None => usize::MAX,
+                }
+            }
         }
     }
 }
@@ -313,15 +378,12 @@ fn first_true(lo: u32, hi: u32, pred: impl Fn(u32) -> bool) -> u64 {
 
 /// A histogram being filled through a [`Binner`], in four interleaved copies (consecutive
 /// values go to different copies, so that a run of values in one bin does not wait on its own
-/// increments), with the counts of values at or above `from` and below `below_end`.
+/// increments), each bin split by class: the counts of values at or above the upper cut-off
+/// and below the lower one come out of the same increments.
 struct Counter {
     binner: Binner,
     bins: usize,
     copies: Vec<u32>,
-    from: u64,
-    below_end: u64,
-    at_or_above: u64,
-    below: u64,
 }
 
 /// Interleaved copies of a histogram. Each counts at most one value in four of a group of at
@@ -329,61 +391,111 @@ struct Counter {
 const COPIES: usize = 4;
 
 impl Counter {
-    fn new(lo: u32, range: u64, bins: u64, from: u64, below_end: u64) -> Counter {
+    fn new(lo: u32, range: u64, bins: u64, or: u32, cuts: (u64, u64)) -> Counter {
         let n = usize::try_from(bins).unwrap_or(1);
         Counter {
-            binner: Binner::new(lo, range, bins),
+            binner: Binner::new(lo, range, bins, or, cuts),
             bins: n,
-            copies: vec![0; n * COPIES],
-            from,
-            below_end,
-            at_or_above: 0,
-            below: 0,
+            copies: vec![0; n * CLASSES * COPIES],
         }
     }
 
-    fn add(&mut self, values: &[u32]) {
-        let (lo, shift, bins) = (self.binner.lo, self.binner.shift, self.bins);
-        let table = self.binner.table.as_slice();
-        let copies = self.copies.as_mut_slice();
-        let mut add_one = |k: usize, v: u32| {
-            let x = u64::from(v - lo.min(v));
-            let block = usize::try_from(x >> shift).unwrap_or(usize::MAX);
-            if let Some(&(bin, edge)) = table.get(block) {
-                let i = k * bins + usize::from(bin) + usize::from(x >= edge);
-                if let Some(c) = copies.get_mut(i) {
-                    *c += 1;
+    /// Count every `step`-th value of `line` (the first included), `step` 1 or 2.
+    fn add(&mut self, line: &[u32], step: usize) {
+        if step == 2 {
+            self.add_every::<2>(line);
+        } else {
+            self.add_every::<1>(line);
+        }
+    }
+
+    /// Every `STEP`-th value: four at a time from a chunk of 4·`STEP`, one to each copy.
+    #[inline(always)]
+    fn add_every<const STEP: usize>(&mut self, line: &[u32]) {
+        let lo = self.binner.lo;
+        let width = self.bins * CLASSES;
+        let mut copies = self.copies.chunks_exact_mut(width.max(1));
+        let (Some(c0), Some(c1), Some(c2), Some(c3)) =
+            (copies.next(), copies.next(), copies.next(), copies.next())
+        else {
+            return;
+        };
+        let chunks = line.chunks_exact(COPIES * STEP);
+        let rest = chunks.remainder();
+        match &self.binner.lookup {
+            Lookup::Direct { shift, table } => {
+                let (shift, table) = (*shift, table.as_slice());
+                // Every value is at least lo (lo is the least of them).
+                let one = |copy: &mut [u32], v: u32| {
+                    let x = (v.wrapping_sub(lo) >> shift) as usize;
+                    if let Some(index) = table.get(x) {
+                        if let Some(c) = copy.get_mut(usize::from(*index)) {
+                            *c += 1;
+                        }
+                    }
+                };
+                for c in chunks {
+                    for (k, copy) in [&mut *c0, &mut *c1, &mut *c2, &mut *c3]
+                        .into_iter()
+                        .enumerate()
+                    {
+                        if let Some(v) = c.get(k * STEP) {
+                            one(copy, *v);
+                        }
+                    }
+                }
+                for v in rest.iter().step_by(STEP) {
+                    one(c0, *v);
                 }
             }
-        };
-        let mut chunks = values.chunks_exact(COPIES);
-        for c in &mut chunks {
-            for (k, v) in c.iter().enumerate() {
-                add_one(k, *v);
+            Lookup::Blocks { shift, table } => {
+                let (shift, table) = (*shift, table.as_slice());
+                let (from, end) = (self.binner.from, self.binner.below_end);
+                let one = |copy: &mut [u32], v: u32| {
+                    let x = u64::from(v.wrapping_sub(lo));
+                    let block = usize::try_from(x >> shift).unwrap_or(usize::MAX);
+                    if let Some(&(bin, edge)) = table.get(block) {
+                        let index = (usize::from(bin) + usize::from(x >= edge)) * CLASSES
+                            + usize::from(u64::from(v) >= from)
+                            + 2 * usize::from(u64::from(v) < end);
+                        if let Some(c) = copy.get_mut(index) {
+                            *c += 1;
+                        }
+                    }
+                };
+                for c in chunks {
+                    for (k, copy) in [&mut *c0, &mut *c1, &mut *c2, &mut *c3]
+                        .into_iter()
+                        .enumerate()
+                    {
+                        if let Some(v) = c.get(k * STEP) {
+                            one(copy, *v);
+                        }
+                    }
+                }
+                for v in rest.iter().step_by(STEP) {
+                    one(c0, *v);
+                }
             }
         }
-        for v in chunks.remainder() {
-            add_one(0, *v);
-        }
-        let (from, end) = (self.from, self.below_end);
-        let (mut above, mut below) = (0u64, 0u64);
-        for v in values {
-            above += u64::from(u64::from(*v) >= from);
-            below += u64::from(u64::from(*v) < end);
-        }
-        self.at_or_above += above;
-        self.below += below;
     }
 
-    fn counts(&self) -> Vec<u64> {
-        (0..self.bins)
-            .map(|b| {
-                (0..COPIES)
-                    .filter_map(|k| self.copies.get(k * self.bins + b))
-                    .map(|c| u64::from(*c))
-                    .sum()
-            })
-            .collect()
+    /// The histogram's counts, the count at or above the upper cut-off and the count below the
+    /// lower one.
+    fn counts(&self) -> (Vec<u64>, u64, u64) {
+        let width = self.bins * CLASSES;
+        let at = |b: usize, class: usize| -> u64 {
+            (0..COPIES)
+                .filter_map(|k| self.copies.get(k * width + b * CLASSES + class))
+                .map(|c| u64::from(*c))
+                .sum()
+        };
+        let counts = (0..self.bins)
+            .map(|b| (0..CLASSES).map(|c| at(b, c)).sum())
+            .collect();
+        let above = (0..self.bins).map(|b| at(b, 1) + at(b, 3)).sum();
+        let below = (0..self.bins).map(|b| at(b, 2) + at(b, 3)).sum();
+        (counts, above, below)
     }
 }
 
@@ -397,9 +509,6 @@ struct Tally {
     values: Counter,
     /// Histogram of D; D ≥ `from` is a high-noise pixel.
     dsq: Option<Counter>,
-    /// The group's values of the current row (a phase's every other value), of S and of D.
-    scratch: Vec<u32>,
-    dsq_scratch: Vec<u32>,
     /// Rows (of the group) of the horizontal spectrogram, in order, and their first P values.
     h_rows: Vec<usize>,
     h_len: usize,
@@ -470,7 +579,7 @@ pub(crate) fn summarise_groups(
             let bins = HISTOGRAM_BINS.min(range);
             let limit = HIGH_NOISE_FACTOR * denom;
             let from = first_true(0, m.dsq_hi, |v| f64::from(v) > limit);
-            Counter::new(0, range, bins, from, 0)
+            Counter::new(0, range, bins, m.dsq_or, (from, 0))
         });
         let (h_len, v_len) = (transform_length(cols), transform_length(rows));
         let h_rows = if h_len > 0 { picked(rows) } else { Vec::new() };
@@ -479,10 +588,8 @@ pub(crate) fn summarise_groups(
             group: *g,
             rows,
             columns: cols,
-            values: Counter::new(lo, range, bins, above_from, below_end),
+            values: Counter::new(lo, range, bins, m.or, (above_from, below_end)),
             dsq,
-            scratch: Vec::with_capacity(cols),
-            dsq_scratch: Vec::with_capacity(if with_dsq { cols } else { 0 }),
             h_data: Vec::with_capacity(h_rows.len() * h_len),
             h_rows,
             h_len,
@@ -506,23 +613,9 @@ pub(crate) fn summarise_groups(
             }
             let rr = (r - g.y0) / g.step;
             let line = row.get(g.x0..).unwrap_or_default();
-            let values: &[u32] = if g.step == 1 {
-                line
-            } else {
-                t.scratch.clear();
-                t.scratch.extend(line.iter().step_by(g.step));
-                &t.scratch
-            };
-            t.values.add(values);
+            t.values.add(line, g.step);
             if let (Some(counter), Some(d)) = (t.dsq.as_mut(), drow) {
-                let d = d.get(g.x0..).unwrap_or_default();
-                if g.step == 1 {
-                    counter.add(d);
-                } else {
-                    t.dsq_scratch.clear();
-                    t.dsq_scratch.extend(d.iter().step_by(g.step));
-                    counter.add(&t.dsq_scratch);
-                }
+                counter.add(d.get(g.x0..).unwrap_or_default(), g.step);
             }
             if t.h_rows.get(t.h_next) == Some(&rr) {
                 t.h_data
@@ -627,22 +720,25 @@ fn finish_group(
         }
     });
     let kv = t.v_columns.len();
+    // Row by row through the matrix (its rows are contiguous), each value to its line.
     let vertical = spectrogram(cols, rows, mean, l, 16, |k0, p, out| {
-        for (k, line) in out.chunks_exact_mut(p).enumerate() {
-            for (r, o) in line.iter_mut().enumerate() {
-                if let Some(v) = t.v_data.get(r * kv + k0 + k) {
+        let count = out.len() / p.max(1);
+        for (r, values) in t.v_data.chunks_exact(kv.max(1)).take(p).enumerate() {
+            for (k, v) in values.iter().skip(k0).take(count).enumerate() {
+                if let Some(o) = out.get_mut(k * p + r) {
                     *o = *v;
                 }
             }
         }
     });
+    let (value_counts, above, below) = t.values.counts();
     let histogram = Histogram {
         first_edge: f64::from(m.lo) / l - mean,
         bin_width: range as f64 / (bins as f64 * l),
-        counts: t.values.counts(),
+        counts: value_counts,
     };
     let high_noise = t.dsq.map(|d| {
-        let (counts, count) = (d.counts(), d.at_or_above);
+        let (counts, count, _) = d.counts();
         let denom = 2.0 * f64::from(pairs.max(1)) * g.temporal_variance_dn2;
         let range = u64::from(m.dsq_hi) + 1;
         let bins = HISTOGRAM_BINS.min(range);
@@ -675,8 +771,8 @@ fn finish_group(
         vertical_spectrogram_dn2: vertical.1,
         histogram,
         defect_threshold_dn: threshold,
-        above_threshold: t.values.at_or_above,
-        below_threshold: t.values.below,
+        above_threshold: above,
+        below_threshold: below,
         high_noise,
     }
 }
@@ -778,7 +874,10 @@ mod tests {
                         want.s2 += u128::from(*v) * u128::from(*v);
                         want.lo = want.lo.min(*v);
                         want.hi = want.hi.max(*v);
-                        want.dsq_hi = want.dsq_hi.max(dsq.get(r * w + c).copied().unwrap_or(0));
+                        let d = dsq.get(r * w + c).copied().unwrap_or(0);
+                        want.dsq_hi = want.dsq_hi.max(d);
+                        want.or |= *v;
+                        want.dsq_or |= d;
                     }
                 }
             }
@@ -818,6 +917,12 @@ mod tests {
                 let dsq = values(n, k as u64 + 7, 0, spread.saturating_mul(3));
                 check(w, h, &sums, &dsq, frames, frames / 2);
                 check(w, h, &sums, &[], frames, frames / 2);
+                // Multiples of 16 and of 256 (12-bit samples at the top of 16-bit files).
+                if base < 1 << 24 {
+                    let sums16: Vec<u32> = sums.iter().map(|v| v * 16).collect();
+                    let dsq256: Vec<u32> = dsq.iter().map(|v| v * 256).collect();
+                    check(w, h, &sums16, &dsq256, frames, frames / 2);
+                }
             }
         }
         // Hot and dark pixels beyond the defect thresholds, and high-noise ones.
@@ -834,21 +939,31 @@ mod tests {
 
     #[test]
     fn binner_gives_the_integer_quotient() {
-        // bin(x) = ⌊x·B/R⌋ exactly, for every x of ranges around the block boundaries.
-        for range in (1..600u64).chain([1 << 16, (1 << 20) + 3, 4_000_037]) {
-            let bins = HISTOGRAM_BINS.min(range);
-            let b = Binner::new(10, range, bins);
-            let step = (range / 5000).max(1);
-            let mut x = 0;
-            while x < range {
-                let v = 10 + u32::try_from(x).unwrap();
-                assert_eq!(b.bin(v) as u64, x * bins / range, "range {range}, x {x}");
-                x += if x % 97 == 0 { 1 } else { step };
+        // bin(x) = ⌊x·B/R⌋ exactly, for every x (multiples of 2^t) of ranges around the table
+        // limits and block boundaries, through both lookups.
+        for range in (1..600u64).chain([1 << 16, (1 << 16) + 1, (1 << 20) + 3, 4_000_037]) {
+            for t in [0u32, 4] {
+                let bins = HISTOGRAM_BINS.min(range);
+                // Cut-offs a third and two thirds through the range.
+                let (from, end) = (16 + 2 * range / 3, 16 + range / 3);
+                let b = Binner::new(16, range, bins, 16 | (1 << t), (from, end));
+                let direct = matches!(b.lookup, Lookup::Direct { .. });
+                assert_eq!(
+                    direct,
+                    ((range - 1) >> t) < DIRECT_TABLE_ENTRIES,
+                    "range {range}"
+                );
+                let step = ((range / 5000).max(1) >> t << t).max(1 << t);
+                let mut x = 0;
+                while x < range {
+                    let v = 16 + u32::try_from(x).unwrap();
+                    let class =
+                        usize::from(u64::from(v) >= from) + 2 * usize::from(u64::from(v) < end);
+                    let want = (x * bins / range) as usize * CLASSES + class;
+                    assert_eq!(b.index(v), want, "range {range}, x {x}");
+                    x += if x % 97 == 0 { 1 << t } else { step };
+                }
             }
-            assert_eq!(
-                b.bin(10 + u32::try_from(range - 1).unwrap()) as u64,
-                bins - 1
-            );
         }
     }
 }

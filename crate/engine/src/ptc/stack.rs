@@ -11,10 +11,10 @@
 use std::fmt;
 
 use super::cfa::Cfa;
-use super::pair::{first_pair_pass, pair_pass, PairSums, RowPass};
+use super::pair::{pairs_pass, PairSums};
 use super::region::{region_sums, summarise_groups, Group, Region};
 use super::spatial::SpatialSummary;
-use crate::frames::Frame;
+use crate::frames::{Frame, FrameFile};
 
 /// Most frames one stack may have: 2^16. Keeps the per-pixel sum below 2^16 · (2^16 − 1) < 2^32
 /// (a `u32`) and the sum of its squares, times the pixel count, within `u128`.
@@ -251,16 +251,20 @@ impl StackStats {
     }
 }
 
-/// The memory of a stack accumulator (its per-pixel sums and its spare frame buffer), handed
-/// from one stack to the next ([`StackAccumulator::with_buffers`],
+/// The memory of a stack accumulator (its per-pixel sums and its frame buffers), handed from
+/// one stack to the next ([`StackAccumulator::with_buffers`],
 /// [`StackAccumulator::finish_with_buffers`]) so that a series of stacks allocates it once.
 /// Holds no figure: a new stack overwrites it.
 #[derive(Debug, Default)]
 pub struct StackBuffers {
     sums: Vec<u32>,
     dsq: Vec<u32>,
-    spare: Frame,
+    spares: Vec<FrameFile>,
 }
+
+/// Most frames an accumulator holds: two pairs are summed in one pass, so a pair waits for
+/// the next (three frames held, the fourth arriving).
+const HELD_FRAMES: usize = 3;
 
 /// Accumulates one stack's frames into [`StackStats`].
 #[derive(Debug)]
@@ -269,10 +273,12 @@ pub struct StackAccumulator {
     cfa: Cfa,
     frame_size: Option<(u32, u32)>,
     roi: Option<Roi>,
-    /// The first frame of a pair until its partner arrives (when `holding`), else a spare
-    /// buffer to swap with the caller's.
-    held: Frame,
-    holding: bool,
+    /// Frames received and not yet summed: at most [`HELD_FRAMES`].
+    pending: Vec<FrameFile>,
+    /// Frame buffers to give the caller in exchange for its frames.
+    spares: Vec<FrameFile>,
+    /// One row of each pending frame, widened.
+    rows: [Vec<u16>; 4],
     pushed: u32,
     pairs: u32,
     /// Σ over pairs of each group's pair variance: phases 0–3, diagonals 0+3 and 1+2, all.
@@ -326,8 +332,9 @@ impl StackAccumulator {
             cfa,
             frame_size: None,
             roi,
-            held: buffers.spare,
-            holding: false,
+            pending: Vec::with_capacity(HELD_FRAMES + 1),
+            spares: buffers.spares,
+            rows: Default::default(),
             pushed: 0,
             pairs: 0,
             variance_sums_dn2: [0.0; 7],
@@ -347,108 +354,138 @@ impl StackAccumulator {
         &self.spec
     }
 
-    /// Add the next frame. The frame is kept only until its pair partner arrives.
+    /// Add the next frame. The frame is kept only until its pair partner arrives (and that
+    /// pair until the next one, see [`StackAccumulator::push_file`]).
     ///
     /// # Errors
     /// A size that differs from the stack's first frame, a region of interest outside the frame,
     /// or more frames than announced.
-    pub fn push(&mut self, mut frame: Frame) -> Result<(), StackError> {
-        self.push_swap(&mut frame)
+    pub fn push(&mut self, frame: Frame) -> Result<(), StackError> {
+        self.push_file(&mut FrameFile::from(frame))
     }
 
-    /// Add the next frame, as [`StackAccumulator::push`], without taking it: the first frame
-    /// of a pair is swapped with the accumulator's spare buffer, so that `frame` then holds a
-    /// buffer of no particular content to decode the next frame into
-    /// ([`crate::frames::decode_into`]). A series is then read with two frame buffers, whatever
-    /// its length, and no fresh memory per frame.
+    /// Add the next frame as its file holds it, without taking its memory: the file is
+    /// exchanged for a buffer of no particular content, into which the caller reads the next
+    /// file ([`FrameFile::bytes_mut`]). Frames are summed two pairs at a time (one pass over the
+    /// per-pixel sums for four frames), so at most three are held; a series is read with four
+    /// frame buffers, whatever its length, and no fresh memory per frame.
     ///
     /// # Errors
-    /// As [`StackAccumulator::push`]; on an error `frame` is left as it was.
-    pub fn push_swap(&mut self, frame: &mut Frame) -> Result<(), StackError> {
+    /// As [`StackAccumulator::push`]; on an error `file` is left as it was.
+    pub fn push_file(&mut self, file: &mut FrameFile) -> Result<(), StackError> {
         if self.pushed >= self.spec.frames {
             return Err(StackError::TooManyFrames {
                 frames: self.spec.frames,
             });
         }
-        let size = (frame.width(), frame.height());
-        let roi = match self.frame_size {
+        let size = (file.width(), file.height());
+        match self.frame_size {
             Some(expected) if expected != size => {
                 return Err(StackError::SizeMismatch {
                     expected,
                     found: size,
                 })
             }
-            Some(_) => self.region(size),
+            Some(_) => {}
             None => {
                 let roi = self.region(size);
                 check_roi(roi, size)?;
                 self.frame_size = Some(size);
-                // The first pair writes the per-pixel sums (first_pair_pass): no zeroing.
+                // The first pass writes the per-pixel sums: a buffer of the right length is
+                // reused as it is, without zeroing.
                 let n = (roi.width as usize) * (roi.height as usize);
-                self.pixel_sums.clear();
-                self.pixel_sums.reserve_exact(n);
-                self.pixel_dsq.clear();
-                if self.spec.kind == FrameKind::Dark {
-                    self.pixel_dsq.reserve_exact(n);
+                if self.pixel_sums.len() != n {
+                    self.pixel_sums.clear();
+                    self.pixel_sums.resize(n, 0);
                 }
-                roi
+                if self.spec.kind == FrameKind::Dark && self.pixel_dsq.len() != n {
+                    self.pixel_dsq.clear();
+                    self.pixel_dsq.resize(n, 0);
+                }
             }
-        };
+        }
         self.pushed += 1;
-        self.container_bits = self.container_bits.max(frame.sample_bits());
+        self.container_bits = self.container_bits.max(file.sample_bits());
         self.bits = Some(match self.bits {
-            None => frame.significant_bits(),
-            Some(b) if b == frame.significant_bits() => b,
+            None => file.significant_bits(),
+            Some(b) if b == file.significant_bits() => b,
             Some(_) => None,
         });
         self.msb_bits = Some(match self.msb_bits {
-            None => frame.msb_bits(),
-            Some(b) if b == frame.msb_bits() => b,
+            None => file.msb_bits(),
+            Some(b) if b == file.msb_bits() => b,
             Some(_) => None,
         });
-        if !self.holding {
-            std::mem::swap(&mut self.held, frame);
-            self.holding = true;
-            return Ok(());
+        let spare = self.spares.pop().unwrap_or_default();
+        self.pending.push(std::mem::replace(file, spare));
+        let remaining = self.spec.frames - self.pushed;
+        match self.pending.len() {
+            // A pair waits for the next pair when two more frames are coming.
+            2 if remaining < 2 => self.sum_pending(),
+            4 => self.sum_pending(),
+            _ => {}
         }
-        self.holding = false;
-        let first = &self.held;
-        let w = roi.width as usize;
-        let mut phases = [PairSums::default(); 4];
-        let odd_x = (roi.x % 2) as usize;
-        let mut add = |r: usize, pass: RowPass| {
-            let py = ((roi.y as usize + r) % 2) * 2;
-            for (parity, p) in pass.parity.iter().enumerate() {
-                if let Some(slot) = phases.get_mut(py + (parity + odd_x) % 2) {
-                    *slot = slot.merged(*p);
-                }
-            }
-            self.or |= pass.or;
-            self.max = self.max.max(pass.max);
-        };
-        let pairs = rows(first, roi).zip(rows(frame, roi)).enumerate();
-        if self.pairs == 0 {
-            let dark = self.spec.kind == FrameKind::Dark;
-            for (r, (ra, rb)) in pairs {
-                let dsq = dark.then_some(&mut self.pixel_dsq);
-                add(r, first_pair_pass(ra, rb, &mut self.pixel_sums, dsq));
-            }
-        } else {
-            let mut sums_rows = self.pixel_sums.chunks_exact_mut(w.max(1));
-            let mut dsq_rows = self.pixel_dsq.chunks_exact_mut(w.max(1));
-            for (r, (ra, rb)) in pairs {
-                let Some(sums) = sums_rows.next() else { break };
-                add(
-                    r,
-                    pair_pass(ra, rb, sums, dsq_rows.next().unwrap_or_default()),
-                );
-            }
-        }
-        for (sum, group) in self.variance_sums_dn2.iter_mut().zip(group_sums(&phases)) {
-            *sum += group.temporal_variance_dn2().unwrap_or(0.0);
-        }
-        self.pairs += 1;
         Ok(())
+    }
+
+    /// The per-pixel data of this stack: S, and D for a dark stack (else empty).
+    fn dsq_mut(&mut self) -> (&mut [u32], &mut [u32]) {
+        let dark = self.spec.kind == FrameKind::Dark;
+        let dsq: &mut [u32] = if dark { &mut self.pixel_dsq } else { &mut [] };
+        (&mut self.pixel_sums, dsq)
+    }
+
+    /// Sum the pending pair or pairs in one pass over the region's rows.
+    fn sum_pending(&mut self) {
+        let Some(size) = self.frame_size else { return };
+        let roi = self.region(size);
+        let pending = std::mem::take(&mut self.pending);
+        let mut rows = std::mem::take(&mut self.rows);
+        let first = self.pairs == 0;
+        let (w, x0) = (roi.width as usize, roi.x as usize);
+        let columns = (x0, x0 + w);
+        let odd_x = (roi.x % 2) as usize;
+        let mut phases = [[PairSums::default(); 4]; 2];
+        let (mut or, mut max) = (self.or, self.max);
+        let [ba, bb, bc, bd] = &mut rows;
+        let (sums, dsq) = self.dsq_mut();
+        let mut sums_rows = sums.chunks_exact_mut(w.max(1));
+        let mut dsq_rows = dsq.chunks_exact_mut(w.max(1));
+        for r in 0..roi.height as usize {
+            let y = roi.y as usize + r;
+            let Some(s) = sums_rows.next() else { break };
+            let d = dsq_rows.next().unwrap_or_default();
+            let (Some(fa), Some(fb)) = (pending.first(), pending.get(1)) else {
+                break;
+            };
+            let (ra, rb) = (fa.row(y, columns, ba), fb.row(y, columns, bb));
+            let cd = match (pending.get(2), pending.get(3)) {
+                (Some(fc), Some(fd)) => Some((fc.row(y, columns, bc), fd.row(y, columns, bd))),
+                _ => None,
+            };
+            let passes = pairs_pass(ra, rb, cd, s, d, first);
+            let py = (y % 2) * 2;
+            for (pass, slots) in passes.iter().zip(phases.iter_mut()) {
+                for (parity, p) in pass.parity.iter().enumerate() {
+                    if let Some(slot) = slots.get_mut(py + (parity + odd_x) % 2) {
+                        *slot = slot.merged(*p);
+                    }
+                }
+                or |= pass.or;
+                max = max.max(pass.max);
+            }
+        }
+        self.or = or;
+        self.max = max;
+        let pairs = pending.len() / 2;
+        for slots in phases.iter().take(pairs) {
+            for (sum, group) in self.variance_sums_dn2.iter_mut().zip(group_sums(slots)) {
+                *sum += group.temporal_variance_dn2().unwrap_or(0.0);
+            }
+            self.pairs += 1;
+        }
+        self.rows = rows;
+        self.spares.extend(pending);
     }
 
     /// Finish the stack: its statistics.
@@ -463,10 +500,12 @@ impl StackAccumulator {
     /// stack ([`StackAccumulator::with_buffers`]).
     pub fn finish_with_buffers(mut self) -> (Result<StackStats, StackError>, StackBuffers) {
         let stats = self.statistics();
+        let mut spares = std::mem::take(&mut self.spares);
+        spares.append(&mut self.pending);
         let buffers = StackBuffers {
             sums: std::mem::take(&mut self.pixel_sums),
             dsq: std::mem::take(&mut self.pixel_dsq),
-            spare: std::mem::take(&mut self.held),
+            spares,
         };
         (stats, buffers)
     }
@@ -481,16 +520,19 @@ impl StackAccumulator {
         let roi = self.region(size);
         let w = roi.width as usize;
         let h = roi.height as usize;
-        if self.holding {
-            self.holding = false;
-            let odd = &self.held;
-            for (row, sums) in rows(odd, roi).zip(self.pixel_sums.chunks_exact_mut(w.max(1))) {
+        // An odd frame out (L odd) adds to the sums only.
+        if let Some(odd) = self.pending.pop() {
+            let mut buf = Vec::new();
+            let columns = (roi.x as usize, roi.x as usize + w);
+            for (r, sums) in self.pixel_sums.chunks_exact_mut(w.max(1)).enumerate() {
+                let row = odd.row(roi.y as usize + r, columns, &mut buf);
                 for (s, v) in sums.iter_mut().zip(row) {
                     *s = s.wrapping_add(u32::from(*v));
                     self.or |= *v;
                     self.max = self.max.max(*v);
                 }
             }
+            self.spares.push(odd);
         }
         let frames = self.spec.frames;
         let l = f64::from(frames);
@@ -498,9 +540,10 @@ impl StackAccumulator {
         // Exact integer moments of the per-pixel sums, per phase: n, ΣS, ΣS² (S < 2^32,
         // ΣS² < 2^92 for n ≤ 2^28), from one pass that also gives the spatial summaries'
         // profiles. Every S is at most L times the largest sample.
+        let dark = self.spec.kind == FrameKind::Dark;
         let region = Region {
             sums: &self.pixel_sums,
-            dsq: &self.pixel_dsq,
+            dsq: if dark { &self.pixel_dsq } else { &[] },
             width: w,
             height: h,
         };
@@ -641,18 +684,6 @@ fn check_roi(roi: Roi, (width, height): (u32, u32)) -> Result<(), StackError> {
     } else {
         Err(StackError::RoiOutside { roi, width, height })
     }
-}
-
-/// The rows of a region of a frame, as slices (the region was checked to lie inside).
-fn rows(frame: &Frame, roi: Roi) -> impl Iterator<Item = &[u16]> {
-    let w = frame.width() as usize;
-    let (x0, x1) = (roi.x as usize, roi.x as usize + roi.width as usize);
-    frame
-        .pixels()
-        .chunks_exact(w.max(1))
-        .skip(roi.y as usize)
-        .take(roi.height as usize)
-        .map(move |row| row.get(x0..x1).unwrap_or_default())
 }
 
 /// Spatial variance of the average of L frames from the moments of the per-pixel sums, before
