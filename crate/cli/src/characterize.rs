@@ -2,12 +2,12 @@
 //!
 //! Reads the manifest file and hands it to the engine (`engine::ptc::parse_manifest`, every
 //! problem at once, each with its key path), reads each
-//! frame file once, stack by stack, hands the bytes to the engine's decoders and stack
-//! accumulators, and prints the engine's characterization as JSON or a table. It computes no
-//! statistic itself and never holds more than the stack being read.
+//! frame file once, stack by stack, into one reused buffer, hands the bytes to the engine's
+//! decoders and stack accumulators, and prints the engine's characterization as JSON or a
+//! table. It computes no statistic itself and never holds more than the stack being read.
 
 use std::fmt::Write as _;
-use std::io::{self, Write};
+use std::io::{self, Read, Write};
 use std::path::Path;
 use std::process::ExitCode;
 
@@ -40,12 +40,16 @@ pub fn run(manifest_path: &Path, as_table: bool, spatial_csv: Option<&Path>) -> 
             return ExitCode::from(2);
         }
     };
-    // Paths are relative to the manifest's folder.
-    let mut read = |f: &ptc::FrameEntry| {
+    // Paths are relative to the manifest's folder. Every file is read into the same buffer.
+    let mut read = |f: &ptc::FrameEntry, buffer: &mut Vec<u8>| {
         let resolved = base.join(&f.path);
-        std::fs::read(&resolved).map_err(|e| format!("cannot read {}: {e}", resolved.display()))
+        buffer.clear();
+        std::fs::File::open(&resolved)
+            .and_then(|mut file| file.read_to_end(buffer))
+            .map(|_| ())
+            .map_err(|e| format!("cannot read {}: {e}", resolved.display()))
     };
-    let result = match ptc::measure(&manifest, &mut read, &mut |_, _| {}) {
+    let result = match ptc::measure_buffered(&manifest, &mut read, &mut |_, _| {}) {
         Ok(c) => c,
         Err(failure) => {
             for m in &failure.messages {

@@ -6,6 +6,7 @@
 //! [`crate::ptc`] for that. Colour images, alpha, floating-point and signed samples are refused,
 //! not converted.
 
+mod file;
 mod pgm;
 #[cfg(feature = "png")]
 mod png_frame;
@@ -15,6 +16,8 @@ mod tiff_frame;
 
 use std::fmt;
 
+pub use file::FrameFile;
+pub(crate) use file::{Header, Samples};
 pub use raw::RawGeometry;
 
 /// Most pixels one frame may have: 2^28 (268 megapixels, 512 MiB of 16-bit samples).
@@ -134,11 +137,6 @@ impl Frame {
     #[must_use]
     pub fn is_empty(&self) -> bool {
         self.pixels.is_empty()
-    }
-
-    pub(crate) fn with_significant_bits(mut self, bits: Option<u8>) -> Self {
-        self.significant_bits = bits;
-        self
     }
 
     #[cfg_attr(not(feature = "png"), allow(dead_code))]
@@ -356,15 +354,7 @@ pub fn sniff(bytes: &[u8]) -> Option<Format> {
 /// assert!(e.to_string().starts_with("truncated"));
 /// ```
 pub fn decode(bytes: &[u8], raw: Option<RawGeometry>) -> Result<Frame, FrameError> {
-    if let Some(g) = raw {
-        return raw::decode(bytes, g);
-    }
-    match sniff(bytes) {
-        Some(Format::Pgm) => pgm::decode(bytes),
-        Some(Format::Png) => decode_png(bytes),
-        Some(Format::Tiff) => decode_tiff(bytes),
-        Some(Format::Raw) | None => Err(FrameError::UnknownFormat),
-    }
+    decode_as(format_of(bytes, raw)?, bytes, raw)
 }
 
 /// Decode bytes as the given format (no signature sniffing); `raw` is needed for
@@ -378,17 +368,26 @@ pub fn decode_as(
     raw: Option<RawGeometry>,
 ) -> Result<Frame, FrameError> {
     match format {
-        Format::Pgm => pgm::decode(bytes),
+        Format::Pgm => pgm::parse(bytes).map(|h| h.widened(bytes)),
         Format::Png => decode_png(bytes),
         Format::Tiff => decode_tiff(bytes),
-        Format::Raw => match raw {
-            Some(g) => raw::decode(bytes, g),
-            None => Err(FrameError::BadHeader {
-                format: "raw",
-                what: "no geometry (width, height, bits) given".into(),
-            }),
-        },
+        Format::Raw => raw::parse(bytes, raw_geometry(raw)?).map(|h| h.widened(bytes)),
     }
+}
+
+/// The format to decode: raw when a geometry is given, else the file's signature.
+fn format_of(bytes: &[u8], raw: Option<RawGeometry>) -> Result<Format, FrameError> {
+    match raw {
+        Some(_) => Ok(Format::Raw),
+        None => sniff(bytes).ok_or(FrameError::UnknownFormat),
+    }
+}
+
+fn raw_geometry(raw: Option<RawGeometry>) -> Result<RawGeometry, FrameError> {
+    raw.ok_or_else(|| FrameError::BadHeader {
+        format: "raw",
+        what: "no geometry (width, height, bits) given".into(),
+    })
 }
 
 #[cfg(feature = "png")]
@@ -450,41 +449,11 @@ pub(crate) fn xy(i: usize, width: u32) -> (u32, u32) {
 }
 
 /// Widen big-endian 16-bit samples.
+#[cfg(feature = "png")]
 pub(crate) fn from_be16(bytes: &[u8]) -> Vec<u16> {
-    bytes
-        .chunks_exact(2)
-        .map(|c| match c {
-            [hi, lo] => u16::from_be_bytes([*hi, *lo]),
-            _ => 0, // unreachable: chunks_exact yields pairs only
-        })
-        .collect()
-}
-
-/// Widen little-endian 16-bit samples.
-pub(crate) fn from_le16(bytes: &[u8]) -> Vec<u16> {
-    bytes
-        .chunks_exact(2)
-        .map(|c| match c {
-            [lo, hi] => u16::from_le_bytes([*lo, *hi]),
-            _ => 0, // unreachable: chunks_exact yields pairs only
-        })
-        .collect()
-}
-
-/// The first sample above `max`, as an error.
-pub(crate) fn check_max(pixels: &[u16], width: u32, max: u16) -> Result<(), FrameError> {
-    match pixels.iter().position(|v| *v > max) {
-        None => Ok(()),
-        Some(i) => {
-            let (x, y) = xy(i, width);
-            Err(FrameError::SampleOutOfRange {
-                x,
-                y,
-                value: u32::from(pixels.get(i).copied().unwrap_or(0)),
-                max: u32::from(max),
-            })
-        }
-    }
+    let mut out = Vec::new();
+    file::widen_into(Samples::Be16(0), bytes, &mut out);
+    out
 }
 
 #[cfg(test)]

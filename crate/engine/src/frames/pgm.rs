@@ -8,14 +8,17 @@
 //! each when maxval < 256, else two bytes, most significant first. `#` starts a comment that runs
 //! to the end of the line, anywhere in the header before maxval.
 
-use super::{check_exact_len, check_max, check_size, from_be16, Frame, FrameError};
+use super::file::check_samples;
+#[cfg(test)]
+use super::Frame;
+use super::{check_exact_len, check_size, FrameError, Samples};
 
 const FORMAT: &str = "pgm";
 
 /// Longest decimal number accepted in the header: u32::MAX has 10 digits.
 const MAX_DIGITS: usize = 10;
 
-struct Header {
+struct PgmHeader {
     width: u64,
     height: u64,
     maxval: u64,
@@ -29,7 +32,7 @@ fn bad(what: impl Into<String>) -> FrameError {
     }
 }
 
-fn parse_header(bytes: &[u8]) -> Result<Header, FrameError> {
+fn parse_header(bytes: &[u8]) -> Result<PgmHeader, FrameError> {
     if !bytes.starts_with(b"P5") {
         return Err(bad("missing the \"P5\" signature"));
     }
@@ -87,7 +90,7 @@ fn parse_header(bytes: &[u8]) -> Result<Header, FrameError> {
         None => return Err(bad("the file ends right after maxval")),
     }
     let [width, height, maxval] = fields;
-    Ok(Header {
+    Ok(PgmHeader {
         width,
         height,
         maxval,
@@ -96,7 +99,13 @@ fn parse_header(bytes: &[u8]) -> Result<Header, FrameError> {
 }
 
 /// Decode a P5 greymap.
-pub(super) fn decode(bytes: &[u8]) -> Result<Frame, FrameError> {
+#[cfg(test)]
+fn decode(bytes: &[u8]) -> Result<Frame, FrameError> {
+    parse(bytes).map(|h| h.widened(bytes))
+}
+
+/// Read and check a P5 greymap's header and samples (none above maxval), without widening.
+pub(super) fn parse(bytes: &[u8]) -> Result<super::Header, FrameError> {
     let h = parse_header(bytes)?;
     if h.maxval == 0 || h.maxval > 65535 {
         return Err(bad(format!(
@@ -112,15 +121,18 @@ pub(super) fn decode(bytes: &[u8]) -> Result<Frame, FrameError> {
     // OK because check_size bounded width and height by MAX_PIXELS = 2^28.
     #[allow(clippy::cast_possible_truncation)]
     let (width, height) = (h.width as u32, h.height as u32);
-    let pixels = if bytes_per_sample == 1 {
-        data.iter().map(|b| u16::from(*b)).collect()
+    let samples = if bytes_per_sample == 1 {
+        Samples::Byte(h.data_start)
     } else {
-        from_be16(data)
+        Samples::Be16(h.data_start)
     };
     // OK because maxval ≤ 65535 was checked above.
     #[allow(clippy::cast_possible_truncation)]
     let maxval = h.maxval as u16;
-    check_max(&pixels, width, maxval)?;
+    // A full-scale maxval (255 or 65535) admits every sample the bytes can hold.
+    if maxval != 255 && maxval != 65535 {
+        check_samples(samples, data, width, maxval)?;
+    }
     let significant_bits = if (h.maxval + 1).is_power_of_two() {
         // OK because maxval + 1 ≤ 65536 = 2^16.
         #[allow(clippy::cast_possible_truncation)]
@@ -128,9 +140,13 @@ pub(super) fn decode(bytes: &[u8]) -> Result<Frame, FrameError> {
     } else {
         None
     };
-    let sample_bits = if bytes_per_sample == 1 { 8 } else { 16 };
-    Frame::new(width, height, sample_bits, pixels)
-        .map(|f| f.with_significant_bits(significant_bits))
+    Ok(super::Header {
+        width,
+        height,
+        sample_bits: if bytes_per_sample == 1 { 8 } else { 16 },
+        significant_bits,
+        samples,
+    })
 }
 
 #[cfg(test)]

@@ -4,7 +4,10 @@
 //! geometry from the file size, and reads no other sample layout (no 8-bit, big-endian or
 //! packed 10/12-bit raw).
 
-use super::{check_exact_len, check_max, check_size, from_le16, Frame, FrameError};
+use super::file::check_samples;
+#[cfg(test)]
+use super::Frame;
+use super::{check_exact_len, check_size, FrameError, Header, Samples};
 
 /// The geometry of a raw frame, which the file itself does not carry.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -18,7 +21,14 @@ pub struct RawGeometry {
 }
 
 /// Decode raw little-endian 16-bit samples.
-pub(super) fn decode(bytes: &[u8], g: RawGeometry) -> Result<Frame, FrameError> {
+#[cfg(test)]
+fn decode(bytes: &[u8], g: RawGeometry) -> Result<Frame, FrameError> {
+    parse(bytes, g).map(|h| h.widened(bytes))
+}
+
+/// Check raw little-endian 16-bit samples against their geometry (all present, each below
+/// 2^bits), without widening.
+pub(super) fn parse(bytes: &[u8], g: RawGeometry) -> Result<Header, FrameError> {
     if g.bits == 0 || g.bits > 16 {
         return Err(FrameError::UnsupportedBitDepth {
             format: "raw",
@@ -28,12 +38,20 @@ pub(super) fn decode(bytes: &[u8], g: RawGeometry) -> Result<Frame, FrameError> 
     let n = check_size(u64::from(g.width), u64::from(g.height))?;
     let needed = 2 * n;
     check_exact_len(needed, bytes.len() as u64)?;
-    let pixels = from_le16(bytes);
-    // OK because bits ≤ 16, so 2^bits − 1 ≤ 65535.
-    #[allow(clippy::cast_possible_truncation)]
-    let max = ((1u32 << g.bits) - 1) as u16;
-    check_max(&pixels, g.width, max)?;
-    Frame::new(g.width, g.height, 16, pixels).map(|f| f.with_significant_bits(Some(g.bits)))
+    let samples = Samples::Le16(0);
+    if g.bits < 16 {
+        // OK because bits < 16, so 2^bits − 1 < 65535.
+        #[allow(clippy::cast_possible_truncation)]
+        let max = ((1u32 << g.bits) - 1) as u16;
+        check_samples(samples, bytes, g.width, max)?;
+    }
+    Ok(Header {
+        width: g.width,
+        height: g.height,
+        sample_bits: 16,
+        significant_bits: Some(g.bits),
+        samples,
+    })
 }
 
 #[cfg(test)]

@@ -13,9 +13,9 @@ use serde_json::Value;
 
 use super::{
     analyse_with, AnalysisOptions, Cfa, Characterization, FrameKind, Roi, StackAccumulator,
-    StackSpec, CFA_NAMES,
+    StackBuffers, StackSpec, CFA_NAMES,
 };
-use crate::frames::{self, Frame, RawGeometry};
+use crate::frames::{Frame, FrameFile, RawGeometry};
 pub use crate::input::Problem;
 use crate::input::{self, show_value, type_name, Fields, Need, Problems, Range};
 
@@ -82,9 +82,39 @@ pub fn measure(
     read: &mut dyn FnMut(&FrameEntry) -> Result<Vec<u8>, String>,
     seen: &mut dyn FnMut(&FrameEntry, Option<&Frame>),
 ) -> Result<Characterization, Failure> {
+    measure_buffered(
+        manifest,
+        &mut |f, buffer| {
+            *buffer = read(f)?;
+            Ok(())
+        },
+        &mut |f, file| seen(f, file.and_then(FrameFile::to_frame).as_ref()),
+    )
+}
+
+/// A `read` for [`measure_buffered`]: replace the buffer's contents with the file's bytes, or
+/// say why it cannot.
+pub type ReadInto<'a> = dyn FnMut(&FrameEntry, &mut Vec<u8>) -> Result<(), String> + 'a;
+
+/// As [`measure`], with a `read` that replaces the contents of a buffer with the file's bytes
+/// (clear it, then fill it), and a `seen` told of each file as it was read
+/// ([`FrameFile`]: its size and depth; the samples are widened only when summed). The files'
+/// buffers go round between this function and the stack accumulators
+/// ([`StackAccumulator::push_file`]), so a long series is read into the same few buffers. The
+/// figures are those of [`measure`].
+///
+/// # Errors
+/// As [`measure`].
+pub fn measure_buffered(
+    manifest: &Manifest,
+    read: &mut ReadInto<'_>,
+    seen: &mut dyn FnMut(&FrameEntry, Option<&FrameFile>),
+) -> Result<Characterization, Failure> {
     let mut messages = Vec::new();
     let mut io_error = false;
     let mut stats = Vec::new();
+    let mut file = FrameFile::default();
+    let mut buffers = StackBuffers::default();
     for stack in &manifest.stacks {
         let Some(first) = stack.first() else { continue };
         let spec = StackSpec {
@@ -94,7 +124,13 @@ pub fn measure(
             photons_per_pixel: first.photons_per_pixel,
             frames: u32::try_from(stack.len()).unwrap_or(u32::MAX),
         };
-        let mut acc = match StackAccumulator::with_cfa(spec, manifest.roi, manifest.cfa) {
+        let acc = StackAccumulator::with_buffers(
+            spec,
+            manifest.roi,
+            manifest.cfa,
+            std::mem::take(&mut buffers),
+        );
+        let mut acc = match acc {
             Ok(a) => a,
             Err(e) => {
                 messages.push(format!("frames[{}]: {e}", first.index));
@@ -104,41 +140,37 @@ pub fn measure(
         let mut ok = true;
         for f in stack {
             let name = format!("frames[{}] ({})", f.index, f.path);
-            let bytes = match read(f) {
-                Ok(b) => b,
-                Err(e) => {
-                    messages.push(format!("{name}: {e}"));
-                    io_error = true;
-                    ok = false;
-                    seen(f, None);
-                    continue;
-                }
-            };
-            let frame = match frames::decode(&bytes, f.raw) {
-                Ok(fr) => fr,
-                Err(e) => {
-                    messages.push(format!("{name}: {e}"));
-                    ok = false;
-                    seen(f, None);
-                    continue;
-                }
-            };
-            drop(bytes);
-            seen(f, Some(&frame));
+            if let Err(e) = read(f, file.bytes_mut()) {
+                messages.push(format!("{name}: {e}"));
+                io_error = true;
+                ok = false;
+                seen(f, None);
+                continue;
+            }
+            if let Err(e) = file.decode(f.raw) {
+                messages.push(format!("{name}: {e}"));
+                ok = false;
+                seen(f, None);
+                continue;
+            }
+            seen(f, Some(&file));
             if ok {
-                if let Err(e) = acc.push(frame) {
+                if let Err(e) = acc.push_file(&mut file) {
                     messages.push(format!("{name}: {e}"));
                     ok = false;
                 }
             }
         }
+        let (result, kept) = acc.finish_with_buffers();
+        buffers = kept;
         if ok {
-            match acc.finish() {
+            match result {
                 Ok(s) => stats.push(s),
                 Err(e) => messages.push(format!("frames[{}]: {e}", first.index)),
             }
         }
     }
+    drop((file, buffers));
     if !messages.is_empty() {
         return Err(Failure {
             messages,

@@ -23,6 +23,7 @@ mod fit;
 mod formulas;
 mod manifest;
 mod pair;
+mod region;
 mod spatial;
 mod stack;
 
@@ -44,7 +45,8 @@ pub use formulas::{
     saturation_capacity_e, QUANTIZATION_VARIANCE_DN2, SMALL_DARK_VARIANCE_DN2,
 };
 pub use manifest::{
-    measure, parse_manifest, Failure, FrameEntry, Manifest, Problem, MANIFEST_VERSION,
+    measure, measure_buffered, parse_manifest, Failure, FrameEntry, Manifest, Problem, ReadInto,
+    MANIFEST_VERSION,
 };
 pub use pair::{pair_sums, PairSums};
 pub use spatial::{
@@ -53,5 +55,5 @@ pub use spatial::{
 };
 pub use stack::{
     spatial_variance_corrected_dn2, FrameKind, GroupStats, Roi, SampleInfo, StackAccumulator,
-    StackError, StackSpec, StackStats, MAX_FRAMES_PER_STACK,
+    StackBuffers, StackError, StackSpec, StackStats, MAX_FRAMES_PER_STACK,
 };

@@ -254,7 +254,9 @@ fn pair_sums_portable(a: &[u16], b: &[u16]) -> PairSums {
 /// even or odd column, which it knows).
 const LANES: usize = 16;
 
-/// What one pass over a row of a frame pair gives besides the per-pixel updates.
+/// What one pass over a row of a frame pair gives besides the per-pixel updates. The stack's
+/// pass leaves `sum_sum_sq` of its sums at 0: the stack takes the spatial variance from the
+/// per-pixel sums, and only the temporal variance from the pair.
 #[derive(Debug, Clone, Copy, Default, PartialEq, Eq)]
 pub(crate) struct RowPass {
     /// Sums over the samples at even offsets from the row's first sample, then at odd offsets.
@@ -273,58 +275,155 @@ pub(crate) struct RowPass {
 /// (< 2^27); a per-pixel sum of at most 2^16 frames of 16-bit samples is below 2^32 (the
 /// stack's frame limit); (a − b)² < 2^32 fits a `u32`. A per-pixel `dsq` that saturates marks
 /// a pixel far noisier than any threshold, which is what it is used for.
+#[cfg(test)]
 pub(crate) fn pair_pass(a: &[u16], b: &[u16], sums: &mut [u32], dsq: &mut [u32]) -> RowPass {
+    let [mut p, _] = pairs_pass(a, b, None, sums, dsq, false);
+    p.parity = parity_sums::<true>(a, b);
+    p
+}
+
+/// One pass over the rows of one pair (a, b) or two pairs (a, b) and (c, d) of a stack: each
+/// pair's [`RowPass`] (the OR and maximum of all the rows in the first), and per pixel
+/// `sums += a + b (+ c + d)` and, when `dsq` is not empty, `dsq += (a − b)² (+ (c − d)²)`,
+/// saturating. With `first` the per-pixel values are written instead of added (the stack's
+/// first pass: the buffers need no zeroing). Two pairs in one pass read and write the per-pixel
+/// sums once instead of twice, which is most of the pass's memory traffic.
+///
+/// Exact as [`pair_sums`]: a + b + c + d < 2^18; a per-pixel sum of at most 2^16 frames of
+/// 16-bit samples is below 2^32 (the stack's frame limit); (a − b)² < 2^32, and saturating
+/// additions of non-negative values give min(2^32 − 1, the sum) in any order, so the pixel's
+/// `dsq` is the same whether its pairs come one or two at a time. A `dsq` that saturates marks a
+/// pixel far noisier than any threshold, which is what it is used for. On x86-64 with AVX2
+/// (checked at run time) the loops are compiled for 256-bit vectors; in wasm with `simd128`
+/// the compiler vectorises them for 128-bit ones.
+pub(crate) fn pairs_pass(
+    a: &[u16],
+    b: &[u16],
+    cd: Option<(&[u16], &[u16])>,
+    sums: &mut [u32],
+    dsq: &mut [u32],
+    first: bool,
+) -> [RowPass; 2] {
     #[cfg(target_arch = "x86_64")]
     {
         if std::is_x86_feature_detected!("avx2") {
             // SAFETY: the processor supports AVX2, checked just above; the function is the
             // portable loop compiled with that feature enabled and touches no memory otherwise.
-            return unsafe { pair_pass_avx2(a, b, sums, dsq) };
+            return unsafe { pairs_pass_avx2(a, b, cd, sums, dsq, first) };
         }
     }
-    pair_pass_portable(a, b, sums, dsq)
+    pairs_pass_portable(a, b, cd, sums, dsq, first)
 }
 
 #[cfg(target_arch = "x86_64")]
 #[target_feature(enable = "avx2")]
-unsafe fn pair_pass_avx2(a: &[u16], b: &[u16], sums: &mut [u32], dsq: &mut [u32]) -> RowPass {
-    pair_pass_portable(a, b, sums, dsq)
-}
-
-#[inline(always)]
-fn pair_pass_portable(a: &[u16], b: &[u16], sums: &mut [u32], dsq: &mut [u32]) -> RowPass {
-    if dsq.is_empty() {
-        pass::<false>(a, b, sums, dsq)
-    } else {
-        pass::<true>(a, b, sums, dsq)
-    }
-}
-
-/// The per-pixel part of the pass: `sums += a + b`, and with `DSQ` `dsq += (a − b)²`
-/// (saturating); returns the OR and the maximum of the samples. A plain loop over equal-length
-/// slices, which the compiler vectorises.
-#[inline(always)]
-fn per_pixel<const DSQ: bool>(
+unsafe fn pairs_pass_avx2(
     a: &[u16],
     b: &[u16],
+    cd: Option<(&[u16], &[u16])>,
+    sums: &mut [u32],
+    dsq: &mut [u32],
+    first: bool,
+) -> [RowPass; 2] {
+    pairs_pass_portable(a, b, cd, sums, dsq, first)
+}
+
+#[inline(always)]
+fn pairs_pass_portable(
+    a: &[u16],
+    b: &[u16],
+    cd: Option<(&[u16], &[u16])>,
+    sums: &mut [u32],
+    dsq: &mut [u32],
+    first: bool,
+) -> [RowPass; 2] {
+    let (c, d) = cd.unwrap_or((a, b));
+    let mut n = a.len().min(b.len()).min(sums.len());
+    if cd.is_some() {
+        n = n.min(c.len()).min(d.len());
+    }
+    let with_dsq = !dsq.is_empty();
+    if with_dsq {
+        n = n.min(dsq.len());
+    }
+    let (a, b) = (
+        a.get(..n).unwrap_or_default(),
+        b.get(..n).unwrap_or_default(),
+    );
+    let (c, d) = (
+        c.get(..n).unwrap_or_default(),
+        d.get(..n).unwrap_or_default(),
+    );
+    let sums = sums.get_mut(..n).unwrap_or_default();
+    let dsq = if with_dsq {
+        dsq.get_mut(..n).unwrap_or_default()
+    } else {
+        &mut []
+    };
+    let two = cd.is_some();
+    let (or, max) = match (first, with_dsq, two) {
+        (false, false, false) => per_pixel::<false, false, false>(a, b, c, d, sums, dsq),
+        (false, false, true) => per_pixel::<false, false, true>(a, b, c, d, sums, dsq),
+        (false, true, false) => per_pixel::<false, true, false>(a, b, c, d, sums, dsq),
+        (false, true, true) => per_pixel::<false, true, true>(a, b, c, d, sums, dsq),
+        (true, false, false) => per_pixel::<true, false, false>(a, b, c, d, sums, dsq),
+        (true, false, true) => per_pixel::<true, false, true>(a, b, c, d, sums, dsq),
+        (true, true, false) => per_pixel::<true, true, false>(a, b, c, d, sums, dsq),
+        (true, true, true) => per_pixel::<true, true, true>(a, b, c, d, sums, dsq),
+    };
+    [
+        RowPass {
+            parity: parity_sums::<false>(a, b),
+            or,
+            max,
+        },
+        RowPass {
+            parity: if two {
+                parity_sums::<false>(c, d)
+            } else {
+                [PairSums::default(); 2]
+            },
+            or: 0,
+            max: 0,
+        },
+    ]
+}
+
+/// The per-pixel part of the pass over slices of one length: `sums (+)= a + b (+ c + d)`,
+/// with `DSQ` `dsq (+)= (a − b)² (+ (c − d)²)` (saturating); `=` with `FIRST`; c and d with
+/// `TWO`. Returns the OR and the maximum of the samples. A plain loop the compiler vectorises.
+#[inline(always)]
+#[allow(clippy::indexing_slicing)] // OK because the caller cut every slice to one length n
+fn per_pixel<const FIRST: bool, const DSQ: bool, const TWO: bool>(
+    a: &[u16],
+    b: &[u16],
+    c: &[u16],
+    d: &[u16],
     sums: &mut [u32],
     dsq: &mut [u32],
 ) -> (u16, u16) {
+    let n = sums.len();
+    let (a, b, c, d) = (&a[..n], &b[..n], &c[..n], &d[..n]);
+    let dsq = if DSQ { &mut dsq[..n] } else { dsq };
     let (mut or, mut max) = (0u16, 0u16);
-    if DSQ {
-        for (((x, y), s), d) in a.iter().zip(b).zip(sums.iter_mut()).zip(dsq.iter_mut()) {
-            let (x32, y32) = (u32::from(*x), u32::from(*y));
-            *s = s.wrapping_add(x32 + y32);
-            let diff = x32.abs_diff(y32);
-            *d = d.saturating_add(diff * diff);
-            or |= *x | *y;
-            max = max.max((*x).max(*y));
+    for i in 0..n {
+        let (x, y) = (u32::from(a[i]), u32::from(b[i]));
+        let mut v = x + y;
+        let diff = x.abs_diff(y);
+        let mut dd = diff * diff;
+        or |= a[i] | b[i];
+        max = max.max(a[i].max(b[i]));
+        if TWO {
+            let (z, w) = (u32::from(c[i]), u32::from(d[i]));
+            v += z + w;
+            let diff = z.abs_diff(w);
+            dd = dd.saturating_add(diff * diff);
+            or |= c[i] | d[i];
+            max = max.max(c[i].max(d[i]));
         }
-    } else {
-        for ((x, y), s) in a.iter().zip(b).zip(sums.iter_mut()) {
-            *s = s.wrapping_add(u32::from(*x) + u32::from(*y));
-            or |= *x | *y;
-            max = max.max((*x).max(*y));
+        sums[i] = if FIRST { v } else { sums[i].wrapping_add(v) };
+        if DSQ {
+            dsq[i] = if FIRST { dd } else { dsq[i].saturating_add(dd) };
         }
     }
     (or, max)
@@ -334,7 +433,7 @@ fn per_pixel<const DSQ: bool>(
 /// (lane j takes the offsets ≡ j mod 16, so its parity is j's).
 #[inline(always)]
 #[allow(clippy::indexing_slicing)] // OK because every index is j < LANES into arrays of LANES
-fn parity_sums(a: &[u16], b: &[u16]) -> [PairSums; 2] {
+fn parity_sums<const SQUARES_OF_SUMS: bool>(a: &[u16], b: &[u16]) -> [PairSums; 2] {
     let n = a.len().min(b.len());
     let mut out = [PairSums::default(); 2];
     let mut dd = [0u64; LANES];
@@ -357,8 +456,10 @@ fn parity_sums(a: &[u16], b: &[u16]) -> [PairSums; 2] {
                 sb[j] += yj;
                 let d = xj.abs_diff(yj);
                 dd[j] += u64::from(d * d);
-                let s = u64::from(xj + yj);
-                ss[j] += s * s;
+                if SQUARES_OF_SUMS {
+                    let s = u64::from(xj + yj);
+                    ss[j] += s * s;
+                }
             }
         }
         for j in 0..LANES {
@@ -388,31 +489,10 @@ fn parity_sums(a: &[u16], b: &[u16]) -> [PairSums; 2] {
             sum_a: u64::from(x),
             sum_b: u64::from(y),
             sum_diff_sq: u64::from(x.abs_diff(y).pow(2)),
-            sum_sum_sq: s * s,
+            sum_sum_sq: if SQUARES_OF_SUMS { s * s } else { 0 },
         });
     }
     out
-}
-
-#[inline(always)]
-fn pass<const DSQ: bool>(a: &[u16], b: &[u16], sums: &mut [u32], dsq: &mut [u32]) -> RowPass {
-    let mut n = a.len().min(b.len()).min(sums.len());
-    if DSQ {
-        n = n.min(dsq.len());
-    }
-    let a = a.get(..n).unwrap_or_default();
-    let b = b.get(..n).unwrap_or_default();
-    let sums = sums.get_mut(..n).unwrap_or_default();
-    let (or, max) = if DSQ {
-        per_pixel::<true>(a, b, sums, dsq.get_mut(..n).unwrap_or_default())
-    } else {
-        per_pixel::<false>(a, b, sums, &mut [])
-    };
-    RowPass {
-        parity: parity_sums(a, b),
-        or,
-        max,
-    }
 }
 
 #[cfg(test)]

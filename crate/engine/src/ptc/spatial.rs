@@ -41,33 +41,6 @@ pub const HIGH_NOISE_MIN_PAIRS: u32 = 4;
 /// tool's choice; the standard averages every line, from memory).
 pub const SPECTROGRAM_MAX_LINES: usize = 512;
 
-/// A view of the per-pixel sums: rows `y0, y0 + dy, …` and columns `x0, x0 + dx, …` of a
-/// row-major buffer `stride` wide.
-#[derive(Clone, Copy)]
-pub(crate) struct SubImage<'a> {
-    pub data: &'a [u32],
-    pub stride: usize,
-    pub x0: usize,
-    pub y0: usize,
-    pub step: usize,
-    pub columns: usize,
-    pub rows: usize,
-}
-
-impl SubImage<'_> {
-    /// The values of one row of the view.
-    fn row(&self, r: usize) -> impl Iterator<Item = u32> + '_ {
-        let start = (self.y0 + r * self.step) * self.stride + self.x0;
-        self.data
-            .get(start..)
-            .unwrap_or_default()
-            .iter()
-            .step_by(self.step)
-            .take(self.columns)
-            .copied()
-    }
-}
-
 /// A histogram with equal bins.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Histogram {
@@ -172,7 +145,7 @@ impl SpatialSummary {
 }
 
 /// Sample variance (n − 1) of a few values.
-fn sample_variance(v: &[f64]) -> f64 {
+pub(crate) fn sample_variance(v: &[f64]) -> f64 {
     let n = v.len() as f64;
     if v.len() < 2 {
         return 0.0;
@@ -232,135 +205,11 @@ pub fn split_variance(
     })
 }
 
-/// Summarise one averaged image. `frames` = L; `temporal_variance_dn2` = σ²_y of the same
-/// pixels; `dsq` = per-pixel Σ(a − b)² over `pairs` pairs, seen through the same view.
-pub(crate) fn summarise(
-    img: SubImage<'_>,
-    frames: u32,
-    temporal_variance_dn2: f64,
-    dsq: Option<SubImage<'_>>,
-    pairs: u32,
-) -> SpatialSummary {
-    let l = f64::from(frames.max(1));
-    let (rows, cols) = (img.rows, img.columns);
-    let n = (rows * cols) as f64;
-    // Integer sums per row and column (exact), then the profiles.
-    let mut col_sums = vec![0u64; cols];
-    let mut row_means = Vec::with_capacity(rows);
-    let (mut s1, mut s2) = (0u128, 0u128);
-    let (mut lo, mut hi) = (u32::MAX, 0u32);
-    for r in 0..rows {
-        let mut rs = 0u64;
-        for (c, v) in col_sums.iter_mut().zip(img.row(r)) {
-            *c += u64::from(v);
-            rs += u64::from(v);
-            s2 += u128::from(u64::from(v) * u64::from(v));
-            lo = lo.min(v);
-            hi = hi.max(v);
-        }
-        s1 += u128::from(rs);
-        row_means.push(rs as f64 / (cols as f64 * l));
-    }
-    let column_means: Vec<f64> = col_sums
-        .iter()
-        .map(|c| *c as f64 / (rows as f64 * l))
-        .collect();
-    let nn = (rows * cols) as u128;
-    let variance_raw = if nn > 1 {
-        (nn * s2).saturating_sub(s1 * s1) as f64 / (n * (n - 1.0) * l * l)
-    } else {
-        0.0
-    };
-    let mean = s1 as f64 / (n * l);
-    let row_var = sample_variance(&row_means);
-    let col_var = sample_variance(&column_means);
-    let split = split_variance(
-        variance_raw,
-        row_var,
-        col_var,
-        rows,
-        cols,
-        temporal_variance_dn2,
-        frames,
-    );
-
-    // Spectrograms: the first P values of each line, less the image mean.
-    let pick = |k: usize, lines: usize| k * lines / lines.clamp(1, SPECTROGRAM_MAX_LINES);
-    let horizontal = spectrogram(rows, cols, mean, l, 2, |k0, p, out| {
-        for (k, line) in out.chunks_exact_mut(p).enumerate() {
-            for (o, v) in line.iter_mut().zip(img.row(pick(k0 + k, rows))) {
-                *o = v;
-            }
-        }
-    });
-    // Columns are gathered 16 at a time in one pass over the rows.
-    let vertical = spectrogram(cols, rows, mean, l, 16, |k0, p, out| {
-        let count = out.len() / p;
-        let picked: Vec<usize> = (0..count).map(|k| pick(k0 + k, cols)).collect();
-        for r in 0..p {
-            let start = (img.y0 + r * img.step) * img.stride + img.x0;
-            let row = img.data.get(start..).unwrap_or_default();
-            for (k, c) in picked.iter().enumerate() {
-                if let (Some(o), Some(v)) = (out.get_mut(k * p + r), row.get(c * img.step)) {
-                    *o = *v;
-                }
-            }
-        }
-    });
-
-    // Histogram of S over [lo, hi] in integer arithmetic: bin = (S − lo)·B / (hi − lo + 1).
-    let range = u64::from(hi.saturating_sub(lo)) + 1;
-    let bins = HISTOGRAM_BINS.min(range);
-    let mut counts = vec![0u64; usize::try_from(bins).unwrap_or(1)];
-    let threshold = DEFECT_SIGMAS * variance_raw.sqrt();
-    let (mut above, mut below) = (0u64, 0u64);
-    for r in 0..rows {
-        for v in img.row(r) {
-            let i = u64::from(v - lo.min(v)) * bins / range;
-            if let Some(c) = counts.get_mut(usize::try_from(i).unwrap_or(0)) {
-                *c += 1;
-            }
-            let dev = f64::from(v) / l - mean;
-            if dev > threshold {
-                above += 1;
-            } else if dev < -threshold {
-                below += 1;
-            }
-        }
-    }
-    let histogram = Histogram {
-        first_edge: f64::from(lo) / l - mean,
-        bin_width: range as f64 / (bins as f64 * l),
-        counts,
-    };
-
-    let high_noise = dsq.map(|d| high_noise(d, temporal_variance_dn2, pairs));
-    SpatialSummary {
-        rows: u32::try_from(rows).unwrap_or(u32::MAX),
-        columns: u32::try_from(cols).unwrap_or(u32::MAX),
-        row_means_dn: row_means,
-        column_means_dn: column_means,
-        variance_raw_dn2: variance_raw,
-        row_means_variance_dn2: row_var,
-        column_means_variance_dn2: col_var,
-        split,
-        horizontal_length: horizontal.0,
-        horizontal_spectrogram_dn2: horizontal.1,
-        vertical_length: vertical.0,
-        vertical_spectrogram_dn2: vertical.1,
-        histogram,
-        defect_threshold_dn: threshold,
-        above_threshold: above,
-        below_threshold: below,
-        high_noise,
-    }
-}
-
 /// Mean over `lines` lines (at most [`SPECTROGRAM_MAX_LINES`]) of |DFT|²/P of the first
 /// P = 2^⌊log2 len⌋ values of each line less `mean`; bins 0 … P/2. `(0, [])` when a line is shorter than 4. `fill(i, j0, out)` writes
 /// the first P values of lines i … i + out.len()/P − 1 into `out`, line after line (so that
 /// a caller can gather several columns per pass over its rows).
-fn spectrogram(
+pub(crate) fn spectrogram(
     lines: usize,
     len: usize,
     mean: f64,
@@ -409,42 +258,202 @@ fn spectrogram(
     (u32::try_from(p).unwrap_or(0), power)
 }
 
-fn high_noise(d: SubImage<'_>, temporal_variance_dn2: f64, pairs: u32) -> HighNoise {
-    // Per pixel σ²_i = D_i / (2P); the ratio to the channel's σ² binned in integers of D.
-    let denom = 2.0 * f64::from(pairs.max(1)) * temporal_variance_dn2;
-    let mut max = 0u32;
-    for r in 0..d.rows {
-        for v in d.row(r) {
-            max = max.max(v);
+/// The direct form of the summary: one image (a whole region, or one phase seen through a
+/// [`direct::SubImage`]) at a time, several passes over it, each figure as its definition
+/// reads. The summaries are made by [`super::region`]'s two fused passes instead; this form is
+/// kept as the reference they must equal exactly (tests only).
+#[cfg(test)]
+pub(crate) mod direct {
+    use super::*;
+
+    /// A view of the per-pixel sums: rows `y0, y0 + dy, …` and columns `x0, x0 + dx, …` of a
+    /// row-major buffer `stride` wide.
+    #[derive(Clone, Copy)]
+    pub(crate) struct SubImage<'a> {
+        pub data: &'a [u32],
+        pub stride: usize,
+        pub x0: usize,
+        pub y0: usize,
+        pub step: usize,
+        pub columns: usize,
+        pub rows: usize,
+    }
+
+    impl SubImage<'_> {
+        /// The values of one row of the view.
+        fn row(&self, r: usize) -> impl Iterator<Item = u32> + '_ {
+            let start = (self.y0 + r * self.step) * self.stride + self.x0;
+            self.data
+                .get(start..)
+                .unwrap_or_default()
+                .iter()
+                .step_by(self.step)
+                .take(self.columns)
+                .copied()
         }
     }
-    let range = u64::from(max) + 1;
-    let bins = HISTOGRAM_BINS.min(range);
-    let mut counts = vec![0u64; usize::try_from(bins).unwrap_or(1)];
-    let limit = HIGH_NOISE_FACTOR * denom;
-    let mut count = 0u64;
-    for r in 0..d.rows {
-        for v in d.row(r) {
-            let i = u64::from(v) * bins / range;
-            if let Some(c) = counts.get_mut(usize::try_from(i).unwrap_or(0)) {
-                *c += 1;
+
+    /// Summarise one averaged image. `frames` = L; `temporal_variance_dn2` = σ²_y of the same
+    /// pixels; `dsq` = per-pixel Σ(a − b)² over `pairs` pairs, seen through the same view.
+    pub(crate) fn summarise(
+        img: SubImage<'_>,
+        frames: u32,
+        temporal_variance_dn2: f64,
+        dsq: Option<SubImage<'_>>,
+        pairs: u32,
+    ) -> SpatialSummary {
+        let l = f64::from(frames.max(1));
+        let (rows, cols) = (img.rows, img.columns);
+        let n = (rows * cols) as f64;
+        // Integer sums per row and column (exact), then the profiles.
+        let mut col_sums = vec![0u64; cols];
+        let mut row_means = Vec::with_capacity(rows);
+        let (mut s1, mut s2) = (0u128, 0u128);
+        let (mut lo, mut hi) = (u32::MAX, 0u32);
+        for r in 0..rows {
+            let mut rs = 0u64;
+            for (c, v) in col_sums.iter_mut().zip(img.row(r)) {
+                *c += u64::from(v);
+                rs += u64::from(v);
+                s2 += u128::from(u64::from(v) * u64::from(v));
+                lo = lo.min(v);
+                hi = hi.max(v);
             }
-            if f64::from(v) > limit {
-                count += 1;
+            s1 += u128::from(rs);
+            row_means.push(rs as f64 / (cols as f64 * l));
+        }
+        let column_means: Vec<f64> = col_sums
+            .iter()
+            .map(|c| *c as f64 / (rows as f64 * l))
+            .collect();
+        let nn = (rows * cols) as u128;
+        let variance_raw = if nn > 1 {
+            (nn * s2).saturating_sub(s1 * s1) as f64 / (n * (n - 1.0) * l * l)
+        } else {
+            0.0
+        };
+        let mean = s1 as f64 / (n * l);
+        let row_var = sample_variance(&row_means);
+        let col_var = sample_variance(&column_means);
+        let split = split_variance(
+            variance_raw,
+            row_var,
+            col_var,
+            rows,
+            cols,
+            temporal_variance_dn2,
+            frames,
+        );
+
+        // Spectrograms: the first P values of each line, less the image mean.
+        let pick = |k: usize, lines: usize| k * lines / lines.clamp(1, SPECTROGRAM_MAX_LINES);
+        let horizontal = spectrogram(rows, cols, mean, l, 2, |k0, p, out| {
+            for (k, line) in out.chunks_exact_mut(p).enumerate() {
+                for (o, v) in line.iter_mut().zip(img.row(pick(k0 + k, rows))) {
+                    *o = v;
+                }
+            }
+        });
+        // Columns are gathered 16 at a time in one pass over the rows.
+        let vertical = spectrogram(cols, rows, mean, l, 16, |k0, p, out| {
+            let count = out.len() / p;
+            let picked: Vec<usize> = (0..count).map(|k| pick(k0 + k, cols)).collect();
+            for r in 0..p {
+                let start = (img.y0 + r * img.step) * img.stride + img.x0;
+                let row = img.data.get(start..).unwrap_or_default();
+                for (k, c) in picked.iter().enumerate() {
+                    if let (Some(o), Some(v)) = (out.get_mut(k * p + r), row.get(c * img.step)) {
+                        *o = *v;
+                    }
+                }
+            }
+        });
+
+        // Histogram of S over [lo, hi] in integer arithmetic: bin = (S − lo)·B / (hi − lo + 1).
+        let range = u64::from(hi.saturating_sub(lo)) + 1;
+        let bins = HISTOGRAM_BINS.min(range);
+        let mut counts = vec![0u64; usize::try_from(bins).unwrap_or(1)];
+        let threshold = DEFECT_SIGMAS * variance_raw.sqrt();
+        let (mut above, mut below) = (0u64, 0u64);
+        for r in 0..rows {
+            for v in img.row(r) {
+                let i = u64::from(v - lo.min(v)) * bins / range;
+                if let Some(c) = counts.get_mut(usize::try_from(i).unwrap_or(0)) {
+                    *c += 1;
+                }
+                let dev = f64::from(v) / l - mean;
+                if dev > threshold {
+                    above += 1;
+                } else if dev < -threshold {
+                    below += 1;
+                }
             }
         }
-    }
-    let usable = pairs >= HIGH_NOISE_MIN_PAIRS && denom > 0.0;
-    HighNoise {
-        count: usable.then_some(count),
-        histogram: Histogram {
-            first_edge: 0.0,
-            bin_width: if denom > 0.0 {
-                range as f64 / (bins as f64 * denom)
-            } else {
-                0.0
-            },
+        let histogram = Histogram {
+            first_edge: f64::from(lo) / l - mean,
+            bin_width: range as f64 / (bins as f64 * l),
             counts,
-        },
+        };
+
+        let high_noise = dsq.map(|d| high_noise(d, temporal_variance_dn2, pairs));
+        SpatialSummary {
+            rows: u32::try_from(rows).unwrap_or(u32::MAX),
+            columns: u32::try_from(cols).unwrap_or(u32::MAX),
+            row_means_dn: row_means,
+            column_means_dn: column_means,
+            variance_raw_dn2: variance_raw,
+            row_means_variance_dn2: row_var,
+            column_means_variance_dn2: col_var,
+            split,
+            horizontal_length: horizontal.0,
+            horizontal_spectrogram_dn2: horizontal.1,
+            vertical_length: vertical.0,
+            vertical_spectrogram_dn2: vertical.1,
+            histogram,
+            defect_threshold_dn: threshold,
+            above_threshold: above,
+            below_threshold: below,
+            high_noise,
+        }
+    }
+
+    fn high_noise(d: SubImage<'_>, temporal_variance_dn2: f64, pairs: u32) -> HighNoise {
+        // Per pixel σ²_i = D_i / (2P); the ratio to the channel's σ² binned in integers of D.
+        let denom = 2.0 * f64::from(pairs.max(1)) * temporal_variance_dn2;
+        let mut max = 0u32;
+        for r in 0..d.rows {
+            for v in d.row(r) {
+                max = max.max(v);
+            }
+        }
+        let range = u64::from(max) + 1;
+        let bins = HISTOGRAM_BINS.min(range);
+        let mut counts = vec![0u64; usize::try_from(bins).unwrap_or(1)];
+        let limit = HIGH_NOISE_FACTOR * denom;
+        let mut count = 0u64;
+        for r in 0..d.rows {
+            for v in d.row(r) {
+                let i = u64::from(v) * bins / range;
+                if let Some(c) = counts.get_mut(usize::try_from(i).unwrap_or(0)) {
+                    *c += 1;
+                }
+                if f64::from(v) > limit {
+                    count += 1;
+                }
+            }
+        }
+        let usable = pairs >= HIGH_NOISE_MIN_PAIRS && denom > 0.0;
+        HighNoise {
+            count: usable.then_some(count),
+            histogram: Histogram {
+                first_edge: 0.0,
+                bin_width: if denom > 0.0 {
+                    range as f64 / (bins as f64 * denom)
+                } else {
+                    0.0
+                },
+                counts,
+            },
+        }
     }
 }

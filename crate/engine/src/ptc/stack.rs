@@ -11,9 +11,10 @@
 use std::fmt;
 
 use super::cfa::Cfa;
-use super::pair::{pair_pass, PairSums, RowPass};
-use super::spatial::{summarise, SpatialSummary, SubImage};
-use crate::frames::Frame;
+use super::pair::{pairs_pass, PairSums};
+use super::region::{region_sums, summarise_groups, Group, Region};
+use super::spatial::SpatialSummary;
+use crate::frames::{Frame, FrameFile};
 
 /// Most frames one stack may have: 2^16. Keeps the per-pixel sum below 2^16 · (2^16 − 1) < 2^32
 /// (a `u32`) and the sum of its squares, times the pixel count, within `u128`.
@@ -250,6 +251,21 @@ impl StackStats {
     }
 }
 
+/// The memory of a stack accumulator (its per-pixel sums and its frame buffers), handed from
+/// one stack to the next ([`StackAccumulator::with_buffers`],
+/// [`StackAccumulator::finish_with_buffers`]) so that a series of stacks allocates it once.
+/// Holds no figure: a new stack overwrites it.
+#[derive(Debug, Default)]
+pub struct StackBuffers {
+    sums: Vec<u32>,
+    dsq: Vec<u32>,
+    spares: Vec<FrameFile>,
+}
+
+/// Most frames an accumulator holds: two pairs are summed in one pass, so a pair waits for
+/// the next (three frames held, the fourth arriving).
+const HELD_FRAMES: usize = 3;
+
 /// Accumulates one stack's frames into [`StackStats`].
 #[derive(Debug)]
 pub struct StackAccumulator {
@@ -257,7 +273,12 @@ pub struct StackAccumulator {
     cfa: Cfa,
     frame_size: Option<(u32, u32)>,
     roi: Option<Roi>,
-    held: Option<Frame>,
+    /// Frames received and not yet summed: at most [`HELD_FRAMES`].
+    pending: Vec<FrameFile>,
+    /// Frame buffers to give the caller in exchange for its frames.
+    spares: Vec<FrameFile>,
+    /// One row of each pending frame, widened.
+    rows: [Vec<u16>; 4],
     pushed: u32,
     pairs: u32,
     /// Σ over pairs of each group's pair variance: phases 0–3, diagonals 0+3 and 1+2, all.
@@ -287,6 +308,20 @@ impl StackAccumulator {
     /// # Errors
     /// [`StackError::FrameCount`] unless 2 ≤ frames ≤ [`MAX_FRAMES_PER_STACK`].
     pub fn with_cfa(spec: StackSpec, roi: Option<Roi>, cfa: Cfa) -> Result<Self, StackError> {
+        Self::with_buffers(spec, roi, cfa, StackBuffers::default())
+    }
+
+    /// As [`StackAccumulator::with_cfa`], in the memory of an earlier stack (see
+    /// [`StackBuffers`]).
+    ///
+    /// # Errors
+    /// [`StackError::FrameCount`] unless 2 ≤ frames ≤ [`MAX_FRAMES_PER_STACK`].
+    pub fn with_buffers(
+        spec: StackSpec,
+        roi: Option<Roi>,
+        cfa: Cfa,
+        buffers: StackBuffers,
+    ) -> Result<Self, StackError> {
         if spec.frames < 2 || spec.frames > MAX_FRAMES_PER_STACK {
             return Err(StackError::FrameCount {
                 frames: spec.frames,
@@ -297,12 +332,14 @@ impl StackAccumulator {
             cfa,
             frame_size: None,
             roi,
-            held: None,
+            pending: Vec::with_capacity(HELD_FRAMES + 1),
+            spares: buffers.spares,
+            rows: Default::default(),
             pushed: 0,
             pairs: 0,
             variance_sums_dn2: [0.0; 7],
-            pixel_sums: Vec::new(),
-            pixel_dsq: Vec::new(),
+            pixel_sums: buffers.sums,
+            pixel_dsq: buffers.dsq,
             or: 0,
             max: 0,
             container_bits: 0,
@@ -317,85 +354,163 @@ impl StackAccumulator {
         &self.spec
     }
 
-    /// Add the next frame. The frame is kept only until its pair partner arrives.
+    /// Add the next frame. The frame is kept only until its pair partner arrives (and that
+    /// pair until the next one, see [`StackAccumulator::push_file`]).
     ///
     /// # Errors
     /// A size that differs from the stack's first frame, a region of interest outside the frame,
     /// or more frames than announced.
     pub fn push(&mut self, frame: Frame) -> Result<(), StackError> {
+        self.push_file(&mut FrameFile::from(frame))
+    }
+
+    /// Add the next frame as its file holds it, without taking its memory: the file is
+    /// exchanged for a buffer of no particular content, into which the caller reads the next
+    /// file ([`FrameFile::bytes_mut`]). Frames are summed two pairs at a time (one pass over the
+    /// per-pixel sums for four frames), so at most three are held; a series is read with four
+    /// frame buffers, whatever its length, and no fresh memory per frame.
+    ///
+    /// # Errors
+    /// As [`StackAccumulator::push`]; on an error `file` is left as it was.
+    pub fn push_file(&mut self, file: &mut FrameFile) -> Result<(), StackError> {
         if self.pushed >= self.spec.frames {
             return Err(StackError::TooManyFrames {
                 frames: self.spec.frames,
             });
         }
-        let size = (frame.width(), frame.height());
-        let roi = match self.frame_size {
+        let size = (file.width(), file.height());
+        match self.frame_size {
             Some(expected) if expected != size => {
                 return Err(StackError::SizeMismatch {
                     expected,
                     found: size,
                 })
             }
-            Some(_) => self.region(size),
+            Some(_) => {}
             None => {
                 let roi = self.region(size);
                 check_roi(roi, size)?;
                 self.frame_size = Some(size);
+                // The first pass writes the per-pixel sums: a buffer of the right length is
+                // reused as it is, without zeroing.
                 let n = (roi.width as usize) * (roi.height as usize);
-                self.pixel_sums = vec![0; n];
-                if self.spec.kind == FrameKind::Dark {
-                    self.pixel_dsq = vec![0; n];
+                if self.pixel_sums.len() != n {
+                    self.pixel_sums.clear();
+                    self.pixel_sums.resize(n, 0);
                 }
-                roi
+                if self.spec.kind == FrameKind::Dark && self.pixel_dsq.len() != n {
+                    self.pixel_dsq.clear();
+                    self.pixel_dsq.resize(n, 0);
+                }
             }
-        };
+        }
         self.pushed += 1;
-        self.container_bits = self.container_bits.max(frame.sample_bits());
+        self.container_bits = self.container_bits.max(file.sample_bits());
         self.bits = Some(match self.bits {
-            None => frame.significant_bits(),
-            Some(b) if b == frame.significant_bits() => b,
+            None => file.significant_bits(),
+            Some(b) if b == file.significant_bits() => b,
             Some(_) => None,
         });
         self.msb_bits = Some(match self.msb_bits {
-            None => frame.msb_bits(),
-            Some(b) if b == frame.msb_bits() => b,
+            None => file.msb_bits(),
+            Some(b) if b == file.msb_bits() => b,
             Some(_) => None,
         });
-        match self.held.take() {
-            None => self.held = Some(frame),
-            Some(first) => {
-                let w = roi.width as usize;
-                let mut phases = [PairSums::default(); 4];
-                let mut sums_rows = self.pixel_sums.chunks_exact_mut(w.max(1));
-                let mut dsq_rows = self.pixel_dsq.chunks_exact_mut(w.max(1));
-                let odd_x = (roi.x % 2) as usize;
-                for (r, (ra, rb)) in rows(&first, roi).zip(rows(&frame, roi)).enumerate() {
-                    let Some(sums) = sums_rows.next() else { break };
-                    let pass: RowPass =
-                        pair_pass(ra, rb, sums, dsq_rows.next().unwrap_or_default());
-                    let py = ((roi.y as usize + r) % 2) * 2;
-                    for (parity, p) in pass.parity.iter().enumerate() {
-                        if let Some(slot) = phases.get_mut(py + (parity + odd_x) % 2) {
-                            *slot = slot.merged(*p);
-                        }
-                    }
-                    self.or |= pass.or;
-                    self.max = self.max.max(pass.max);
-                }
-                for (sum, group) in self.variance_sums_dn2.iter_mut().zip(group_sums(&phases)) {
-                    *sum += group.temporal_variance_dn2().unwrap_or(0.0);
-                }
-                self.pairs += 1;
-            }
+        let spare = self.spares.pop().unwrap_or_default();
+        self.pending.push(std::mem::replace(file, spare));
+        let remaining = self.spec.frames - self.pushed;
+        match self.pending.len() {
+            // A pair waits for the next pair when two more frames are coming.
+            2 if remaining < 2 => self.sum_pending(),
+            4 => self.sum_pending(),
+            _ => {}
         }
         Ok(())
+    }
+
+    /// The per-pixel data of this stack: S, and D for a dark stack (else empty).
+    fn dsq_mut(&mut self) -> (&mut [u32], &mut [u32]) {
+        let dark = self.spec.kind == FrameKind::Dark;
+        let dsq: &mut [u32] = if dark { &mut self.pixel_dsq } else { &mut [] };
+        (&mut self.pixel_sums, dsq)
+    }
+
+    /// Sum the pending pair or pairs in one pass over the region's rows.
+    fn sum_pending(&mut self) {
+        let Some(size) = self.frame_size else { return };
+        let roi = self.region(size);
+        let pending = std::mem::take(&mut self.pending);
+        let mut rows = std::mem::take(&mut self.rows);
+        let first = self.pairs == 0;
+        let (w, x0) = (roi.width as usize, roi.x as usize);
+        let columns = (x0, x0 + w);
+        let odd_x = (roi.x % 2) as usize;
+        let mut phases = [[PairSums::default(); 4]; 2];
+        let (mut or, mut max) = (self.or, self.max);
+        let [ba, bb, bc, bd] = &mut rows;
+        let (sums, dsq) = self.dsq_mut();
+        let mut sums_rows = sums.chunks_exact_mut(w.max(1));
+        let mut dsq_rows = dsq.chunks_exact_mut(w.max(1));
+        for r in 0..roi.height as usize {
+            let y = roi.y as usize + r;
+            let Some(s) = sums_rows.next() else { break };
+            let d = dsq_rows.next().unwrap_or_default();
+            let (Some(fa), Some(fb)) = (pending.first(), pending.get(1)) else {
+                break;
+            };
+            let (ra, rb) = (fa.row(y, columns, ba), fb.row(y, columns, bb));
+            let cd = match (pending.get(2), pending.get(3)) {
+                (Some(fc), Some(fd)) => Some((fc.row(y, columns, bc), fd.row(y, columns, bd))),
+                _ => None,
+            };
+            let passes = pairs_pass(ra, rb, cd, s, d, first);
+            let py = (y % 2) * 2;
+            for (pass, slots) in passes.iter().zip(phases.iter_mut()) {
+                for (parity, p) in pass.parity.iter().enumerate() {
+                    if let Some(slot) = slots.get_mut(py + (parity + odd_x) % 2) {
+                        *slot = slot.merged(*p);
+                    }
+                }
+                or |= pass.or;
+                max = max.max(pass.max);
+            }
+        }
+        self.or = or;
+        self.max = max;
+        let pairs = pending.len() / 2;
+        for slots in phases.iter().take(pairs) {
+            for (sum, group) in self.variance_sums_dn2.iter_mut().zip(group_sums(slots)) {
+                *sum += group.temporal_variance_dn2().unwrap_or(0.0);
+            }
+            self.pairs += 1;
+        }
+        self.rows = rows;
+        self.spares.extend(pending);
     }
 
     /// Finish the stack: its statistics.
     ///
     /// # Errors
     /// [`StackError::MissingFrames`] when fewer frames were pushed than announced.
-    pub fn finish(mut self) -> Result<StackStats, StackError> {
+    pub fn finish(self) -> Result<StackStats, StackError> {
+        self.finish_with_buffers().0
+    }
+
+    /// As [`StackAccumulator::finish`], handing back the accumulator's memory for the next
+    /// stack ([`StackAccumulator::with_buffers`]).
+    pub fn finish_with_buffers(mut self) -> (Result<StackStats, StackError>, StackBuffers) {
+        let stats = self.statistics();
+        let mut spares = std::mem::take(&mut self.spares);
+        spares.append(&mut self.pending);
+        let buffers = StackBuffers {
+            sums: std::mem::take(&mut self.pixel_sums),
+            dsq: std::mem::take(&mut self.pixel_dsq),
+            spares,
+        };
+        (stats, buffers)
+    }
+
+    fn statistics(&mut self) -> Result<StackStats, StackError> {
         let (Some(size), true) = (self.frame_size, self.pushed == self.spec.frames) else {
             return Err(StackError::MissingFrames {
                 expected: self.spec.frames,
@@ -405,31 +520,40 @@ impl StackAccumulator {
         let roi = self.region(size);
         let w = roi.width as usize;
         let h = roi.height as usize;
-        if let Some(odd) = self.held.take() {
-            for (row, sums) in rows(&odd, roi).zip(self.pixel_sums.chunks_exact_mut(w.max(1))) {
+        // An odd frame out (L odd) adds to the sums only.
+        if let Some(odd) = self.pending.pop() {
+            let mut buf = Vec::new();
+            let columns = (roi.x as usize, roi.x as usize + w);
+            for (r, sums) in self.pixel_sums.chunks_exact_mut(w.max(1)).enumerate() {
+                let row = odd.row(roi.y as usize + r, columns, &mut buf);
                 for (s, v) in sums.iter_mut().zip(row) {
                     *s = s.wrapping_add(u32::from(*v));
                     self.or |= *v;
                     self.max = self.max.max(*v);
                 }
             }
+            self.spares.push(odd);
         }
         let frames = self.spec.frames;
         let l = f64::from(frames);
         let pairs = f64::from(self.pairs.max(1));
         // Exact integer moments of the per-pixel sums, per phase: n, ΣS, ΣS² (S < 2^32,
-        // ΣS² < 2^92 for n ≤ 2^28).
+        // ΣS² < 2^92 for n ≤ 2^28), from one pass that also gives the spatial summaries'
+        // profiles. Every S is at most L times the largest sample.
+        let dark = self.spec.kind == FrameKind::Dark;
+        let region = Region {
+            sums: &self.pixel_sums,
+            dsq: if dark { &self.pixel_dsq } else { &[] },
+            width: w,
+            height: h,
+        };
+        let region_moments = region_sums(region, u64::from(self.max) * u64::from(frames));
         let mut moments = [(0u64, 0u128, 0u128); 4];
-        for (r, sums) in self.pixel_sums.chunks_exact(w.max(1)).enumerate() {
-            let py = ((roi.y as usize + r) % 2) * 2;
-            let px = (roi.x % 2) as usize;
-            for (c, s) in sums.iter().enumerate() {
-                if let Some(m) = moments.get_mut(py + (px + c) % 2) {
-                    let s = u64::from(*s);
-                    m.0 += 1;
-                    m.1 += u128::from(s);
-                    m.2 += u128::from(s * s);
-                }
+        for (i, m) in region_moments.moments.iter().enumerate() {
+            // Region parity (row, column) → the frame's 2×2 phase.
+            let phase = ((roi.y as usize + i / 2) % 2) * 2 + (roi.x as usize + i % 2) % 2;
+            if let Some(slot) = moments.get_mut(phase) {
+                *slot = (m.n, m.s1, m.s2);
             }
         }
         let merge = |idx: &[usize]| {
@@ -474,36 +598,35 @@ impl StackAccumulator {
             spatial_variance_raw_dn2: 0.0,
             spatial_variance_dn2: 0.0,
         });
-        let view = |x0, y0, step, data| sub_image(data, w, h, x0, y0, step);
         let mut spatial = None;
         let mut phase_spatial = Vec::new();
         if self.cfa.is_bayer() {
-            for phase in 0..4usize {
-                // The phase's first pixel inside the region, in region coordinates.
-                let x0 = ((phase % 2) + roi.x as usize) % 2;
-                let y0 = ((phase / 2) + roi.y as usize) % 2;
-                let temporal = groups.get(phase).map_or(0.0, |g| g.temporal_variance_dn2);
-                if let Some(img) = view(x0, y0, 2, &self.pixel_sums) {
-                    phase_spatial.push(summarise(
-                        img,
-                        frames,
-                        temporal,
-                        view(x0, y0, 2, &self.pixel_dsq),
-                        self.pairs,
-                    ));
-                }
+            let phases: Vec<Group> = (0..4usize)
+                .map(|phase| Group {
+                    // The phase's first pixel inside the region, in region coordinates.
+                    x0: ((phase % 2) + roi.x as usize) % 2,
+                    y0: ((phase / 2) + roi.y as usize) % 2,
+                    step: 2,
+                    temporal_variance_dn2: groups
+                        .get(phase)
+                        .map_or(0.0, |g| g.temporal_variance_dn2),
+                })
+                .filter(|g| w > g.x0 && h > g.y0)
+                .collect();
+            if phases.len() == 4 {
+                phase_spatial =
+                    summarise_groups(region, &region_moments, &phases, frames, self.pairs);
             }
-            if phase_spatial.len() != 4 {
-                phase_spatial.clear();
-            }
-        } else if let Some(img) = view(0, 0, 1, &self.pixel_sums) {
-            spatial = Some(summarise(
-                img,
-                frames,
-                whole.temporal_variance_dn2,
-                view(0, 0, 1, &self.pixel_dsq),
-                self.pairs,
-            ));
+        } else {
+            let whole_region = Group {
+                x0: 0,
+                y0: 0,
+                step: 1,
+                temporal_variance_dn2: whole.temporal_variance_dn2,
+            };
+            spatial =
+                summarise_groups(region, &region_moments, &[whole_region], frames, self.pairs)
+                    .pop();
         }
         Ok(StackStats {
             mean_dn: whole.mean_dn,
@@ -523,7 +646,7 @@ impl StackAccumulator {
             groups,
             spatial,
             phase_spatial,
-            spec: self.spec,
+            spec: self.spec.clone(),
         })
     }
 
@@ -535,28 +658,6 @@ impl StackAccumulator {
             height,
         })
     }
-}
-
-/// A view of a region-sized buffer (`None` when empty).
-fn sub_image(
-    data: &[u32],
-    w: usize,
-    h: usize,
-    x0: usize,
-    y0: usize,
-    step: usize,
-) -> Option<SubImage<'_>> {
-    let columns = w.saturating_sub(x0).div_ceil(step);
-    let rows = h.saturating_sub(y0).div_ceil(step);
-    (columns > 0 && rows > 0 && !data.is_empty()).then_some(SubImage {
-        data,
-        stride: w,
-        x0,
-        y0,
-        step,
-        columns,
-        rows,
-    })
 }
 
 /// The pair sums of each group from those of the four phases: phases 0–3, the diagonals 0+3
@@ -583,18 +684,6 @@ fn check_roi(roi: Roi, (width, height): (u32, u32)) -> Result<(), StackError> {
     } else {
         Err(StackError::RoiOutside { roi, width, height })
     }
-}
-
-/// The rows of a region of a frame, as slices (the region was checked to lie inside).
-fn rows(frame: &Frame, roi: Roi) -> impl Iterator<Item = &[u16]> {
-    let w = frame.width() as usize;
-    let (x0, x1) = (roi.x as usize, roi.x as usize + roi.width as usize);
-    frame
-        .pixels()
-        .chunks_exact(w.max(1))
-        .skip(roi.y as usize)
-        .take(roi.height as usize)
-        .map(move |row| row.get(x0..x1).unwrap_or_default())
 }
 
 /// Spatial variance of the average of L frames from the moments of the per-pixel sums, before

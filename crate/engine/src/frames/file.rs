@@ -1,0 +1,344 @@
+//! A frame file's bytes with its header read and its samples checked, the samples widened to
+//! `u16` only when a row is used: the form in which a long series is analysed.
+//!
+//! PGM and raw samples stay in the file's bytes ([`Samples`]); PNG and TIFF, which must be
+//! inflated, are decoded into a [`Frame`] at once. The same checks as [`super::decode`], with
+//! the same messages; one file's buffer is reused for the next ([`FrameFile::bytes_mut`]).
+//! No I/O and no statistics here.
+
+use super::{format_of, raw_geometry, xy, Format, Frame, FrameError, RawGeometry};
+
+/// Where and how the samples of a headered file lie in its bytes.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub(crate) enum Samples {
+    /// 16-bit big-endian samples from this byte offset (16-bit PGM).
+    Be16(usize),
+    /// 16-bit little-endian samples from this offset (raw).
+    Le16(usize),
+    /// One byte a sample from this offset (8-bit PGM).
+    Byte(usize),
+}
+
+impl Samples {
+    fn start(self) -> usize {
+        match self {
+            Samples::Be16(s) | Samples::Le16(s) | Samples::Byte(s) => s,
+        }
+    }
+
+    fn bytes_per_sample(self) -> usize {
+        match self {
+            Samples::Byte(_) => 1,
+            Samples::Be16(_) | Samples::Le16(_) => 2,
+        }
+    }
+}
+
+/// What a format's header says, checked against the file: the sizes, the container and its
+/// stated depth, and where the `width × height` samples lie (all present, none above the
+/// header's maximum).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub(crate) struct Header {
+    pub width: u32,
+    pub height: u32,
+    pub sample_bits: u8,
+    pub significant_bits: Option<u8>,
+    pub samples: Samples,
+}
+
+impl Header {
+    /// The whole frame, widened.
+    pub(crate) fn widened(&self, bytes: &[u8]) -> Frame {
+        let mut pixels = Vec::new();
+        widen_into(self.samples, self.data(bytes), &mut pixels);
+        Frame {
+            width: self.width,
+            height: self.height,
+            sample_bits: self.sample_bits,
+            significant_bits: self.significant_bits,
+            msb_bits: None,
+            pixels,
+        }
+    }
+
+    fn data<'a>(&self, bytes: &'a [u8]) -> &'a [u8] {
+        bytes.get(self.samples.start()..).unwrap_or_default()
+    }
+}
+
+/// Replace `out` with the samples of `data` (laid out as `samples` says, from its start),
+/// reusing its allocation. A plain loop the compiler vectorises (a byte shuffle).
+pub(crate) fn widen_into(samples: Samples, data: &[u8], out: &mut Vec<u16>) {
+    let n = data.len() / samples.bytes_per_sample();
+    out.resize(n, 0);
+    match samples {
+        Samples::Byte(_) => {
+            for (o, b) in out.iter_mut().zip(data) {
+                *o = u16::from(*b);
+            }
+        }
+        Samples::Be16(_) => {
+            for (o, p) in out.iter_mut().zip(data.chunks_exact(2)) {
+                if let &[hi, lo] = p {
+                    *o = u16::from_be_bytes([hi, lo]);
+                }
+            }
+        }
+        Samples::Le16(_) => {
+            for (o, p) in out.iter_mut().zip(data.chunks_exact(2)) {
+                if let &[lo, hi] = p {
+                    *o = u16::from_le_bytes([lo, hi]);
+                }
+            }
+        }
+    }
+}
+
+/// The largest sample of `data`, one vectorised pass.
+fn largest(samples: Samples, data: &[u8]) -> u16 {
+    match samples {
+        Samples::Byte(_) => u16::from(data.iter().copied().max().unwrap_or(0)),
+        Samples::Be16(_) => data
+            .chunks_exact(2)
+            .map(|p| match p {
+                &[hi, lo] => u16::from_be_bytes([hi, lo]),
+                _ => 0,
+            })
+            .max()
+            .unwrap_or(0),
+        Samples::Le16(_) => data
+            .chunks_exact(2)
+            .map(|p| match p {
+                &[lo, hi] => u16::from_le_bytes([lo, hi]),
+                _ => 0,
+            })
+            .max()
+            .unwrap_or(0),
+    }
+}
+
+/// Refuse the first sample above `max` (a scan only when the largest is above it).
+pub(crate) fn check_samples(
+    samples: Samples,
+    data: &[u8],
+    width: u32,
+    max: u16,
+) -> Result<(), FrameError> {
+    if largest(samples, data) <= max {
+        return Ok(());
+    }
+    let mut row = Vec::new();
+    widen_into(samples, data, &mut row);
+    match row.iter().position(|v| *v > max) {
+        None => Ok(()),
+        Some(i) => {
+            let (x, y) = xy(i, width);
+            Err(FrameError::SampleOutOfRange {
+                x,
+                y,
+                value: u32::from(row.get(i).copied().unwrap_or(0)),
+                max: u32::from(max),
+            })
+        }
+    }
+}
+
+/// What a decoded file says of its frame.
+struct Info {
+    width: u32,
+    height: u32,
+    sample_bits: u8,
+    significant_bits: Option<u8>,
+    msb_bits: Option<u8>,
+}
+
+#[derive(Debug, Clone, Default)]
+enum State {
+    /// Not decoded (or the last decode failed).
+    #[default]
+    Empty,
+    /// Samples in the bytes.
+    Encoded(Header),
+    /// Decoded samples (PNG, TIFF, or a frame handed over).
+    Decoded(Frame),
+}
+
+/// A frame file: its bytes as read and, once [`FrameFile::decode`] succeeded, what they hold.
+/// The bytes of one file are replaced by the next's in the same buffer, so a series of files
+/// is read into the same memory.
+#[derive(Debug, Clone, Default)]
+pub struct FrameFile {
+    bytes: Vec<u8>,
+    state: State,
+}
+
+impl From<Frame> for FrameFile {
+    fn from(frame: Frame) -> Self {
+        FrameFile {
+            bytes: Vec::new(),
+            state: State::Decoded(frame),
+        }
+    }
+}
+
+impl FrameFile {
+    /// The file's bytes, to be replaced by the next file's (clear, then fill). Until the next
+    /// [`FrameFile::decode`] the file holds no frame.
+    pub fn bytes_mut(&mut self) -> &mut Vec<u8> {
+        self.state = State::Empty;
+        &mut self.bytes
+    }
+
+    /// Read the header and check the samples, as [`super::decode`] does (the same checks and
+    /// messages); PNG and TIFF are decoded here, PGM and raw samples are widened when used.
+    ///
+    /// # Errors
+    /// A [`FrameError`] naming what is wrong with the bytes; the file then holds no frame.
+    pub fn decode(&mut self, raw: Option<RawGeometry>) -> Result<(), FrameError> {
+        self.state = State::Empty;
+        let bytes = self.bytes.as_slice();
+        self.state = match format_of(bytes, raw)? {
+            Format::Pgm => State::Encoded(super::pgm::parse(bytes)?),
+            Format::Raw => State::Encoded(super::raw::parse(bytes, raw_geometry(raw)?)?),
+            format @ (Format::Png | Format::Tiff) => {
+                State::Decoded(super::decode_as(format, bytes, raw)?)
+            }
+        };
+        Ok(())
+    }
+
+    fn header(&self) -> Option<Info> {
+        match &self.state {
+            State::Empty => None,
+            State::Encoded(h) => Some(Info {
+                width: h.width,
+                height: h.height,
+                sample_bits: h.sample_bits,
+                significant_bits: h.significant_bits,
+                msb_bits: None,
+            }),
+            State::Decoded(f) => Some(Info {
+                width: f.width,
+                height: f.height,
+                sample_bits: f.sample_bits,
+                significant_bits: f.significant_bits,
+                msb_bits: f.msb_bits,
+            }),
+        }
+    }
+
+    /// Whether the file holds a decoded frame.
+    #[must_use]
+    pub fn is_decoded(&self) -> bool {
+        self.header().is_some()
+    }
+
+    /// Width in pixels (0 until decoded).
+    #[must_use]
+    pub fn width(&self) -> u32 {
+        self.header().map_or(0, |h| h.width)
+    }
+
+    /// Height in pixels (0 until decoded).
+    #[must_use]
+    pub fn height(&self) -> u32 {
+        self.header().map_or(0, |h| h.height)
+    }
+
+    /// Bits per sample of the container, 8 or 16 (0 until decoded).
+    #[must_use]
+    pub fn sample_bits(&self) -> u8 {
+        self.header().map_or(0, |h| h.sample_bits)
+    }
+
+    /// As [`Frame::significant_bits`].
+    #[must_use]
+    pub fn significant_bits(&self) -> Option<u8> {
+        self.header().and_then(|h| h.significant_bits)
+    }
+
+    /// As [`Frame::msb_bits`].
+    #[must_use]
+    pub fn msb_bits(&self) -> Option<u8> {
+        self.header().and_then(|h| h.msb_bits)
+    }
+
+    /// The whole frame, widened (`None` until decoded).
+    #[must_use]
+    pub fn to_frame(&self) -> Option<Frame> {
+        match &self.state {
+            State::Empty => None,
+            State::Encoded(h) => Some(h.widened(&self.bytes)),
+            State::Decoded(f) => Some(f.clone()),
+        }
+    }
+
+    /// Columns `x0..x1` of row `y`: the decoded samples, or the file's widened into `buf`.
+    /// Empty when out of the frame.
+    pub(crate) fn row<'a>(
+        &'a self,
+        y: usize,
+        (x0, x1): (usize, usize),
+        buf: &'a mut Vec<u16>,
+    ) -> &'a [u16] {
+        match &self.state {
+            State::Empty => &[],
+            State::Decoded(f) => {
+                let start = y * f.width as usize;
+                f.pixels.get(start + x0..start + x1).unwrap_or_default()
+            }
+            State::Encoded(h) => {
+                let per = h.samples.bytes_per_sample();
+                let start = h.samples.start() + y * h.width as usize * per;
+                let data = self
+                    .bytes
+                    .get(start + x0 * per..start + x1 * per)
+                    .unwrap_or_default();
+                widen_into(h.samples, data, buf);
+                buf
+            }
+        }
+    }
+}
+
+#[cfg(test)]
+#[allow(clippy::unwrap_used)] // OK because a failing test should stop loudly
+mod tests {
+    use super::*;
+
+    #[test]
+    fn rows_and_frames_equal_the_decoded_frame() {
+        // A 16-bit PGM, an 8-bit one and a raw file: every row, whole or cut, and the whole
+        // frame, as decode() gives them; a failed decode leaves no frame.
+        let mut pgm16 = b"P5 3 2 65535\n".to_vec();
+        pgm16.extend([1, 2, 3, 4, 5, 6, 7, 8, 9, 10, 11, 12]);
+        let pgm8 = b"P5 3 2 255\n\x01\x02\x03\x04\x05\x06".to_vec();
+        let raw = vec![1, 2, 3, 4, 5, 6, 7, 8, 9, 10, 11, 12];
+        let g = RawGeometry {
+            width: 3,
+            height: 2,
+            bits: 16,
+        };
+        for (bytes, geometry) in [(pgm16, None), (pgm8, None), (raw, Some(g))] {
+            let want = super::super::decode(&bytes, geometry).unwrap();
+            let mut f = FrameFile::default();
+            *f.bytes_mut() = bytes;
+            f.decode(geometry).unwrap();
+            assert_eq!(f.to_frame().as_ref(), Some(&want));
+            assert_eq!(
+                (f.width(), f.height(), f.sample_bits()),
+                (3, 2, want.sample_bits())
+            );
+            let mut buf = Vec::new();
+            for y in 0..2 {
+                for (x0, x1) in [(0, 3), (1, 3), (2, 2)] {
+                    let row = want.pixels().get(y * 3 + x0..y * 3 + x1).unwrap();
+                    assert_eq!(f.row(y, (x0, x1), &mut buf), row);
+                }
+            }
+            f.bytes_mut().truncate(5);
+            assert!(f.decode(geometry).is_err());
+            assert!(!f.is_decoded() && f.to_frame().is_none());
+        }
+    }
+}
