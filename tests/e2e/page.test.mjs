@@ -368,6 +368,34 @@ describe('the served page: keeping, sharing, keyboard, print, narrow column', ()
     assertOwnRequests(TARGETS[0], requests, errors);
   });
 
+  // Issue 15, item 3: the three answers in the first view, charts readable, SI prefixes.
+  test('at 1366 × 768 the first view answers; chart text is 12 px or more; no E-notation', async (t) => {
+    const { page, requests, errors } = await pageFor(t, env.browser, `${env.server.origin}/`, { viewport: { width: 1366, height: 768 } });
+    for (const name of DEMO_NAMES) {
+      await loadDemo(page, name);
+      await page.evaluate(() => window.scrollTo(0, 0));
+      for (const path of ['snr.temporal', 'min_detectable.signal_e', 'exposure_for_threshold_s']) {
+        const box = await page.evaluate((p) => {
+          const r = document.querySelector(`[data-report="${p}"]`)?.getBoundingClientRect();
+          return r ? { top: r.top, bottom: r.bottom, height: r.height } : null;
+        }, path);
+        assert.ok(box && box.height > 0 && box.top >= 0 && box.bottom <= 768, `${name}: ${path} is not in the first view (${JSON.stringify(box)})`);
+      }
+      await page.waitForFunction(() => document.querySelectorAll('.charts svg text').length > 0);
+      // The rendered size of chart text: its font size in the SVG's units times the SVG's scale.
+      const smallest = await page.evaluate(() => Math.min(...[...document.querySelectorAll('.charts svg')].flatMap((svg) => {
+        const scale = svg.getBoundingClientRect().width / svg.viewBox.baseVal.width;
+        return [...svg.querySelectorAll('text')].map((el) => parseFloat(getComputedStyle(el).fontSize) * scale);
+      })));
+      assert.ok(smallest >= 12, `${name}: chart text rendered at ${smallest.toFixed(1)} px`);
+      const text = await page.evaluate(() => ['results', 'curves'].map((id) => document.getElementById(id)?.innerText ?? '').join('\n'));
+      const eNotation = text.match(/\d[eE][+-]?\d/);
+      assert.equal(eNotation, null, `${name}: E-notation shown: …${eNotation ? text.slice(Math.max(0, eNotation.index - 30), eNotation.index + 30) : ''}…`);
+    }
+    await page.screenshot({ path: join(ARTIFACTS, 'first-view-1366x768.png') });
+    assertOwnRequests(TARGETS[0], requests, errors);
+  });
+
   test('readable in a narrow wiki column (400 px): no sideways scrolling', async (t) => {
     const { page, requests, errors } = await pageFor(t, env.browser, `${env.server.origin}/`, { viewport: { width: 400, height: 900 } });
     for (const name of ['three-transistor-no-cds', 'cooled-scientific']) {

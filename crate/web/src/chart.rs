@@ -95,7 +95,7 @@ pub const HEIGHT: f64 = 400.0;
 /// Left edge of the plot area (room for the y tick labels and the axis name).
 pub const LEFT: f64 = 78.0;
 /// Right edge of the plot area.
-pub const RIGHT: f64 = 624.0;
+pub const RIGHT: f64 = 604.0;
 /// Top edge of the plot area (room for the title).
 pub const TOP: f64 = 34.0;
 /// Bottom edge of the plot area (room for x tick labels, the axis name and the legend).
@@ -143,7 +143,7 @@ impl Chart {
                 width: t(WIDTH),
                 height: t(HEIGHT),
                 attributes:
-                    " class=\"chart-svg\" font-family=\"system-ui, sans-serif\" font-size=\"120\"",
+                    " class=\"chart-svg\" font-family=\"system-ui, sans-serif\" font-size=\"140\"",
                 title: &self.title,
                 desc: &self.desc,
             },
@@ -161,7 +161,7 @@ impl Chart {
         );
         let _ = write!(
             o,
-            "<text x=\"{}\" y=\"{}\" font-size=\"140\" font-weight=\"bold\" fill=\"{INK}\">{}</text>",
+            "<text x=\"{}\" y=\"{}\" font-size=\"160\" font-weight=\"bold\" fill=\"{INK}\">{}</text>",
             t(LEFT),
             t(TOP - 14.0),
             escape(&self.title)
@@ -215,7 +215,7 @@ impl Chart {
             if b - a > 40.0 {
                 let _ = write!(
                     o,
-                    "<text x=\"{}\" y=\"{}\" text-anchor=\"middle\" font-size=\"100\" fill=\"#4a5568\">{}</text>",
+                    "<text x=\"{}\" y=\"{}\" text-anchor=\"middle\" font-size=\"140\" fill=\"#4a5568\">{}</text>",
                     t((a + b) / 2.0),
                     t(TOP + 12.0),
                     escape(r.label)
@@ -411,10 +411,10 @@ impl Chart {
         for (label, color, dash, block) in entries {
             // Rough width of the label at this font size (0.6 em a character).
             #[allow(clippy::cast_precision_loss)]
-            let w = 30.0 + label.chars().count() as f64 * 6.6 + 14.0;
+            let w = 30.0 + label.chars().count() as f64 * 7.8 + 14.0;
             if x + w > RIGHT && x > LEFT {
                 x = LEFT;
-                y += 16.0;
+                y += 18.0;
             }
             if block {
                 let _ = write!(
@@ -447,10 +447,10 @@ impl Chart {
         }
         if !self.note.is_empty() {
             #[allow(clippy::cast_precision_loss)]
-            let w = self.note.chars().count() as f64 * 6.6;
+            let w = self.note.chars().count() as f64 * 7.8;
             if x + w > RIGHT && x > LEFT {
                 x = LEFT;
-                y += 16.0;
+                y += 18.0;
             }
             let _ = write!(
                 o,
@@ -530,7 +530,7 @@ mod tests {
         let d = m.split("stroke=\"#123456\"").next().unwrap();
         let d = &d[d.rfind("d=\"").unwrap()..];
         let vertices = d.matches(['M', 'L']).count();
-        // 546 units wide and 1.5 units at least between vertices: 1001 points give 360 or so.
+        // 526 units wide and 1.5 units at least between vertices: 1001 points give 360 or so.
         assert!((300..=365).contains(&vertices), "{vertices}");
         assert!(
             d.contains(&format!("L{} ", t(RIGHT))),

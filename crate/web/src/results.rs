@@ -86,9 +86,14 @@ fn write_figure(el: &Element, v: Option<&Value>) {
             } else {
                 Style::Number
             };
+            let (shown, unit) = if style == Style::Number {
+                display::prefixed(x, &unit)
+            } else {
+                (x, unit)
+            };
             (
                 display::full(x),
-                format!("{}{unit}", display::rounded(x, style)),
+                format!("{}{unit}", display::rounded(shown, style)),
             )
         }
         Some(Value::Bool(b)) => {
