@@ -40,10 +40,18 @@ async function loadTimes(url, firstResult) {
     await page.goto(url);
     if (firstResult) await page.waitForSelector('html[data-ready]');
     else await page.waitForLoadState('load');
-    out.push(await page.evaluate((fr) => {
-      if (fr) return performance.getEntriesByName('noise-budget:first-result')[0]?.startTime ?? NaN;
-      return performance.getEntriesByType('navigation')[0].loadEventEnd;
-    }, firstResult));
+    const t = await page.evaluate((fr) => {
+      const at = (name) => performance.getEntriesByName(name)[0]?.startTime ?? NaN;
+      if (!fr) return { total: performance.getEntriesByType('navigation')[0].loadEventEnd };
+      // Where the time goes: the script starts (HTML and script parsed), the wasm inflated,
+      // the wasm instantiated (mount starts), the first result written.
+      return {
+        total: at('noise-budget:first-result'),
+        parts: [at('noise-budget:script-start'), at('noise-budget:wasm-inflated'), at('noise-budget:mount-start'), at('noise-budget:first-result')],
+      };
+    }, firstResult);
+    out.push(t.total);
+    if (t.parts) (loadTimes.parts ??= {})[url] = [...(loadTimes.parts[url] ?? []), t.parts];
     await ctx.close();
   }
   return out;
@@ -158,7 +166,13 @@ writeFileSync(join(out, 'measurements.json'), `${JSON.stringify(result, null, 2)
 console.log(`single file   ${kb(sizes.single_file.raw)} raw, ${kb(sizes.single_file.gzip)} gzip (budget 300 KB gzip)`);
 console.log(`wasm          ${kb(sizes.wasm.raw)} raw, ${kb(sizes.wasm.gzip)} gzip`);
 console.log(`first result  served ${ms(median(served))}, single file ${ms(median(single))} (median of ${served.length}); ` +
-  `empty static page load ${ms(median(empty))} (median of ${empty.length})`);
+  `empty static page load ${ms(median(empty))} (median of ${empty.length}); ` +
+  `= ${(median(served) / median(empty)).toFixed(2)} × and ${(median(single) / median(empty)).toFixed(2)} × the empty page`);
+for (const [url, runs] of Object.entries(loadTimes.parts ?? {})) {
+  const step = (i) => ms(median(runs.map((r) => (i === 0 ? r[0] : r[i] - r[i - 1]))));
+  console.log(`  ${url.startsWith('file:') ? 'single file' : 'served    '}  to script start ${step(0)}, inflate ${step(1)}, ` +
+    `wasm start ${step(2)}, mount to first result ${step(3)} (medians)`);
+}
 console.log(`edit→results  median ${ms(median(edits.script))} script, ${ms(median(edits.layout))} with layout ` +
   `(p95 ${ms(pct(edits.layout, 0.95))}) over ${EDITS} edits, ${edits.changed} followed; one frame is ${ms(1000 / 60)}; ` +
   `curves (200 points) drawn ${ms(median(edits.curves))} after the edit`);

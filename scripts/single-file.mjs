@@ -58,7 +58,8 @@ async function noiseBudgetInflate(b64) {
   const stream = new Blob([noiseBudgetBytes(b64)]).stream().pipeThrough(new DecompressionStream('gzip'));
   return new Response(stream).arrayBuffer();
 }
-noiseBudgetInflate(NOISE_BUDGET_WASM_GZ).then((wasmBytes) => __wbg_init({ module_or_path: wasmBytes })).then(
+performance.mark('noise-budget:script-start');
+noiseBudgetInflate(NOISE_BUDGET_WASM_GZ).then((wasmBytes) => { performance.mark('noise-budget:wasm-inflated'); return __wbg_init({ module_or_path: wasmBytes }); }).then(
   () => { window.wasmBindings = { evaluate, version }; },
   (err) => {
     const el = document.getElementById('boot-status');

@@ -41,6 +41,9 @@ pub fn mount() {
     let Some(form_el) = dom::by_id(ids::SCENARIO_FORM) else {
         return;
     };
+    if let Some(p) = dom::window().and_then(|w| w.performance()) {
+        let _ = p.mark("noise-budget:mount-start");
+    }
     results::reset();
     dom::set_text_of(ids::TOOL_VERSION, env!("CARGO_PKG_VERSION"));
     stamp_date();
