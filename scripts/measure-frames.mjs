@@ -39,9 +39,10 @@ try {
   await page.goto(`${server.origin}/`);
   await page.waitForSelector('html[data-ready]', { timeout: 15000 });
   wasmMs = await page.evaluate((bench) => new Promise((resolvePromise, reject) => {
-    const text = document.getElementById('frames-worker-script')?.textContent;
-    if (!text) { reject(new Error('no frame worker in the page')); return; }
-    const url = URL.createObjectURL(new Blob([text], { type: 'text/javascript' }));
+    const block = document.getElementById('frames-worker-script');
+    const text = block?.textContent;
+    if (!block?.dataset.src && !text) { reject(new Error('no frame worker in the page')); return; }
+    const url = block.dataset.src || URL.createObjectURL(new Blob([text], { type: 'text/javascript' }));
     const worker = new Worker(url);
     worker.onmessage = (e) => {
       worker.terminate();

@@ -164,6 +164,11 @@ after(async () => {
 // (scripts/build-page): by default it is left out to keep that file within its size budget.
 const SINGLE_FILE_HAS_WORKER = readFileSync(join(DIST, 'noise-budget.html'), 'utf8').includes('id="frames-worker-script"');
 
+// Where the worker's script comes from: the served page's own file beside it (named by its
+// hash, scripts/embed-worker.mjs) or, in the single file, a Blob URL made from its data block.
+const OWN_WORKER_FILE = /^https?:\/\/(127\.0\.0\.1|localhost)(:\d+)?\/frames-worker-[0-9a-f]{16}\.js$/;
+const WORKER_URL = /^blob:|\/frames-worker-[0-9a-f]{16}\.js$/;
+
 const TARGETS = [
   { slug: 'served', name: 'the served page', url: () => `${server.origin}/` },
   ...(SINGLE_FILE_HAS_WORKER ? [{ slug: 'file', name: 'the single file from file://', url: () => singleFileUrl() }] : []),
@@ -223,11 +228,12 @@ for (const target of TARGETS) {
         assert.equal(workers.length, 0, 'no worker before an analysis starts');
         requests.length = 0;
         await analyse(page);
-        // A worker's script from a Blob URL is no request to any server; anything else is.
-        assert.deepEqual(requests.filter((u) => !u.startsWith('blob:')), [],
-          'no request at all while frames are read and analysed');
+        // The worker's script is the one request allowed: the served page's own worker file
+        // beside it (or a Blob URL, which is no request to any server); the frames are never sent.
+        assert.deepEqual(requests.filter((u) => !u.startsWith('blob:') && !OWN_WORKER_FILE.test(u)), [],
+          'no request but the worker script while frames are read and analysed');
         assert.equal(workers.length, 1, 'the analysis ran in one Web Worker');
-        assert.match(workers[0], /^blob:/, 'started from the script embedded in the page');
+        assert.match(workers[0], WORKER_URL, 'started from the page\'s own worker script');
         assert.equal(page.workers().length, 0, 'the worker is ended after its answer');
         assert.equal(await page.textContent('#measure-problems'), '');
         const shown = shownMeasure(page);
@@ -308,7 +314,7 @@ describe('measure a camera: actions and failures', () => {
       });
       assert.deepEqual(during, { busy: 'true', unfinished: true, max: 12, cancelShown: true },
         'the calculator recomputed while the worker was still reading the frames');
-      assert.match(await started, /^blob:/, 'the analysis ran in a Web Worker');
+      assert.match(await started, WORKER_URL, 'the analysis ran in a Web Worker');
       await closed;
       assert.equal(page.workers().length, 0, 'Cancel ends the worker');
       assert.match(await page.textContent('#measure-status'), /cancelled/);

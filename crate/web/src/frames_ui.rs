@@ -78,7 +78,9 @@ impl Running {
         self.worker.set_onmessage(None);
         self.worker.set_onerror(None);
         self.worker.terminate();
-        let _ = Url::revoke_object_url(&self.url);
+        if !self.url.is_empty() {
+            let _ = Url::revoke_object_url(&self.url);
+        }
     }
 }
 
@@ -467,10 +469,25 @@ fn set_running(running: bool, total: u32) {
     }
 }
 
-/// Start the frame worker from the script embedded in the page.
+/// Start the frame worker: from its own file next to the served page (the data block's
+/// `data-src`, so the page's HTML stays small and starts sooner), or from the script embedded
+/// in the self-contained file through a Blob URL. The second value is the Blob URL to revoke
+/// (empty for a file).
 fn new_worker() -> Result<(Worker, String), String> {
-    let script = dom::document()
-        .and_then(|d| d.get_element_by_id(WORKER_SCRIPT_ID))
+    let block = dom::document().and_then(|d| d.get_element_by_id(WORKER_SCRIPT_ID));
+    if let Some(src) = block
+        .as_ref()
+        .and_then(|e| e.get_attribute("data-src"))
+        .filter(|s| !s.is_empty())
+    {
+        return Worker::new(&src).map(|w| (w, String::new())).map_err(|e| {
+            format!(
+                "the browser refused to start the frame analysis in a worker: {}",
+                js_text(&e)
+            )
+        });
+    }
+    let script = block
         .and_then(|e| e.text_content())
         .filter(|t| !t.is_empty())
         .ok_or(NO_WORKER)?;
