@@ -110,15 +110,19 @@ export function cliReport(scenario) {
   return JSON.parse(execFileSync(cli(), ['eval', file], { encoding: 'utf8' }));
 }
 
-/** Every shown figure: { path: data-value }. */
+/** Every shown figure: { path: data-value }. A table's rows (`data-rows`, named by their
+ * list's path for the warnings about it) are not a figure: their cells are. */
 export function shownValues(page) {
-  return page.$$eval('[data-report]', (els) => Object.fromEntries(els.map((e) => [e.dataset.report, e.dataset.value])));
+  return page.$$eval('[data-report]:not([data-rows])', (els) => Object.fromEntries(els.map((e) => [e.dataset.report, e.dataset.value])));
 }
 
 function at(obj, path) {
   let v = obj;
   for (const k of path.split('.')) {
-    if (v === null || v === undefined) return undefined;
+    // A figure inside an object the report does not have (`hdr` of a single-exposure
+    // scenario) is absent, as the page shows it: null.
+    if (v === null) return null;
+    if (v === undefined) return undefined;
     v = v[k];
   }
   return v;

@@ -108,7 +108,8 @@ pub fn amount(light: &Light) -> f64 {
 ///
 /// Light and exposure views are log-spaced. Their top is where the photo-signal (which is
 /// proportional to both the light's amount and the exposure time, SCENARIO.md's model) reaches
-/// [`PAST_SATURATION`] times the saturation signal, and their bottom [`SIGNAL_DECADES`] lower.
+/// [`PAST_SATURATION`] times the saturation signal (of the combined output's top for an HDR
+/// sensor), and their bottom [`SIGNAL_DECADES`] below the single readout's top.
 /// Without signal or saturation to aim at, the view spans [`FALLBACK_DECADES`] either side of
 /// the scenario's value. Photons per pixel do not depend on exposure time, so for that light
 /// kind the exposure view spans the fallback range (only the dark charge changes along it).
@@ -127,14 +128,21 @@ pub fn request(sc: &Scenario, view: View, points: u32) -> SweepRequest {
             };
         }
     };
-    let signal = crate::evaluate(sc).signal_e;
+    let report = crate::evaluate(sc);
+    let signal = report.signal_e;
     let saturation = regimes(sc).saturation_signal_e;
+    // An HDR output holds light past the first readout's saturation: the view goes on to twice
+    // the combined output's top, so its transitions and their dips are on the curves.
+    let hdr_top = report.hdr.as_ref().and_then(|h| h.top_level_e);
     let scales = !(view == View::Exposure && matches!(sc.light, Light::PhotonsPerPixel { .. }));
     let fallback = 10f64.powf(FALLBACK_DECADES);
     let (from, to) = match saturation {
         Some(sat) if scales && signal > 0.0 && value > 0.0 => {
             let top = value * PAST_SATURATION * sat / signal;
-            (top / 10f64.powf(SIGNAL_DECADES), top)
+            let hdr = hdr_top
+                .filter(|t| t.is_finite() && *t > sat)
+                .map_or(top, |t| value * PAST_SATURATION * t / signal);
+            (top / 10f64.powf(SIGNAL_DECADES), hdr)
         }
         _ if value > 0.0 => (value / fallback, value * fallback),
         // No light at all: a span of amounts that would give some (the view says it is zero now).
@@ -248,6 +256,33 @@ mod tests {
             assert!((last.value / first.value / 10f64.powf(SIGNAL_DECADES) - 1.0).abs() < 1e-9);
             assert!(last.report.saturation.saturated && !first.report.saturation.saturated);
         }
+    }
+
+    #[test]
+    fn an_hdr_view_reaches_past_the_combined_top_and_crosses_every_transition() {
+        // Two exposures 16 : 1 (SCENARIO.md, hdr): the combined output holds about 16 times
+        // the single readout's top, so the view spans 6 + log10(16) decades. Common practice,
+        // no source: the range is this calculator's choice.
+        let mut b = base();
+        b["hdr"] = json!({"kind": "exposures", "exposures": [{"ratio": 16}]});
+        let sc = scenario_from_value(&b).unwrap();
+        let top = crate::evaluate(&sc).hdr.unwrap().top_level_e.unwrap();
+        let sat = regimes(&sc).saturation_signal_e.unwrap();
+        let s = view_sweep(&b, View::Light, 200).unwrap();
+        let last = s.points.last().unwrap();
+        let first = s.points.first().unwrap();
+        assert!((last.report.signal_e / (PAST_SATURATION * top) - 1.0).abs() < ROUNDING);
+        let decades = (last.value / first.value).log10();
+        assert!(
+            (decades - SIGNAL_DECADES - (top / sat).log10()).abs() < 1e-9,
+            "{decades}"
+        );
+        let used: Vec<usize> = s
+            .points
+            .iter()
+            .map(|p| p.report.hdr.as_ref().unwrap().readout_in_use)
+            .collect();
+        assert_eq!((used[0], used[used.len() - 1]), (0, 1), "{used:?}");
     }
 
     #[test]

@@ -106,13 +106,17 @@ pub fn insert_at(root: &mut Map<String, Value>, path: &str, value: Value) {
     }
 }
 
-/// The value at the dot `path` inside `root` (`name[i]` parts index lists), if there is one
+/// The value at the dot `path` inside `root` (`name[i]` parts, or a bare index after a list,
+/// index lists), if there is one
 /// (and it is not `null`).
 #[must_use]
 pub fn value_at<'v>(root: &'v Value, path: &str) -> Option<&'v Value> {
     path.split('.')
         .try_fold(root, |v, part| match split_index(part) {
             Some((name, i)) => v.get(name)?.get(i),
+            // An item of a report's list by its index, as the page's tables name them
+            // (`hdr.transitions.0.dip_db`).
+            None if v.is_array() => v.get(part.parse::<usize>().ok()?),
             None => v.get(part),
         })
         .filter(|v| !v.is_null())
@@ -445,6 +449,11 @@ mod tests {
         );
         assert_eq!(value_at(&v, "hdr.exposures[1].ratio"), Some(&json!(16)));
         assert_eq!(value_at(&v, "hdr.exposures[2].ratio"), None);
+        // A report's list items by a bare index, as the page's tables name them.
+        assert_eq!(value_at(&v, "hdr.exposures.1.ratio"), Some(&json!(16)));
+        assert_eq!(value_at(&v, "hdr.exposures.2.ratio"), None);
+        assert_eq!(value_at(&v, "hdr.exposures.x"), None);
+        assert_eq!(value_at(&v, "hdr.1"), None);
         assert_eq!(numbers_value(" 1.9, 1 2.6"), Some(json!([1.9, 1, 2.6])));
         assert_eq!(numbers_value("1, x"), Some(json!([1, "x"])));
         assert_eq!(numbers_value("  "), None);

@@ -40,7 +40,16 @@ pub fn show(report: &engine::Report) {
     for list in dom::all_in_document("[data-units-of]") {
         show_light_units(&list, &value);
     }
-    for el in dom::all_in_document("[data-report]") {
+    for group in dom::all_in_document("[data-shown-if]") {
+        let path = group.get_attribute("data-shown-if").unwrap_or_default();
+        dom::set_hidden(&group, value_at(&value, &path).is_none());
+    }
+    for host in dom::all_in_document("[data-rows]") {
+        show_rows(&host, &value);
+    }
+    // A table of rows is named by its list's path (for the warnings about it); its cells carry
+    // the figures.
+    for el in dom::all_in_document("[data-report]:not([data-rows])") {
         let path = el.get_attribute("data-report").unwrap_or_default();
         write_figure(&el, value_at(&value, &path));
     }
@@ -86,15 +95,16 @@ fn write_figure(el: &Element, v: Option<&Value>) {
             } else {
                 Style::Number
             };
-            let (shown, unit) = if style == Style::Number {
-                display::prefixed(x, &unit)
+            let text = if fmt == "index1" {
+                // A readout's index (from 0 in the report) as people count them, from 1.
+                display::rounded(x + 1.0, Style::Number)
+            } else if style == Style::Number {
+                let (shown, unit) = display::prefixed(x, &unit);
+                format!("{}{unit}", display::rounded(shown, style))
             } else {
-                (x, unit)
+                format!("{}{unit}", display::rounded(x, style))
             };
-            (
-                display::full(x),
-                format!("{}{unit}", display::rounded(shown, style)),
-            )
+            (display::full(x), text)
         }
         Some(Value::Bool(b)) => {
             let word = if *b { "yes" } else { "no" };
@@ -102,8 +112,10 @@ fn write_figure(el: &Element, v: Option<&Value>) {
         }
         Some(Value::String(s)) if fmt == "text" => (s.clone(), s.clone()),
         Some(Value::String(s)) => (s.clone(), words(s)),
-        // A range such as the response band: "380–780 nm".
+        // A list such as the white-balance gains: "0.73, 1, 2.96"; a range such as the
+        // response band: "380–780 nm".
         Some(Value::Array(items)) => {
+            let joint = if fmt == "list" { ", " } else { "–" };
             let shown: Vec<String> = items
                 .iter()
                 .map(|i| {
@@ -111,7 +123,7 @@ fn write_figure(el: &Element, v: Option<&Value>) {
                         .map_or_else(|| i.to_string(), |x| display::rounded(x, Style::Number))
                 })
                 .collect();
-            (list_value(items), format!("{}{unit}", shown.join("–")))
+            (list_value(items), format!("{}{unit}", shown.join(joint)))
         }
         _ => (NULL_VALUE.to_string(), NO_FIGURE.to_string()),
     };
@@ -181,6 +193,40 @@ fn show_light_units(list: &Element, report: &Value) {
             let _ = list.append_child(&row);
         }
     }
+}
+
+/// Make a table's rows match the report's list at the host's `data-rows` path: one row per
+/// item from the host's `<template>`, whose `{i}` (the item's index in the report's paths) and
+/// `{n}` (its number, from 1) are filled in. The figures are written by the figures' pass;
+/// rows are only rebuilt when the number of items changes.
+fn show_rows(host: &Element, report: &Value) {
+    let path = host.get_attribute("data-rows").unwrap_or_default();
+    let wanted = value_at(report, &path)
+        .and_then(Value::as_array)
+        .map_or(0, Vec::len);
+    let rows = dom::all(host, ":scope > tr");
+    if rows.len() == wanted {
+        return;
+    }
+    for row in rows {
+        row.remove();
+    }
+    let Some(pattern) = host
+        .query_selector(":scope > template")
+        .ok()
+        .flatten()
+        .map(|t| t.inner_html())
+    else {
+        return;
+    };
+    let html: String = (0..wanted)
+        .map(|i| {
+            pattern
+                .replace("{i}", &i.to_string())
+                .replace("{n}", &(i + 1).to_string())
+        })
+        .collect();
+    let _ = host.insert_adjacent_html("beforeend", &html);
 }
 
 /// A report word (`full_well`, `adc`) as plain words.

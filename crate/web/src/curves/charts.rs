@@ -101,6 +101,8 @@ const X_DECADES: f64 = 12.0;
 /// Colour of the scenario on screen, then of pins A to D.
 pub const NOW_COLOR: &str = "#1d5fa8";
 const PIN_COLORS: [&str; 4] = ["#c2410c", "#15803d", "#7e22ce", "#a16207"];
+/// Colour of an HDR sensor's combined output (and of the circles at its switches).
+const HDR_COLOR: &str = "#0f766e";
 /// Dash of a temporal-SNR line (the total-SNR line is solid).
 const TEMPORAL_DASH: &str = "60 40";
 /// Shades of the noise regimes on the SNR-against-signal chart.
@@ -243,6 +245,42 @@ fn snr_lines(
     ]
 }
 
+/// The combined output of an HDR sensor along a sweep (its total SNR), and a circle either
+/// side of each switch of readout: the SNR just below and just above the dip. The switches are
+/// where the engine's readout in use changes between two points of the sweep.
+fn hdr_line(sweep: &Sweep, x_of: &dyn Fn(&SweepPoint) -> f64) -> (Line, Vec<Marker>) {
+    let combined: Vec<(f64, f64, usize)> = sweep
+        .points
+        .iter()
+        .filter_map(|p| {
+            let h = p.report.hdr.as_ref()?;
+            Some((x_of(p), h.snr.total, h.readout_in_use))
+        })
+        .collect();
+    let mut dips = Vec::new();
+    for pair in combined.windows(2) {
+        if let [a, b] = pair {
+            if a.2 != b.2 {
+                for (x, y, _) in [a, b] {
+                    dips.push(Marker {
+                        x: *x,
+                        y: *y,
+                        color: HDR_COLOR,
+                    });
+                }
+            }
+        }
+    }
+    let line = Line {
+        label: "HDR output, combined".into(),
+        points: combined.iter().map(|(x, y, _)| (*x, *y)).collect(),
+        color: HDR_COLOR,
+        dash: "",
+        legend: true,
+    };
+    (line, dips)
+}
+
 /// The chart `kind` of the scenario on screen with the pins overlaid; `None` when its view
 /// could not be swept.
 #[must_use]
@@ -315,6 +353,16 @@ pub fn build(
                 color: NOW_COLOR,
             });
         }
+        if let Some(h) = &now.report.hdr {
+            let (line, dips) = hdr_line(&sweep, &x_of);
+            lines.push(line);
+            markers.extend(dips);
+            markers.push(Marker {
+                x: here_x,
+                y: h.snr.total,
+                color: HDR_COLOR,
+            });
+        }
     }
     for (i, pin) in pins.iter().enumerate() {
         let color = PIN_COLORS.get(i).copied().unwrap_or(NOW_COLOR);
@@ -362,6 +410,11 @@ pub fn build(
             pins.iter().map(|p| p.name).collect::<Vec<_>>().join("; ")
         )
     };
+    let hdr_words = if now.report.hdr.is_some() && !pins.iter().any(|p| p.on_screen) {
+        " The HDR output's combined total SNR in teal, with circles just below and just above each switch of readout, where the SNR dips."
+    } else {
+        ""
+    };
     let region_words = if by_signal {
         " Shaded: where read noise, photon shot noise or fixed-pattern noise dominates, and where the pixel saturates."
     } else {
@@ -371,7 +424,7 @@ pub fn build(
         id: format!("svg-{}", kind.name()),
         title: format!("SNR against {}", kind.title_word()),
         desc: format!(
-            "Signal-to-noise ratio, total (solid) and temporal (dashed), against {x_label} on a {} axis, SNR on a log axis. Circles mark the scenarios' operating points.{region_words}{pins_words}",
+            "Signal-to-noise ratio, total (solid) and temporal (dashed), against {x_label} on a {} axis, SNR on a log axis. Circles mark the scenarios' operating points.{hdr_words}{region_words}{pins_words}",
             if x_scale == Scale::Log { "log" } else { "linear" }
         ),
         x,
@@ -380,7 +433,11 @@ pub fn build(
         stack: None,
         lines,
         markers,
-        note: "solid: total SNR · dashed: temporal SNR".into(),
+        note: if now.report.hdr.is_some() && !pins.iter().any(|p| p.on_screen) {
+            "solid: total SNR · dashed: temporal · teal: HDR output, ○ at its switches".into()
+        } else {
+            "solid: total SNR · dashed: temporal SNR".into()
+        },
     };
     let markup = chart.svg();
     Some(Drawn {
@@ -611,6 +668,56 @@ mod tests {
         assert_eq!(d.chart.title, "Noise budget against exposure time");
         assert!(d.chart.stack.is_some());
         assert!(d.markup.contains("<title id=\"svg-budget-t\">"));
+    }
+
+    #[test]
+    fn an_hdr_scenario_adds_its_combined_output_with_circles_either_side_of_each_switch() {
+        // Three exposures 16 : 1 apart: two switches along the light view, each a pair of
+        // circles on the combined line where the engine's readout in use changes.
+        let mut v = scenario(2.5);
+        v["hdr"] = json!({"kind": "exposures", "exposures": [{"ratio": 16}, {"ratio": 256}]});
+        let d = draw(ChartKind::Light, &v, &[]);
+        let hdr = d
+            .chart
+            .lines
+            .iter()
+            .find(|l| l.label == "HDR output, combined")
+            .unwrap();
+        assert_eq!(hdr.points.len(), 40);
+        let used: Vec<usize> = d
+            .sweep
+            .points
+            .iter()
+            .map(|p| p.report.hdr.as_ref().unwrap().readout_in_use)
+            .collect();
+        assert_eq!(
+            (used[0], used[39]),
+            (0, 2),
+            "the view crosses both switches: {used:?}"
+        );
+        let circles: Vec<(f64, f64)> = d
+            .chart
+            .markers
+            .iter()
+            .filter(|m| m.color == super::HDR_COLOR)
+            .map(|m| (m.x, m.y))
+            .collect();
+        // Two per switch, and the operating point on the combined line.
+        assert_eq!(circles.len(), 2 * 2 + 1, "{circles:?}");
+        for pair in circles[..4].chunks(2) {
+            let (below, above) = (pair[0], pair[1]);
+            assert!(below.0 < above.0);
+            assert!(below.1 > above.1, "the SNR dips at the switch: {pair:?}");
+            assert!(hdr.points.contains(&below) && hdr.points.contains(&above));
+        }
+        assert!(d.chart.desc.contains("HDR output"));
+        // A plain scenario has no such line.
+        let d = draw(ChartKind::Light, &scenario(2.5), &[]);
+        assert!(d
+            .chart
+            .lines
+            .iter()
+            .all(|l| l.label != "HDR output, combined"));
     }
 
     #[test]
