@@ -73,7 +73,7 @@ async function open(url) {
 }
 
 const shownValues = () => driver.executeScript(() => Object.fromEntries(
-  [...document.querySelectorAll('[data-report]:not([data-rows])')].map((e) => [e.dataset.report, e.dataset.value])));
+  [...document.querySelectorAll('[data-report]:not([data-rows])')].filter((e) => !e.closest('[data-shown-if][hidden]')).map((e) => [e.dataset.report, e.dataset.value])));
 
 /** Script errors the page reported to its own error handler (geckodriver has no console log). */
 async function pageErrors() {

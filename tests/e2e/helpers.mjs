@@ -111,18 +111,28 @@ export function cliReport(scenario) {
 }
 
 /** Every shown figure: { path: data-value }. A table's rows (`data-rows`, named by their
- * list's path for the warnings about it) are not a figure: their cells are. */
+ * list's path for the warnings about it) are not a figure: their cells are. Figures in a box
+ * hidden because the report has no such object (`data-shown-if`, colour and HDR of a plain
+ * sensor) are left out; `shownIfProblems` checks those boxes. */
 export function shownValues(page) {
-  return page.$$eval('[data-report]:not([data-rows])', (els) => Object.fromEntries(els.map((e) => [e.dataset.report, e.dataset.value])));
+  return page.$$eval('[data-report]:not([data-rows])', (els) => Object.fromEntries(els
+    .filter((e) => !e.closest('[data-shown-if][hidden]'))
+    .map((e) => [e.dataset.report, e.dataset.value])));
+}
+
+/** Boxes shown only for a report object (`data-shown-if="hdr"`) that are hidden while the
+ * report has it, or shown while it has not. */
+export async function shownIfProblems(page, report) {
+  const boxes = await page.$$eval('[data-shown-if]', (els) => els.map((e) => ({ path: e.dataset.shownIf, hidden: e.hidden })));
+  const has = (path) => { const v = at(report, path); return v !== undefined && v !== null; };
+  return boxes.filter((b) => b.hidden === has(b.path))
+    .map((b) => `${b.path}: ${b.hidden ? 'hidden, but the tool reports it' : 'shown, but the tool has none'}`);
 }
 
 function at(obj, path) {
   let v = obj;
   for (const k of path.split('.')) {
-    // A figure inside an object the report does not have (`hdr` of a single-exposure
-    // scenario) is absent, as the page shows it: null.
-    if (v === null) return null;
-    if (v === undefined) return undefined;
+    if (v === null || v === undefined) return undefined;
     v = v[k];
   }
   return v;

@@ -8,7 +8,7 @@ import { join } from 'node:path';
 import { describe, test } from 'node:test';
 import {
   ARTIFACTS, axeSeriousViolations, cliReport, compareWithReport, DEMO_NAMES, demoJson, demoText,
-  linkFor, loadDemo, pageFor, scenarioFromUrl, settledUrl, setUp, shownValues, singleFileUrl
+  linkFor, loadDemo, pageFor, scenarioFromUrl, settledUrl, setUp, shownIfProblems, shownValues, singleFileUrl
 } from './helpers.mjs';
 
 
@@ -46,6 +46,8 @@ for (const target of TARGETS) {
         await loadDemo(page, name);
         const report = cliReport(demoText(name));
         assert.deepEqual(compareWithReport(await shownValues(page), report), [], name);
+        // The colour and HDR results are shown exactly when the tool reports them.
+        assert.deepEqual(await shownIfProblems(page, report), [], name);
         // Each warning of the tool is shown as its sentence, in a group holding a figure it concerns.
         const shown = await page.$$eval('[data-warning]', (els) => els.map((e) => ({
           code: e.dataset.warning,
@@ -343,7 +345,7 @@ describe('the served page: keeping, sharing, keyboard, print, narrow column', ()
     assertOwnRequests(TARGETS[0], requests, errors);
   });
 
-  test('prints inputs, results, warnings, version and date on one page, the curves on the next', async (t) => {
+  test('prints inputs, results, warnings, version and date on one page (inputs and results on a page each for colour or HDR), the curves on the next', async (t) => {
     const { page, requests, errors } = await pageFor(t, env.browser, `${env.server.origin}/`);
     for (const name of DEMO_NAMES) {
       await loadDemo(page, name);
@@ -358,7 +360,13 @@ describe('the served page: keeping, sharing, keyboard, print, narrow column', ()
       writeFileSync(join(ARTIFACTS, `print-${name}.pdf`), pdf);
       const pages = (pdf.toString('latin1').match(/\/Type\s*\/Page(?!s)/g) ?? []).length;
       // Page 1: inputs and results (as before the curves were added); page 2: the curves.
-      assert.equal(pages, 2, `${name} prints on ${pages} pages`);
+      // A colour or HDR sensor's inputs and results do not fit one page: its inputs are on
+      // page 1 and its results on page 2, each in two columns, and the curves on page 3.
+      const report = cliReport(demoText(name));
+      const extended = Boolean(report.channels || report.hdr);
+      assert.equal(pages, extended ? 3 : 2, `${name} prints on ${pages} pages`);
+      const layout = await page.$eval('#results', (e) => ({ breakBefore: getComputedStyle(e).breakBefore, columns: getComputedStyle(e).columnCount }));
+      assert.deepEqual(layout, extended ? { breakBefore: 'page', columns: '2' } : { breakBefore: 'auto', columns: 'auto' }, name);
       for (const id of ['svg-signal', 'svg-exposure', 'svg-light', 'svg-temperature', 'svg-budget']) {
         assert.ok(await page.isVisible(`#${id}`), `${name}: chart ${id} printed`);
       }
