@@ -242,7 +242,17 @@ fn every_report_path_on_the_page_exists_in_a_report() {
     let html = index_html();
     let mut paths = attribute_values(&html, "data-report");
     paths.extend(attribute_values(&html, "data-share"));
+    paths.extend(attribute_values(&html, "data-shown-if"));
     assert!(paths.len() > 40, "found only {} report paths", paths.len());
+    // A table's row template names its cells by the item's index `{i}`: the first item's paths
+    // must exist, and the table's own path must be a list.
+    let paths: Vec<String> = paths.iter().map(|p| p.replace("{i}", "0")).collect();
+    let lists = attribute_values(&html, "data-rows");
+    assert!(
+        lists.len() >= 4,
+        "found only {} tables of rows",
+        lists.len()
+    );
     // noise_uv is null without a conversion gain: the demo with one shows every path.
     let mut reports = Vec::new();
     for d in DEMOS {
@@ -264,6 +274,14 @@ fn every_report_path_on_the_page_exists_in_a_report() {
                 )
         });
         assert!(present, "data-report=\"{p}\" is not a path of the report");
+    }
+    for l in &lists {
+        assert!(
+            reports
+                .iter()
+                .any(|r| value_at(r, l).is_some_and(serde_json::Value::is_array)),
+            "data-rows=\"{l}\" is not a list in any demo's report"
+        );
     }
 }
 
