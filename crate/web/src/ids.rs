@@ -108,3 +108,17 @@ pub const COMPARE_HEAD: &str = "compare-head";
 pub const COMPARE_BODY: &str = "compare-body";
 /// The comparison as CSV.
 pub const COMPARE_CSV: &str = "compare-csv";
+
+// The simulated frame.
+/// Simulate the frame.
+pub const FRAME_RUN: &str = "frame-run";
+/// Its seed.
+pub const FRAME_SEED: &str = "frame-seed";
+/// What is wrong with the seed.
+pub const FRAME_SEED_PROBLEM: &str = "frame-seed-problem";
+/// One screen pixel per output pixel.
+pub const FRAME_ACTUAL_PIXELS: &str = "frame-actual-pixels";
+/// What the simulation did.
+pub const FRAME_STATUS: &str = "frame-status";
+/// The frames shown: the scenario's and a pinned one's.
+pub const FRAME_VIEWS: &str = "frame-views";
