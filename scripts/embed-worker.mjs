@@ -5,7 +5,7 @@
 // gzip (inflated in the worker with DecompressionStream), and crate/frames-worker/boot.js. It
 // goes into the page (dist/index.html or dist/noise-budget.html) as a data block,
 //   <script type="text/plain" id="frames-worker-script">…</script>,
-// which the browser never runs: the page (crate/web/src/frames_ui.rs) starts it from a Blob URL
+// which the browser never runs: the page (crate/web/src/frames_ui/run.rs) starts it from a Blob URL
 // only when frames are analysed (the CSP's `worker-src blob:`), so no request is ever made for
 // it. The served page (index.html) gets the same script as a file of its own beside it, which
 // the data block names (data-src) and the page starts only when frames are analysed. Sizes are added to sizes.json next to the page.

@@ -2,7 +2,7 @@
 //! checked against `www/index.html` by the tidy test (`crate/web/tests/tidy.rs`), and the
 //! generated field markup (`markup.rs`) uses the ones it writes.
 //!
-//! Ids only; no DOM here. (`frames_ui.rs` still writes its own as literals, which the tidy test
+//! Ids only; no DOM here. (`frames_ui/` still writes its own as literals, which the tidy test
 //! checks the same way.)
 
 // The tools above the form: demos, links, files, kept scenarios, messages.

@@ -8,7 +8,7 @@
 //!
 //! Code map: `pair.rs` the exact integer pass over a frame pair (the hot loop); `stack.rs` one
 //! stack; `fit.rs` straight-line fits with uncertainties; `formulas.rs` the standard's
-//! closed-form steps with their sources; `analysis.rs` the method, step by step; `manifest.rs`
+//! closed-form steps with their sources; `analysis/` the method, step by step; `manifest.rs`
 //! which files form which stacks, and the measurement over a `read` function; `curve.rs`
 //! plot-ready series of a result.
 
