@@ -45,6 +45,13 @@ def tool(*args):
     return r.stdout.decode("utf-8")
 
 
+# The detection columns with their units (crate/engine/src/sweep.rs, CSV_COLUMNS).
+DETECTION_COLUMNS = (
+    "detection.signal_e [e-]",
+    "detection.detection_probability [fraction]",
+    "detection.contrast_detection_probability [fraction]",
+)
+
 # Report sections present only for colour or HDR scenarios (docs/scenario-format.md).
 OPTIONAL_SECTIONS = ("channels", "colour", "hdr")
 
@@ -85,6 +92,9 @@ def main():
             header = rows[0]
             check(header[0] == f"{vary} [{data['unit']}]", f"{name}: first column {header[0]!r}")
             check(all(h.endswith("]") and " [" in h for h in header), f"{name}: units in the header")
+            # The detection figures (issue 13) are columns of every sweep, read back like the rest.
+            for col in DETECTION_COLUMNS:
+                check(col in header, f"{name}: column {col!r}")
             check(len(rows) - 1 == len(data["points"]) == 37, f"{name}: {len(rows) - 1} rows")
             for row, point in zip(rows[1:], data["points"]):
                 check(len(row) == len(header), f"{name}: row length")

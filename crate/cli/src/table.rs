@@ -211,6 +211,7 @@ pub fn render(scenario: &Scenario, r: &Report) -> String {
     );
     colour_block(&mut o, r);
     hdr_block(&mut o, r);
+    detection_block(&mut o, scenario, r);
     if !r.warnings.is_empty() {
         let _ = writeln!(o);
         let _ = writeln!(o, "warnings");
@@ -325,6 +326,77 @@ fn hdr_block(o: &mut String, r: &Report) {
         opt(dr.stops, ""),
         opt(h.max_snr, "")
     );
+}
+
+/// The detection figures (exact Poisson–Gaussian, and the Gaussian picture beside them).
+fn detection_block(o: &mut String, scenario: &Scenario, r: &Report) {
+    let task = scenario.detection();
+    let d = &r.detection;
+    let p = |v: Option<f64>| opt(v, "");
+    let e = |v: Option<f64>| opt(v, " e⁻");
+    let _ = writeln!(o);
+    let _ = writeln!(
+        o,
+        "detection (false alarm {} per pixel, {} pixels per frame; exact, Gaussian in brackets)",
+        num(task.false_alarm_probability),
+        num(f64::from(task.pixels_per_frame))
+    );
+    let _ = writeln!(
+        o,
+        "  threshold                 {} ({}), false alarm achieved {}",
+        e(d.threshold_e),
+        e(d.threshold_e_gaussian),
+        p(d.false_alarm_probability_achieved)
+    );
+    let _ = writeln!(
+        o,
+        "  signal for p_d {:<10} {} ({})",
+        num(task.required_probability),
+        e(d.signal_e),
+        e(d.signal_e_gaussian)
+    );
+    let _ = writeln!(
+        o,
+        "  detection probability     {} ({}) at this signal",
+        p(d.detection_probability),
+        p(d.detection_probability_gaussian)
+    );
+    let _ = writeln!(
+        o,
+        "  false alarm per frame     {}; per pixel for {} per frame: {}",
+        p(d.frame_false_alarm_probability),
+        num(task.false_alarm_probability),
+        p(d.pixel_false_alarm_for_frame)
+    );
+    let _ = writeln!(o, "  read noise (Gaussian)     {} rms", e(d.read_noise_e));
+    if let Some(c) = &d.counting {
+        let _ = writeln!(
+            o,
+            "  photon counting           miscount {} (interior), {} (zero), {} (average): {}",
+            num(c.miscount_interior),
+            num(c.miscount_zero),
+            num(c.miscount_average),
+            counting_words(c.verdict)
+        );
+    }
+    let _ = writeln!(
+        o,
+        "  contrast detection prob.  {} (contrast {}, interval ±{} of it)",
+        p(d.contrast_detection_probability),
+        num(d.contrast),
+        num(d.contrast_interval)
+    );
+}
+
+fn counting_words(v: engine::detection::counting::CountingVerdict) -> &'static str {
+    use engine::detection::counting::CountingVerdict as V;
+    match v {
+        V::AccurateCounting => "accurate counting",
+        V::PhotonNumberResolving => "photon-number resolving",
+        V::DeepSubElectron => "deep sub-electron, counting unreliable",
+        V::NotResolving => "not photon-number resolving",
+        _ => "—",
+    }
 }
 
 /// Values in the units the light was given in, each with the quantity's words and unit from the

@@ -333,3 +333,109 @@ fn sweep_json_and_bad_ranges() {
         "sweep.to: at 2: sensor.quantum_efficiency: must be ≤ 1, got 2"
     );
 }
+
+/// REFERENCES.md §8's case as a scenario: σ_r = 1 e⁻, dark 0.01 e⁻, quantization negligible
+/// (K = 1000 DN/e⁻), p_fa 1e-3, one pixel searched.
+const DETECTION_SCENARIO: &str = r#"{"version":1,"sensor":{"pixel_pitch_um":3.45,
+  "quantum_efficiency":0.5,"full_well_e":10000,"read_noise_e":1.0,"dark_current_e_per_s":1,
+  "adc_bits":32,"system_gain_dn_per_e":1000},"light":{"photons_per_pixel":6.52},
+  "exposure":{"time_s":0.01},"detection":{"pixels_per_frame":1}}"#;
+
+#[test]
+fn the_table_shows_the_detection_figures() {
+    let path = temp_file("detection.json", DETECTION_SCENARIO.as_bytes());
+    let out = run(&["eval", "--table", &path], None);
+    assert_eq!(out.status.code(), Some(0));
+    let t = String::from_utf8_lossy(&out.stdout);
+    // REFERENCES.md §8, σ_r = 1.0, to the table's 4 digits: τ 3.1409 (Gauss 3.1156),
+    // s50 3.2600 (Gauss 3.1056); one pixel: the frame's false alarm is the pixel's.
+    for needle in [
+        "detection (false alarm 0.001 per pixel, 1 pixels per frame",
+        "threshold                 3.141 e⁻ (3.116 e⁻), false alarm achieved 0.001",
+        "signal for p_d 0.5        3.26 e⁻ (3.106 e⁻)",
+        "detection probability     0.5 (",
+        "false alarm per frame     0.001;",
+        "read noise (Gaussian)     1 e⁻ rms",
+        "photon counting           miscount 0.6171 (interior)",
+        "not photon-number resolving",
+        "contrast detection prob.",
+        "(contrast 0.1, interval ±0.5 of it)",
+    ] {
+        assert!(t.contains(needle), "table lacks {needle:?}:\n{t}");
+    }
+    // The defaults' million pixels: the frame's false-alarm warning, in the table too.
+    let defaults =
+        DETECTION_SCENARIO.replace(r#""detection":{"pixels_per_frame":1}"#, r#""x_note":0"#);
+    let path = temp_file("detection-defaults.json", defaults.as_bytes());
+    let t = String::from_utf8_lossy(&run(&["eval", "--table", &path], None).stdout).to_string();
+    assert!(t.contains("1000000 pixels per frame"), "{t}");
+    assert!(t.contains("[detection_frame_false_alarm_likely]"), "{t}");
+}
+
+#[test]
+fn sweep_has_the_detection_columns() {
+    let path = temp_file("detection-sweep.json", DETECTION_SCENARIO.as_bytes());
+    let args = [
+        "sweep",
+        "--vary",
+        "sensor.read_noise_e",
+        "--from",
+        "1",
+        "--to",
+        "3",
+        "--points",
+        "5",
+        &path,
+    ];
+    let csv = run(&args, None);
+    assert_eq!(
+        csv.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&csv.stderr)
+    );
+    let text = String::from_utf8_lossy(&csv.stdout);
+    let rows: Vec<Vec<&str>> = text
+        .lines()
+        .map(|l| l.trim_end_matches('\r').split(',').collect())
+        .collect();
+    let mut json_args = args.to_vec();
+    json_args.splice(9..9, ["--format", "json"]);
+    let json: serde_json::Value =
+        serde_json::from_slice(&run(&json_args, None).stdout).expect("sweep JSON");
+    for (column, name) in [
+        ("detection.signal_e [e-]", "signal_e"),
+        (
+            "detection.detection_probability [fraction]",
+            "detection_probability",
+        ),
+        (
+            "detection.contrast_detection_probability [fraction]",
+            "contrast_detection_probability",
+        ),
+    ] {
+        let i = rows[0]
+            .iter()
+            .position(|h| *h == column)
+            .unwrap_or_else(|| panic!("no column {column}: {:?}", rows[0]));
+        for (row, point) in rows[1..]
+            .iter()
+            .zip(json["points"].as_array().expect("points"))
+        {
+            let want = point["report"]["detection"][name].as_f64().expect(name);
+            let got: f64 = row[i].parse().expect("a number");
+            assert_eq!(got, want, "{column}"); // the same engine double, shortest form both
+        }
+    }
+    // Above 1 e⁻ (where the charge's comb is blurred, REFERENCES.md §8) the exact s50 grows
+    // with the read noise: more Gaussian noise, a higher threshold.
+    let i = rows[0]
+        .iter()
+        .position(|h| *h == "detection.signal_e [e-]")
+        .expect("column");
+    let s: Vec<f64> = rows[1..]
+        .iter()
+        .map(|r| r[i].parse().expect("number"))
+        .collect();
+    assert!(s.windows(2).all(|w| w[0] < w[1]), "{s:?}");
+}

@@ -129,6 +129,21 @@ pub const FIGURES: &[(&str, &str, &str, Change, Getter)] = &[
         Change::Difference,
         |r| r.hdr.as_ref().and_then(|h| h.dynamic_range.db),
     ),
+    // Detection (exact Poisson–Gaussian, for the scenario's `detection` task).
+    (
+        "detection.signal_e",
+        "signal detected at the required probability",
+        "e-",
+        Change::Ratio,
+        |r| r.detection.signal_e,
+    ),
+    (
+        "detection.detection_probability",
+        "detection probability of the signal",
+        "fraction",
+        Change::Difference,
+        |r| r.detection.detection_probability,
+    ),
 ];
 
 /// One figure across the scenarios compared.

@@ -16,6 +16,7 @@ use crate::light::{self, ResolvedLight, Response};
 use crate::output_noise::OutputNoise;
 use crate::scenario::{BinningMode, DarkCurrentLaw, Exposure, Scenario, Sensor};
 
+mod detection;
 mod extras;
 use crate::spectrum::Spectrum;
 use crate::{dark, quantization, sense_node};
@@ -140,6 +141,7 @@ pub fn evaluate_with(sc: &Scenario, lights: &Lights) -> Report {
         lights.background.as_ref(),
     );
     let mut report = base.report;
+    detection::add_detection(sc, &base.noise, &mut report);
     if sc.sensor.colour.is_some() {
         extras::add_colour(sc, lights, &mut report);
     }
@@ -608,6 +610,7 @@ pub(crate) fn pixel(
         channels: None,
         colour: None,
         hdr: None,
+        detection: detection::empty(sc),
         warnings,
     };
     Pixel {

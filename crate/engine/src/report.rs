@@ -213,6 +213,16 @@ pub enum WarningCode {
     HdrNextSaturatedAtSwitch,
     /// An HDR transition's SNR dip is large (6 dB or more).
     HdrDeepDip,
+    /// The Gaussian detection figures differ from the exact ones by more than 10 %.
+    DetectionGaussianMisleads,
+    /// Read noise below 0.5 e⁻ at the detection: the charge comes in whole electrons and the
+    /// detection figures move in steps.
+    DetectionWholeElectrons,
+    /// No Gaussian noise at the detection: the false-alarm probability asked for cannot be
+    /// had exactly; the achieved one is lower.
+    DetectionFalseAlarmNotExact,
+    /// A false alarm somewhere in the frame is more likely than not.
+    DetectionFrameFalseAlarmLikely,
 }
 
 impl WarningCode {
@@ -240,6 +250,10 @@ impl WarningCode {
             WarningCode::ChannelSaturated => "channel_saturated",
             WarningCode::HdrNextSaturatedAtSwitch => "hdr_next_saturated_at_switch",
             WarningCode::HdrDeepDip => "hdr_deep_dip",
+            WarningCode::DetectionGaussianMisleads => "detection_gaussian_misleads",
+            WarningCode::DetectionWholeElectrons => "detection_whole_electrons",
+            WarningCode::DetectionFalseAlarmNotExact => "detection_false_alarm_not_exact",
+            WarningCode::DetectionFrameFalseAlarmLikely => "detection_frame_false_alarm_likely",
         }
     }
 }
@@ -253,7 +267,7 @@ impl From<WarningCode> for &'static str {
 /// Every figure of the format-version-1 report. Extra keys beyond the format: `noise_dn`,
 /// `noise_uv`, `variance_share`, `sense_node_capacitance_ff`,
 /// `dark_current_at_temperature_e_per_s`, `background_e`, `light`, `noise_*.background_shot`,
-/// `min_detectable.light_units`, `saturation.light_units` (docs/scenario-format.md).
+/// `min_detectable.light_units`, `saturation.light_units`, `detection` (docs/scenario-format.md).
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Report {
     /// Format version, 1.
@@ -310,8 +324,51 @@ pub struct Report {
     /// the first readout's).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub hdr: Option<HdrFigures>,
+    /// Detection beyond the Gaussian picture at the output pixel (always present; its figures
+    /// are `null` where they cannot be computed).
+    pub detection: DetectionReport,
     /// Conditions the user must see.
     pub warnings: Vec<Warning>,
+}
+
+/// The detection figures of the output pixel (`crate::detection`), for the scenario's
+/// `detection` task. With N frames averaged the detection is made on the sum of the N frames
+/// (Poisson of N·(s + d), Gaussian variance N·σ²), and every charge below is per frame (the
+/// sum's ÷ N, as the averaged output reads); probabilities are the sum's.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct DetectionReport {
+    /// Decision threshold τ on the charge [e⁻], dark included, for the per-pixel p_fa.
+    pub threshold_e: Option<f64>,
+    /// The false-alarm probability τ gives (= p_fa except without Gaussian noise).
+    pub false_alarm_probability_achieved: Option<f64>,
+    /// The signal [e⁻], dark excluded, detected with the required probability (exact).
+    pub signal_e: Option<f64>,
+    /// The same in the Gaussian approximation, at its own threshold [e⁻].
+    pub signal_e_gaussian: Option<f64>,
+    /// The Gaussian approximation's threshold [e⁻].
+    pub threshold_e_gaussian: Option<f64>,
+    /// Probability that the scenario's own signal exceeds τ (exact).
+    pub detection_probability: Option<f64>,
+    /// The same in the Gaussian approximation.
+    pub detection_probability_gaussian: Option<f64>,
+    /// Probability of at least one false alarm among the pixels searched in a frame,
+    /// 1 − (1 − p_fa)^M.
+    pub frame_false_alarm_probability: Option<f64>,
+    /// The per-pixel p_fa that would make p_fa the per-frame probability over M pixels.
+    pub pixel_false_alarm_for_frame: Option<f64>,
+    /// The Gaussian (read, reset, quantization) noise of the output pixel [e⁻ rms].
+    pub read_noise_e: Option<f64>,
+    /// Photon-counting figures of one frame's read (absent where they cannot be computed).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub counting: Option<crate::detection::counting::CountingFigures>,
+    /// Probability that the measured Weber contrast of a target patch (signal × (1 + C))
+    /// against a reference patch (the scenario's signal), one output pixel each with the
+    /// model's temporal and fixed-pattern noise, lies within ±ε·|C| of C.
+    pub contrast_detection_probability: Option<f64>,
+    /// C, from `detection.contrast`.
+    pub contrast: f64,
+    /// ε, from `detection.contrast_interval`.
+    pub contrast_interval: f64,
 }
 
 /// One colour channel of a colour sensor: its own noise budget at the scenario's light.

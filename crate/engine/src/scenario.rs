@@ -239,6 +239,22 @@ pub struct Exposure {
     pub binning_mode: BinningMode,
 }
 
+/// The detection task (`detection`), with defaults applied: what the detection figures of the
+/// report ([`crate::report::DetectionReport`]) are computed for.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Detection {
+    /// False-alarm probability per pixel, p_fa, in (0, 1).
+    pub false_alarm_probability: f64,
+    /// Detection probability p_d for which the detection signal is found, in (0, 1).
+    pub required_probability: f64,
+    /// Pixels M searched per frame, ≥ 1.
+    pub pixels_per_frame: u32,
+    /// Weber contrast C of the target patch against the reference patch: non-zero, > −1.
+    pub contrast: f64,
+    /// Confidence interval ε of the contrast detection probability, in (0, 1].
+    pub contrast_interval: f64,
+}
+
 /// A validated scenario. Made only by [`crate::validate::scenario_from_value`] and friends.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Scenario {
@@ -251,6 +267,7 @@ pub struct Scenario {
     pub(crate) snr_threshold: f64,
     pub(crate) processing: Processing,
     pub(crate) hdr: Option<Hdr>,
+    pub(crate) detection: Detection,
 }
 
 impl Scenario {
@@ -298,5 +315,10 @@ impl Scenario {
     #[must_use]
     pub fn hdr(&self) -> Option<&Hdr> {
         self.hdr.as_ref()
+    }
+    /// The detection task (the catalogue's defaults without a `detection` object).
+    #[must_use]
+    pub fn detection(&self) -> &Detection {
+        &self.detection
     }
 }

@@ -352,6 +352,16 @@ pub const CSV_COLUMNS: &[(&str, &str, Getter)] = &[
     ("hdr.dynamic_range.db", "dB", |r| {
         r.hdr.as_ref().and_then(|h| h.dynamic_range.db)
     }),
+    // Detection (exact Poisson–Gaussian, for the scenario's `detection` task).
+    ("detection.signal_e", "e-", |r| r.detection.signal_e),
+    ("detection.detection_probability", "fraction", |r| {
+        r.detection.detection_probability
+    }),
+    (
+        "detection.contrast_detection_probability",
+        "fraction",
+        |r| r.detection.contrast_detection_probability,
+    ),
 ];
 
 fn channel_snr_db(r: &Report, i: usize) -> Option<f64> {

@@ -23,6 +23,7 @@
 //! names it uses, not the help texts.
 
 mod colour;
+mod detection;
 mod hdr;
 mod light;
 mod scenario;
@@ -33,6 +34,10 @@ pub use crate::input::{Range, RangeWithLimit};
 pub use colour::{
     CHANNEL_B, CHANNEL_CORRELATION, CHANNEL_G, CHANNEL_QUANTUM_EFFICIENCY,
     CHANNEL_QUANTUM_EFFICIENCY_CURVE, CHANNEL_R, COLOUR_MATRIX, PROCESSING, WHITE_BALANCE,
+};
+pub use detection::{
+    CONTRAST, CONTRAST_INTERVAL, DETECTION, FALSE_ALARM_PROBABILITY, PIXELS_PER_FRAME,
+    REQUIRED_PROBABILITY,
 };
 pub use hdr::{
     BLEND_FRACTION, EXPOSURES, EXPOSURE_FULL_WELL_E, EXPOSURE_RATIO, EXPOSURE_READ_NOISE_E, HDR,
@@ -87,6 +92,8 @@ pub enum Object {
     HdrExposure,
     /// `hdr.low_gain`: the low conversion gain of a dual-gain readout.
     HdrLowGain,
+    /// `detection`: the detection task of the report's detection figures.
+    Detection,
 }
 
 impl Object {
@@ -110,6 +117,7 @@ impl Object {
             Object::Hdr => &["hdr"],
             Object::HdrExposure => &["hdr.exposures[]"],
             Object::HdrLowGain => &["hdr.low_gain"],
+            Object::Detection => &["detection"],
         }
     }
 }
@@ -434,7 +442,7 @@ impl Key {
 }
 
 /// The catalogue, object by object (the sensor and its colour channels, a light, its spectrum,
-/// the exposure, the conditions, colour processing, HDR), each in the order the page's form
+/// the exposure, the conditions, colour processing, HDR, the detection task), each in the order the page's form
 /// shows its keys.
 pub const ALL: &[&[Key]] = &[
     scenario::HEAD,
@@ -451,6 +459,8 @@ pub const ALL: &[&[Key]] = &[
     hdr::HDR_KEYS,
     hdr::EXPOSURE_KEYS,
     hdr::LOW_GAIN_KEYS,
+    detection::TOP_KEYS,
+    detection::KEYS,
 ];
 
 /// Every key of the catalogue, in the page's order within each object.

@@ -19,6 +19,7 @@ use crate::keys::{self, Presence, Rule};
 use crate::scenario::Scenario;
 
 mod colour;
+mod detection;
 mod exposure;
 mod hdr;
 mod light;
@@ -143,6 +144,11 @@ pub fn scenario_from_value(v: &Value) -> Result<Scenario, ScenarioError> {
         .object_key(&mut p, key!(keys::HDR))
         .and_then(|mut f| hdr::hdr(&mut p, &mut f, sensor.as_ref()));
     let hdr_failed = top.had_problem_at(&p, const { keys::HDR.name });
+    let detection = match top.object_key(&mut p, key!(keys::DETECTION)) {
+        Some(mut f) => detection::detection(&mut p, &mut f),
+        None if top.has(const { keys::DETECTION.name }) => None,
+        None => detection::defaults(&mut p),
+    };
     top.finish(&mut p);
 
     // Rules that join keys, checked only where both sides were readable.
@@ -218,6 +224,7 @@ pub fn scenario_from_value(v: &Value) -> Result<Scenario, ScenarioError> {
         temperature_c,
         snr_threshold,
         processing,
+        detection,
     ) {
         (
             title,
@@ -227,6 +234,7 @@ pub fn scenario_from_value(v: &Value) -> Result<Scenario, ScenarioError> {
             Some(temperature_c),
             Some(snr),
             Some(processing),
+            Some(detection),
         ) if p.is_empty() && !hdr_failed => Ok(Scenario {
             title,
             sensor,
@@ -237,6 +245,7 @@ pub fn scenario_from_value(v: &Value) -> Result<Scenario, ScenarioError> {
             snr_threshold: snr,
             processing,
             hdr,
+            detection,
         }),
         _ => Err(ScenarioError::from_problems(p.into_problems())),
     }

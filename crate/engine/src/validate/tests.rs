@@ -107,7 +107,7 @@ fn unknown_keys_are_errors_except_x_keys() {
     check(
         |v| v["colour"] = json!("red"),
         &[
-            "colour: unknown key; the keys here are background_light, exposure, hdr, light, \
+            "colour: unknown key; the keys here are background_light, detection, exposure, hdr, light, \
            processing, sensor, snr_threshold, temperature_c, title, version; keys of your own \
            must start with \"x_\"",
         ],
