@@ -12,7 +12,7 @@ use serde_json::Value;
 use crate::keys;
 use crate::light::{Light, SceneQuantity};
 use crate::scenario::Scenario;
-use crate::sweep::{regimes, sweep, with_key, Spacing, Sweep, SweepRequest};
+use crate::sweep::{regimes, with_key, Spacing, Sweep, SweepRequest};
 use crate::validate::{scenario_from_value, Problem, ScenarioError};
 
 /// A standard view of the scenario.
@@ -159,6 +159,8 @@ pub fn request(sc: &Scenario, view: View, points: u32) -> SweepRequest {
 
 /// A view's sweep of the scenario given as JSON (`base`, valid), with the range of
 /// [`request`] pulled towards the scenario's value wherever a calculator limit refuses an end.
+/// Its points carry no detection figures (null); [`crate::sweep::sweep`] over the same range
+/// gives them.
 ///
 /// # Errors
 /// The base scenario's problems, or the sweep's (for `points` out of range), naming the field.
@@ -181,7 +183,8 @@ pub fn view_sweep(base: &Value, view: View, points: u32) -> Result<Sweep, Scenar
             ),
         }]));
     }
-    sweep(base, &req)
+    // The curves draw SNR: the detection figures are left out (sweep::sweep_without_detection).
+    crate::sweep::sweep_without_detection(base, &req)
 }
 
 /// `end`, or the nearest value towards `anchor` (by factors of ten on a log view, by halves on

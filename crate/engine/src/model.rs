@@ -133,6 +133,14 @@ pub fn resolve_lights(sc: &Scenario) -> Lights {
 /// [`evaluate`] with the lights already resolved for this scenario.
 #[must_use]
 pub fn evaluate_with(sc: &Scenario, lights: &Lights) -> Report {
+    evaluate_parts(sc, lights, true)
+}
+
+/// [`evaluate_with`], with the detection figures left out (all null) when `detection` is
+/// false: the page's curves draw SNR only, and the detection figures (exact tails, a contrast
+/// detection probability) cost several times the rest of an evaluation.
+#[must_use]
+pub(crate) fn evaluate_parts(sc: &Scenario, lights: &Lights, detection: bool) -> Report {
     let base = pixel(
         sc,
         &sc.sensor,
@@ -141,7 +149,9 @@ pub fn evaluate_with(sc: &Scenario, lights: &Lights) -> Report {
         lights.background.as_ref(),
     );
     let mut report = base.report;
-    detection::add_detection(sc, &base.noise, &mut report);
+    if detection {
+        detection::add_detection(sc, &base.noise, &mut report);
+    }
     if sc.sensor.colour.is_some() {
         extras::add_colour(sc, lights, &mut report);
     }

@@ -15,7 +15,9 @@ use wasm_bindgen::{JsCast, JsValue};
 use web_sys::{Element, Event, HtmlButtonElement, HtmlInputElement, HtmlSelectElement};
 
 use crate::events::{on, on_id, when_settled, Action};
-use crate::{address, curves, demos, dom, fields, form, frame_ui, ids, plot, results, store};
+use crate::{
+    address, curves, demos, detection_plot, dom, fields, form, frame_ui, ids, plot, results, store,
+};
 
 /// Delay before the address bar and the browser's store follow an edit: edits in quick
 /// succession are written once (browsers throttle frequent `history.replaceState` calls).
@@ -140,6 +142,7 @@ pub fn recompute() {
             let report = engine::evaluate(&valid);
             results::show(&report);
             plot::show(&valid);
+            detection_plot::show(&valid, &report);
             curves::show(&read.value, &report);
             frame_ui::after_results(&read.value);
             FORM_VALID.with(|v| v.set(true));

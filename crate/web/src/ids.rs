@@ -109,6 +109,9 @@ pub const COMPARE_BODY: &str = "compare-body";
 /// The comparison as CSV.
 pub const COMPARE_CSV: &str = "compare-csv";
 
+/// The Detection group's plot of the charge distributions.
+pub const DETECTION_PLOT: &str = "detection-plot";
+
 // The simulated frame.
 /// Simulate the frame.
 pub const FRAME_RUN: &str = "frame-run";

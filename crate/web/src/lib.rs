@@ -8,6 +8,7 @@ pub mod address;
 pub mod chart;
 pub mod curves;
 pub mod demos;
+pub mod detection_plot;
 pub mod display;
 pub mod fields;
 pub mod ids;

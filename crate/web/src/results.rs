@@ -90,7 +90,8 @@ fn write_figure(el: &Element, v: Option<&Value>) {
     let (data, text) = match v {
         Some(Value::Number(n)) => {
             let x = n.as_f64().unwrap_or(f64::NAN);
-            let style = if fmt == "pct" {
+            // A probability: a percentage from 1 %, below it a number (× 10ⁿ when small).
+            let style = if fmt == "pct" || (fmt == "prob" && x >= 0.01) {
                 Style::Percent
             } else {
                 Style::Number

@@ -58,7 +58,9 @@ pub const REQUIRED_PROBABILITY: Key = detection(
 pub const PIXELS_PER_FRAME: Key = detection(
     "detection.pixels_per_frame",
     Rule::Whole {
-        default: Some(1_000_000),
+        // One: the per-frame figure is the per-pixel one until the pixels searched are given
+        // (a default of a megapixel put a false-alarm warning on every scenario).
+        default: Some(1),
         min: 1,
         max: 4_000_000_000,
     },
@@ -68,7 +70,8 @@ pub const PIXELS_PER_FRAME: Key = detection(
     "Pixels searched",
     "pixels searched per frame",
     "M pixels searched in each frame, for the probability of at least one false alarm in a \
-     frame.",
+     frame. Give the pixels of the region you search: with the default of one, the per-frame \
+     figure is the per-pixel one.",
 );
 
 /// The Weber contrast of the target patch.

@@ -497,6 +497,22 @@ pub fn wire(act: impl Fn(Action) + 'static) {
     }
 }
 
+/// The request that gives a sweep's points again: its key, ends, number and spacing.
+fn same_range(sweep: &Sweep) -> engine::sweep::SweepRequest {
+    let ends = (sweep.points.first(), sweep.points.last());
+    let (from, to) = match ends {
+        (Some(a), Some(b)) => (a.value, b.value),
+        _ => (0.0, 0.0),
+    };
+    engine::sweep::SweepRequest {
+        key: sweep.key.clone(),
+        from,
+        to,
+        points: u32::try_from(sweep.points.len()).unwrap_or(0),
+        spacing: sweep.spacing,
+    }
+}
+
 fn export(kind: ChartKind, format: &str) {
     let found = STATE.with(|s| {
         let s = s.borrow();
@@ -506,9 +522,10 @@ fn export(kind: ChartKind, format: &str) {
             name_words(s.title.as_deref(), FILE_NAME_WORDS),
             kind.file_words()
         );
-        Some((stem, d.markup.clone(), Rc::clone(&d.sweep)))
+        let now = s.now.as_ref().map(|(v, _)| v.clone());
+        Some((stem, d.markup.clone(), Rc::clone(&d.sweep), now))
     });
-    let Some((stem, markup, sweep)) = found else {
+    let Some((stem, markup, sweep, now)) = found else {
         say("Nothing to export yet: the chart is not drawn.");
         return;
     };
@@ -521,7 +538,11 @@ fn export(kind: ChartKind, format: &str) {
         }
         "csv" => {
             let file = format!("{stem}_sweep-{}.csv", sweep.key);
-            if dom::download(&file, "text/csv", &engine::sweep::to_csv(&sweep)) {
+            // The curves' sweep has no detection figures; the file has every column, so the
+            // same range is swept again in full (as `noise-budget sweep` does).
+            let full = now.and_then(|v| engine::sweep::sweep(&v, &same_range(&sweep)).ok());
+            let csv = engine::sweep::to_csv(full.as_ref().unwrap_or(&sweep));
+            if dom::download(&file, "text/csv", &csv) {
                 say(&format!("Saved {file} (in your downloads)."));
             }
         }
