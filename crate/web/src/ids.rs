@@ -111,17 +111,3 @@ pub const COMPARE_CSV: &str = "compare-csv";
 
 /// The Detection group's plot of the charge distributions.
 pub const DETECTION_PLOT: &str = "detection-plot";
-
-// The simulated frame.
-/// Simulate the frame.
-pub const FRAME_RUN: &str = "frame-run";
-/// Its seed.
-pub const FRAME_SEED: &str = "frame-seed";
-/// What is wrong with the seed.
-pub const FRAME_SEED_PROBLEM: &str = "frame-seed-problem";
-/// One screen pixel per output pixel.
-pub const FRAME_ACTUAL_PIXELS: &str = "frame-actual-pixels";
-/// What the simulation did.
-pub const FRAME_STATUS: &str = "frame-status";
-/// The frames shown: the scenario's and a pinned one's.
-pub const FRAME_VIEWS: &str = "frame-views";
