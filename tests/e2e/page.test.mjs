@@ -345,7 +345,7 @@ describe('the served page: keeping, sharing, keyboard, print, narrow column', ()
     assertOwnRequests(TARGETS[0], requests, errors);
   });
 
-  test('prints inputs, results, warnings, version and date on one page (inputs and results on a page each for colour or HDR), the curves on the next', async (t) => {
+  test('prints inputs on the first page, results, warnings, version and date from the second, the curves on a page of their own', async (t) => {
     const { page, requests, errors } = await pageFor(t, env.browser, `${env.server.origin}/`);
     for (const name of DEMO_NAMES) {
       await loadDemo(page, name);
@@ -359,14 +359,14 @@ describe('the served page: keeping, sharing, keyboard, print, narrow column', ()
       const pdf = await page.pdf({ format: 'A4', printBackground: true });
       writeFileSync(join(ARTIFACTS, `print-${name}.pdf`), pdf);
       const pages = (pdf.toString('latin1').match(/\/Type\s*\/Page(?!s)/g) ?? []).length;
-      // Page 1: inputs and results (as before the curves were added); page 2: the curves.
-      // A colour or HDR sensor's inputs and results do not fit one page: its inputs are on
-      // page 1 and its results on page 2, each in two columns, and the curves on page 3.
+      // With the Detection group, inputs and results no longer fit one page: the inputs are on
+      // page 1, the results from page 2 (two columns), the curves on a page of their own.
+      // A sensor both colour and HDR has results for two pages.
       const report = cliReport(demoText(name));
-      const extended = Boolean(report.channels || report.hdr);
-      assert.equal(pages, extended ? 3 : 2, `${name} prints on ${pages} pages`);
+      const both = Boolean(report.channels && report.hdr);
+      assert.equal(pages, both ? 4 : 3, `${name} prints on ${pages} pages`);
       const layout = await page.$eval('#results', (e) => ({ breakBefore: getComputedStyle(e).breakBefore, columns: getComputedStyle(e).columnCount }));
-      assert.deepEqual(layout, extended ? { breakBefore: 'page', columns: '2' } : { breakBefore: 'auto', columns: 'auto' }, name);
+      assert.deepEqual(layout, { breakBefore: 'page', columns: '2' }, name);
       for (const id of ['svg-signal', 'svg-exposure', 'svg-light', 'svg-temperature', 'svg-budget']) {
         assert.ok(await page.isVisible(`#${id}`), `${name}: chart ${id} printed`);
       }
