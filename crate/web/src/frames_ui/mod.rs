@@ -8,9 +8,10 @@
 //! objects to the worker, which reads one file at a time, applies the engine's manifest rules,
 //! statistics and fits, and answers with JSON. Nothing here decodes a frame, checks a rule or
 //! computes a statistic, and the page's wasm links no frame decoder. The worker's script is
-//! embedded in the page by `scripts/embed-worker.mjs` and started from a Blob URL only when an
-//! analysis starts; Cancel terminates it. Nothing here makes a request, and nothing may panic
-//! on a file or on what a user types.
+//! written by `scripts/embed-worker.mjs` as a file beside the served page (or, in the single
+//! file, embedded in it and started from a Blob URL), and started only when an analysis
+//! starts; Cancel terminates it. Nothing here sends a frame anywhere, and nothing may panic on
+//! a file or on what a user types.
 //!
 //! Here: the section's state, `mount` and the status and problem lines. `table.rs` the file
 //! table and a manifest filling it in; `manifest.rs` the table as the worker's manifest;
@@ -66,7 +67,8 @@ thread_local! {
     static RESULT: RefCell<Option<Value>> = const { RefCell::new(None) };
 }
 
-/// A running analysis: the worker, its script's Blob URL, and its message handlers.
+/// A running analysis: the worker, its script's Blob URL (empty for the served page's file),
+/// and its message handlers.
 struct Running {
     worker: Worker,
     url: String,
