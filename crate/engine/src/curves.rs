@@ -128,7 +128,8 @@ pub fn request(sc: &Scenario, view: View, points: u32) -> SweepRequest {
             };
         }
     };
-    let report = crate::evaluate(sc);
+    // Signal and HDR top only: the detection figures are not needed for the range.
+    let report = crate::model::evaluate_parts(sc, &crate::model::resolve_lights(sc), false);
     let signal = report.signal_e;
     let saturation = regimes(sc).saturation_signal_e;
     // An HDR output holds light past the first readout's saturation: the view goes on to twice

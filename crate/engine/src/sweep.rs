@@ -9,7 +9,6 @@
 use serde::Serialize;
 use serde_json::Value;
 
-use crate::evaluate;
 use crate::keys::{self, LIGHT_AMOUNTS, SWEEPABLE};
 use crate::model::{evaluate_parts, resolve_lights};
 use crate::report::Report;
@@ -250,7 +249,8 @@ fn run(base: &Value, request: &SweepRequest, detection: bool) -> Result<Sweep, S
 #[must_use]
 #[allow(non_snake_case)] // symbols as in SCENARIO.md
 pub fn regimes(sc: &Scenario) -> Regimes {
-    let r = evaluate(sc);
+    // Noise figures only: the detection figures are not needed here.
+    let r = evaluate_parts(sc, &resolve_lights(sc), false);
     let b2 = f64::from(sc.exposure.binning).powi(2);
     let N = f64::from(sc.exposure.frames_averaged);
     // σ0²/N is the temporal variance with the photon shot part taken out (one-frame σ0² / N).

@@ -127,6 +127,14 @@ mod tests {
         engine::evaluate_json(&v.to_string()).unwrap()
     }
 
+    /// The area under a curve by trapezoids.
+    fn area(points: &[(f64, f64)]) -> f64 {
+        points
+            .windows(2)
+            .map(|w| (w[1].0 - w[0].0) * (w[1].1 + w[0].1) / 2.0)
+            .sum()
+    }
+
     #[test]
     fn the_plot_shows_both_distributions_and_the_threshold() {
         let r = report(1.0, 6.52, 1);
@@ -138,11 +146,7 @@ mod tests {
         assert_eq!(c.regions[0].from, tau);
         // Each curve is a density: its integral (trapezoids) is 1 within the plotted range.
         for l in &c.lines {
-            let area: f64 = l
-                .points
-                .windows(2)
-                .map(|w| (w[1].0 - w[0].0) * (w[1].1 + w[0].1) / 2.0)
-                .sum();
+            let area = area(&l.points);
             assert!((area - 1.0).abs() < 1e-3, "{}: {area}", l.label);
         }
         assert!(c.svg().contains("declared a signal"));
@@ -153,11 +157,7 @@ mod tests {
         let r = report(1.0, 6.52, 4);
         let c = chart(&r, 4).unwrap();
         for l in &c.lines {
-            let area: f64 = l
-                .points
-                .windows(2)
-                .map(|w| (w[1].0 - w[0].0) * (w[1].1 + w[0].1) / 2.0)
-                .sum();
+            let area = area(&l.points);
             assert!((area - 1.0).abs() < 1e-3, "{}: {area}", l.label);
         }
         // The signal curve peaks near one frame's mean charge, s + d.
