@@ -19,7 +19,7 @@ const env = setUp();
 
 const A = 'global-shutter-machine-vision';
 const B = 'cooled-scientific';
-const CHARTS = ['signal', 'exposure', 'light', 'temperature', 'budget'];
+const CHARTS = ['signal', 'exposure', 'light', 'temperature', 'budget', 'contrast'];
 const scratch = mkdtempSync(join(tmpdir(), 'noise-budget-curves-'));
 
 
@@ -220,6 +220,9 @@ test('charts: labelled, accessible, values by pointer and keys, bad points named
   assert.notEqual(last, first);
   await page.keyboard.press('ArrowLeft');
   assert.notEqual(await page.textContent('#readout-signal'), last);
+  // The contrast detection chart reads its probability in percent at each light level.
+  await page.focus('#chart-contrast');
+  assert.match(await page.textContent('#readout-contrast'), /^.+: contrast detection probability [\d.]+ ?% \(contrast [\d.]+ %, interval ± [\d.]+ % of it\)$/);
 
   // A bad points field is named, kept as typed, and the charts stay.
   await page.fill('#curve-points', '2.5k');

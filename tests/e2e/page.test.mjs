@@ -367,7 +367,7 @@ describe('the served page: keeping, sharing, keyboard, print, narrow column', ()
       assert.equal(pages, both ? 4 : 3, `${name} prints on ${pages} pages`);
       const layout = await page.$eval('#results', (e) => ({ breakBefore: getComputedStyle(e).breakBefore, columns: getComputedStyle(e).columnCount }));
       assert.deepEqual(layout, { breakBefore: 'page', columns: '2' }, name);
-      for (const id of ['svg-signal', 'svg-exposure', 'svg-light', 'svg-temperature', 'svg-budget']) {
+      for (const id of ['svg-signal', 'svg-exposure', 'svg-light', 'svg-temperature', 'svg-budget', 'svg-contrast']) {
         assert.ok(await page.isVisible(`#${id}`), `${name}: chart ${id} printed`);
       }
       assert.ok(!(await page.isVisible('#compare')), 'the comparison is left out of print while nothing is pinned');

@@ -60,6 +60,11 @@ fn bench(c: &mut Criterion) {
         g.bench_function(format!("1000 points of {key}, scene demo"), |b| {
             b.iter(|| engine::sweep::sweep(black_box(&scene), &request))
         });
+        // The page's curves: SNR and the contrast detection probability, no exact tails.
+        g.bench_function(
+            format!("1000 points of {key}, scene demo, curves' sweep"),
+            |b| b.iter(|| engine::sweep::sweep_without_detection(black_box(&scene), &request)),
+        );
     }
     g.finish();
 }

@@ -160,8 +160,8 @@ pub fn request(sc: &Scenario, view: View, points: u32) -> SweepRequest {
 
 /// A view's sweep of the scenario given as JSON (`base`, valid), with the range of
 /// [`request`] pulled towards the scenario's value wherever a calculator limit refuses an end.
-/// Its points carry no detection figures (null); [`crate::sweep::sweep`] over the same range
-/// gives them.
+/// Its points carry no exact detection figures (null) but the contrast detection probability;
+/// [`crate::sweep::sweep`] over the same range gives them all.
 ///
 /// # Errors
 /// The base scenario's problems, or the sweep's (for `points` out of range), naming the field.
@@ -184,7 +184,8 @@ pub fn view_sweep(base: &Value, view: View, points: u32) -> Result<Sweep, Scenar
             ),
         }]));
     }
-    // The curves draw SNR: the detection figures are left out (sweep::sweep_without_detection).
+    // The curves draw SNR and the contrast detection probability: the exact detection figures
+    // are left out (sweep::sweep_without_detection).
     crate::sweep::sweep_without_detection(base, &req)
 }
 

@@ -136,9 +136,10 @@ pub fn evaluate_with(sc: &Scenario, lights: &Lights) -> Report {
     evaluate_parts(sc, lights, true)
 }
 
-/// [`evaluate_with`], with the detection figures left out (all null) when `detection` is
-/// false: the page's curves draw SNR only, and the detection figures (exact tails, a contrast
-/// detection probability) cost several times the rest of an evaluation.
+/// [`evaluate_with`], with the detection figures left out when `detection` is false (all
+/// null but the contrast detection probability): the page's curves draw SNR and the CDP only,
+/// and the exact detection figures (tails, thresholds, photon counting) cost several times
+/// the rest of an evaluation.
 #[must_use]
 pub(crate) fn evaluate_parts(sc: &Scenario, lights: &Lights, detection: bool) -> Report {
     let base = pixel(
@@ -151,6 +152,8 @@ pub(crate) fn evaluate_parts(sc: &Scenario, lights: &Lights, detection: bool) ->
     let mut report = base.report;
     if detection {
         detection::add_detection(sc, &base.noise, &mut report);
+    } else {
+        detection::add_contrast(sc, &base.noise, &mut report);
     }
     if sc.sensor.colour.is_some() {
         extras::add_colour(sc, lights, &mut report);

@@ -91,9 +91,9 @@ pub fn sweep(base: &Value, request: &SweepRequest) -> Result<Sweep, ScenarioErro
     run(base, request, true)
 }
 
-/// [`sweep`] without the detection figures (null at every point): what the page's curves
-/// need, at a fraction of the cost (measured natively on 1000 points of three demos: 18–48 ms
-/// without them against 98–129 ms with them).
+/// [`sweep`] without the exact detection figures (null at every point; the contrast detection
+/// probability is kept): what the page's curves need, at a fraction of the cost (measured
+/// natively on 1000 points of three demos: 18–48 ms without them against 98–129 ms with them).
 ///
 /// # Errors
 /// As [`sweep`].

@@ -86,6 +86,8 @@ pub const CHART_LIGHT: &str = "chart-light";
 pub const CHART_TEMPERATURE: &str = "chart-temperature";
 /// The noise budget chart's slot.
 pub const CHART_BUDGET: &str = "chart-budget";
+/// The contrast detection chart's slot.
+pub const CHART_CONTRAST: &str = "chart-contrast";
 /// The charts' readouts.
 pub const READOUT_SIGNAL: &str = "readout-signal";
 /// The exposure chart's readout.
@@ -96,6 +98,8 @@ pub const READOUT_LIGHT: &str = "readout-light";
 pub const READOUT_TEMPERATURE: &str = "readout-temperature";
 /// The noise budget chart's readout.
 pub const READOUT_BUDGET: &str = "readout-budget";
+/// The contrast detection chart's readout.
+pub const READOUT_CONTRAST: &str = "readout-contrast";
 /// Pin the scenario.
 pub const PIN_SCENARIO: &str = "pin-scenario";
 /// What pinning did.

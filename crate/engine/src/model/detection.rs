@@ -70,6 +70,34 @@ fn summed_inputs(sc: &Scenario, noise: &OutputNoise, signal_e: f64) -> Detection
     }
 }
 
+/// The contrast detection probability of the scenario's output pixel at `signal` [e⁻]: a
+/// target patch at signal·(1 + C) against a reference at the signal, each with the model's
+/// full noise at its signal; `None` without signal.
+fn contrast_probability(sc: &Scenario, noise: &OutputNoise, signal: f64) -> Option<f64> {
+    let task = &sc.detection;
+    let patch = |s: f64| contrast::Patch {
+        mean_e: s,
+        variance_e2: noise.at(s).total(),
+    };
+    (signal > 0.0)
+        .then(|| {
+            contrast::contrast_detection_probability(
+                patch(signal * (1.0 + task.contrast)),
+                patch(signal),
+                task.contrast_interval,
+            )
+        })
+        .flatten()
+        .filter(|p| p.is_finite())
+}
+
+/// Only the contrast detection probability in `report.detection` (the rest stays null): what
+/// the curves need to draw it against light level, at a small part of the exact tails' cost.
+pub(crate) fn add_contrast(sc: &Scenario, noise: &OutputNoise, report: &mut Report) {
+    report.detection.contrast_detection_probability =
+        contrast_probability(sc, noise, report.signal_e);
+}
+
 /// Fill in `report.detection` for the scenario's output pixel and add the warnings.
 pub(crate) fn add_detection(sc: &Scenario, noise: &OutputNoise, report: &mut Report) {
     let signal = report.signal_e;
@@ -92,19 +120,7 @@ pub(crate) fn add_detection(sc: &Scenario, noise: &OutputNoise, report: &mut Rep
                 && c.miscount_average.is_finite()
         });
     let task = &sc.detection;
-    let patch = |s: f64| contrast::Patch {
-        mean_e: s,
-        variance_e2: noise.at(s).total(),
-    };
-    let cdp = (signal > 0.0)
-        .then(|| {
-            contrast::contrast_detection_probability(
-                patch(signal * (1.0 + task.contrast)),
-                patch(signal),
-                task.contrast_interval,
-            )
-        })
-        .flatten();
+    let cdp = contrast_probability(sc, noise, signal);
     report.detection = DetectionReport {
         threshold_e: per_frame(f.threshold_e),
         false_alarm_probability_achieved: finite(f.false_alarm_probability_achieved),

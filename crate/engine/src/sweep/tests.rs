@@ -102,6 +102,12 @@ fn a_sweep_without_detection_differs_only_in_the_detection_figures() {
         assert!(f.report.detection.signal_e.is_some());
         assert_eq!(l.report.detection.signal_e, None);
         assert_eq!(l.report.detection.detection_probability, None);
+        // The contrast detection probability is kept: the page draws it against light level.
+        assert!(f.report.detection.contrast_detection_probability.is_some());
+        assert_eq!(
+            f.report.detection.contrast_detection_probability,
+            l.report.detection.contrast_detection_probability
+        );
         let mut a = serde_json::to_value(&f.report).unwrap();
         let mut b = serde_json::to_value(&l.report).unwrap();
         a["detection"] = serde_json::Value::Null;

@@ -14,6 +14,7 @@ use engine::sweep::{Sweep, SweepPoint};
 use engine::Report;
 use serde_json::Value;
 
+use super::contrast;
 use crate::chart::{eng, Axis, Chart, Layer, Line, Marker, Region, Scale};
 use crate::display::{Numbers, Style};
 
@@ -30,16 +31,19 @@ pub enum ChartKind {
     Temperature,
     /// The noise budget's shares along a chosen view.
     Budget,
+    /// The contrast detection probability against the light's amount.
+    Contrast,
 }
 
 impl ChartKind {
     /// Every chart, in the page's order.
-    pub const ALL: [ChartKind; 5] = [
+    pub const ALL: [ChartKind; 6] = [
         ChartKind::Signal,
         ChartKind::Exposure,
         ChartKind::Light,
         ChartKind::Temperature,
         ChartKind::Budget,
+        ChartKind::Contrast,
     ];
 
     /// Its name in the page (`data-chart`) and in the SVG's id (`svg-NAME`).
@@ -51,6 +55,7 @@ impl ChartKind {
             ChartKind::Light => "light",
             ChartKind::Temperature => "temperature",
             ChartKind::Budget => "budget",
+            ChartKind::Contrast => "contrast",
         }
     }
 
@@ -64,7 +69,7 @@ impl ChartKind {
     #[must_use]
     pub fn view(self, budget_along: View) -> View {
         match self {
-            ChartKind::Signal | ChartKind::Light => View::Light,
+            ChartKind::Signal | ChartKind::Light | ChartKind::Contrast => View::Light,
             ChartKind::Exposure => View::Exposure,
             ChartKind::Temperature => View::Temperature,
             ChartKind::Budget => budget_along,
@@ -80,6 +85,7 @@ impl ChartKind {
             ChartKind::Light => "snr-vs-light-level",
             ChartKind::Temperature => "snr-vs-temperature",
             ChartKind::Budget => "noise-budget-along",
+            ChartKind::Contrast => "contrast-detection-vs-light-level",
         }
     }
 
@@ -89,7 +95,7 @@ impl ChartKind {
             ChartKind::Exposure => "exposure time",
             ChartKind::Light => "light level",
             ChartKind::Temperature => "temperature",
-            ChartKind::Budget => "",
+            ChartKind::Budget | ChartKind::Contrast => "",
         }
     }
 }
@@ -324,6 +330,17 @@ pub fn build(
     };
     let xs: Vec<f64> = sweep.points.iter().map(x_of).collect();
     let at = nearest(&xs, here_x);
+    if kind == ChartKind::Contrast {
+        let chart = contrast_chart(now, pins, k, &sweep, here_x, (&x_label, x_unit));
+        let markup = chart.svg();
+        return Some(Drawn {
+            chart,
+            markup,
+            xs,
+            at,
+            sweep,
+        });
+    }
     if kind == ChartKind::Budget {
         let chart = budget(&sweep, &xs, here_x, (&x_label, x_unit), x_scale);
         let markup = chart.svg();
@@ -449,6 +466,56 @@ pub fn build(
     })
 }
 
+/// The contrast detection probability against light level: the scenario on screen (unless it
+/// is a pin) and the pins whose light view varies the same quantity.
+fn contrast_chart(
+    now: &Now<'_>,
+    pins: &[PinCurves<'_>],
+    k: usize,
+    sweep: &Rc<Sweep>,
+    here_x: f64,
+    (label, unit): (&str, &'static str),
+) -> Chart {
+    let key = sweep.key.as_str();
+    let mut series = Vec::new();
+    let mut all_x: Vec<f64> = sweep.points.iter().map(|p| p.value).collect();
+    if !pins.iter().any(|p| p.on_screen) {
+        series.push(contrast::Series {
+            label: if pins.is_empty() {
+                "this scenario".into()
+            } else {
+                "on screen (not pinned)".into()
+            },
+            color: NOW_COLOR,
+            sweep,
+            here: (here_x, now.report),
+        });
+    }
+    let pin_views: Vec<(usize, Rc<Sweep>)> = pins
+        .iter()
+        .enumerate()
+        .filter_map(|(i, pin)| {
+            let ps = pin.views.get(k).cloned().flatten()?;
+            (ps.key == key).then_some((i, ps))
+        })
+        .collect();
+    for (i, ps) in &pin_views {
+        let Some(pin) = pins.get(*i) else { continue };
+        all_x.extend(ps.points.iter().map(|p| p.value));
+        let px = crate::fields::value_at(pin.value, key)
+            .and_then(Value::as_f64)
+            .unwrap_or(f64::NAN);
+        series.push(contrast::Series {
+            label: short(pin.name),
+            color: PIN_COLORS.get(*i).copied().unwrap_or(NOW_COLOR),
+            sweep: ps,
+            here: (px, pin.report),
+        });
+    }
+    let x = Axis::fitted(label, unit, Scale::Log, &all_x, X_DECADES);
+    contrast::chart(x, &series)
+}
+
 /// The stacked noise budget along a sweep, with the scenario as a vertical line.
 fn budget(
     sweep: &Sweep,
@@ -545,6 +612,10 @@ fn regimes(sc: &engine::Scenario, x: &Axis) -> Vec<Region> {
 /// The readout of one point of chart `kind`, whose sweep varies `key`.
 #[must_use]
 pub fn readout(kind: ChartKind, key: &str, p: &SweepPoint, numbers: &dyn Numbers) -> String {
+    if kind == ChartKind::Contrast {
+        let lead = format!("{} {}", axis_words(key), eng(p.value, axis_unit(key)));
+        return contrast::readout(&lead, &p.report, numbers);
+    }
     if kind == ChartKind::Budget {
         let parts: Vec<String> = SOURCES
             .iter()

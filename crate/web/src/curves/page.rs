@@ -261,6 +261,7 @@ fn slot(kind: ChartKind) -> Option<Element> {
         ChartKind::Light => dom::by_id(ids::CHART_LIGHT),
         ChartKind::Temperature => dom::by_id(ids::CHART_TEMPERATURE),
         ChartKind::Budget => dom::by_id(ids::CHART_BUDGET),
+        ChartKind::Contrast => dom::by_id(ids::CHART_CONTRAST),
     }
 }
 
@@ -272,6 +273,7 @@ fn set_readout(kind: ChartKind, text: Option<&str>) {
         ChartKind::Light => dom::set_text_of(ids::READOUT_LIGHT, text),
         ChartKind::Temperature => dom::set_text_of(ids::READOUT_TEMPERATURE, text),
         ChartKind::Budget => dom::set_text_of(ids::READOUT_BUDGET, text),
+        ChartKind::Contrast => dom::set_text_of(ids::READOUT_CONTRAST, text),
     }
 }
 
