@@ -7,10 +7,14 @@
 //
 // Messages in:  { manifest: "<manifest JSON text>", files: [File | ArrayBuffer, …] }
 //               { bench: { width, height, repeats } }
+//               { simulate: { id, scenario: "<scenario JSON>", seed: "<u64 as text>" } }
+//               { series: { id, scenario, seed, zip: true | false } }
 // Messages out: { type: 'progress', index, frame }  after each file (frame: "W × H, B-bit" or null)
 //               { type: 'done', result }            result: the JSON text of job::run
 //               { type: 'bench', ms }
-//               { type: 'failed', message }         the worker itself could not work
+//               { type: 'frame', id, result, rgba } result: the JSON of sim::frame, rgba its pixels
+//               { type: 'series', id, result, buffers } the zip, or the files in manifest order
+//               { type: 'failed', message, id }     the worker itself could not work
 function noiseBudgetBase64(b64) {
   if (typeof Uint8Array.fromBase64 === 'function') return Uint8Array.fromBase64(b64);
   const text = atob(b64);
@@ -31,7 +35,23 @@ self.onmessage = async (event) => {
   try {
     await noiseBudgetReady;
   } catch (err) {
-    self.postMessage({ type: 'failed', message: `the frame analysis could not start in this browser: ${err}` });
+    self.postMessage({ type: 'failed', id: data.simulate?.id ?? data.series?.id, message: `the frame analysis could not start in this browser: ${err}` });
+    return;
+  }
+  // The page's simulations (src/sim.rs): answers carry the request's id, buffers transferred.
+  if (data.simulate || data.series) {
+    const job = data.simulate ?? data.series;
+    try {
+      const parts = data.simulate
+        ? wasm_bindgen.simulate_frame(String(job.scenario ?? ''), String(job.seed ?? ''))
+        : wasm_bindgen.simulate_series(String(job.scenario ?? ''), String(job.seed ?? ''), Boolean(job.zip));
+      const [result, ...bytes] = parts;
+      const buffers = bytes.map((b) => b.buffer);
+      if (data.simulate) self.postMessage({ type: 'frame', id: job.id, result, rgba: buffers[0] ?? null }, buffers);
+      else self.postMessage({ type: 'series', id: job.id, result, buffers }, buffers);
+    } catch (err) {
+      self.postMessage({ type: 'failed', id: job.id, message: `the simulation stopped: ${err}` });
+    }
     return;
   }
   try {

@@ -1,5 +1,5 @@
-//! The worker's JavaScript interface: `analyse` for `boot.js`, and `pair_stats_ms` for
-//! `scripts/measure-frames.mjs`.
+//! The worker's JavaScript interface: `analyse`, `simulate_frame` and `simulate_series` for
+//! `boot.js`, and `pair_stats_ms` for `scripts/measure-frames.mjs`.
 //!
 //! Adapts JavaScript functions to the closures of [`crate::job`]; no rule or statistic here.
 //! A file JavaScript cannot give (an exception, or not bytes) becomes a message, never a panic.
@@ -7,7 +7,79 @@
 use js_sys::{Function, Uint8Array};
 use wasm_bindgen::prelude::*;
 
-use crate::job;
+use crate::{job, sim};
+
+/// The seed as the page sends it (text: a JavaScript number cannot hold every u64).
+fn seed_of(text: &str) -> Result<u64, String> {
+    text.trim()
+        .parse::<u64>()
+        .map_err(|_| format!("seed: a whole number from 0 to 18446744073709551615, got “{text}”"))
+}
+
+fn problem_json(message: &str) -> JsValue {
+    JsValue::from_str(&serde_json::json!({ "problem": message }).to_string())
+}
+
+/// The test-scene frame of a scenario (JSON text) with a seed (text): `[json, rgba]`, the JSON
+/// text of [`sim::frame`] and its RGBA bytes (empty on a problem).
+#[wasm_bindgen]
+#[must_use]
+pub fn simulate_frame(scenario_json: &str, seed: &str) -> js_sys::Array {
+    match seed_of(seed) {
+        Ok(seed) => {
+            let a = sim::frame(scenario_json, seed);
+            js_sys::Array::of2(&JsValue::from_str(&a.json), &Uint8Array::from(&a.rgba[..]))
+        }
+        Err(e) => js_sys::Array::of2(&problem_json(&e), &Uint8Array::new_with_length(0)),
+    }
+}
+
+/// The photon transfer series of a scenario's sensor. With `zip`: `[json, zip]`, the JSON
+/// `{"name": "….zip"}` and the archive of [`sim::series_zip`]; without: `[json, file…]`, the
+/// JSON `{"manifest": "…", "names": […]}` and each file's bytes in manifest order. On a
+/// problem `[{"problem": "…"}]`.
+#[wasm_bindgen]
+#[must_use]
+pub fn simulate_series(scenario_json: &str, seed: &str, zip: bool) -> js_sys::Array {
+    let out = js_sys::Array::new();
+    let seed = match seed_of(seed) {
+        Ok(s) => s,
+        Err(e) => {
+            out.push(&problem_json(&e));
+            return out;
+        }
+    };
+    if zip {
+        match sim::series_zip(scenario_json, seed) {
+            Ok(bytes) => {
+                let name = format!("noise-budget-series-seed-{seed}.zip");
+                out.push(&JsValue::from_str(
+                    &serde_json::json!({ "name": name }).to_string(),
+                ));
+                out.push(&Uint8Array::from(&bytes[..]));
+            }
+            Err(e) => {
+                out.push(&problem_json(&e));
+            }
+        }
+        return out;
+    }
+    match sim::series(scenario_json, seed) {
+        Ok(s) => {
+            let names: Vec<&str> = s.files.iter().map(|(n, _)| n.as_str()).collect();
+            out.push(&JsValue::from_str(
+                &serde_json::json!({ "manifest": s.manifest_json, "names": names }).to_string(),
+            ));
+            for (_, bytes) in &s.files {
+                out.push(&Uint8Array::from(&bytes[..]));
+            }
+        }
+        Err(e) => {
+            out.push(&problem_json(&e));
+        }
+    }
+    out
+}
 
 /// Analyse the frames a manifest lists. `read(index)` returns a file's bytes as a
 /// `Uint8Array` (or throws); `seen(index, text)` is called after each file with the frame's

@@ -7,9 +7,14 @@
 //! `scripts/embed-worker.mjs`) reads each file and posts progress and the result. It computes
 //! nothing itself: manifest rules, decoding, statistics and fits are the engine's
 //! (`engine::ptc::parse_manifest`, `engine::ptc::measure`), the same code as
-//! `noise-budget characterize`. Nothing here may panic on a file or on the manifest.
+//! `noise-budget characterize`. It also runs the page's simulations (`sim`: the test-scene
+//! frame and a photon transfer series, `engine::simulate`, the code of `noise-budget simulate`),
+//! so that neither the simulator nor its work is in the page's own wasm or thread; `zip` packs
+//! a series for download. Nothing here may panic on a file, a manifest or a scenario.
 
 pub mod job;
+pub mod sim;
+pub mod zip;
 
 #[cfg(target_arch = "wasm32")]
 mod bindings;
