@@ -15,7 +15,9 @@ use wasm_bindgen::{JsCast, JsValue};
 use web_sys::{Element, Event, HtmlButtonElement, HtmlInputElement, HtmlSelectElement};
 
 use crate::events::{on, on_id, when_settled, Action};
-use crate::{address, curves, demos, detection_plot, dom, fields, form, ids, plot, results, store};
+use crate::{
+    address, curves, demos, detection_plot, dom, fields, form, frame_ui, ids, plot, results, store,
+};
 
 /// Delay before the address bar and the browser's store follow an edit: edits in quick
 /// succession are written once (browsers throttle frequent `history.replaceState` calls).
@@ -88,6 +90,7 @@ fn wire(form_el: &Element) {
     on_id(ids::LOAD_SAVED, "click", |_| load_kept());
     on_id(ids::FORGET_SAVED, "click", |_| forget_kept());
     curves::wire(act);
+    frame_ui::wire();
     if !WINDOW_WIRED.with(Cell::get) {
         WINDOW_WIRED.with(|w| w.set(true));
         if let Some(w) = dom::window() {
@@ -141,6 +144,7 @@ pub fn recompute() {
             plot::show(&valid);
             detection_plot::show(&valid, &report);
             curves::show(&read.value, &report);
+            frame_ui::after_results(&read.value);
             FORM_VALID.with(|v| v.set(true));
             // The pins travel with the scenario (link, store, saved and kept files).
             LAST_GOOD.with(|g| *g.borrow_mut() = Some(curves::with_pins(read.value)));

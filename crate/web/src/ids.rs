@@ -100,6 +100,27 @@ pub const READOUT_TEMPERATURE: &str = "readout-temperature";
 pub const READOUT_BUDGET: &str = "readout-budget";
 /// The contrast detection chart's readout.
 pub const READOUT_CONTRAST: &str = "readout-contrast";
+// The simulated frame and series (frame_ui.rs).
+/// The section.
+pub const FRAME_VIEW: &str = "frame-view";
+/// Simulate the frame.
+pub const FRAME_RUN: &str = "frame-run";
+/// Its seed.
+pub const FRAME_SEED: &str = "frame-seed";
+/// What is wrong with the seed.
+pub const FRAME_SEED_PROBLEM: &str = "frame-seed-problem";
+/// One screen pixel per output pixel.
+pub const FRAME_ACTUAL_PIXELS: &str = "frame-actual-pixels";
+/// What the simulation did.
+pub const FRAME_STATUS: &str = "frame-status";
+/// The frames shown: the scenario's and a pinned one's.
+pub const FRAME_VIEWS: &str = "frame-views";
+/// Download the simulated series.
+pub const SERIES_DOWNLOAD: &str = "series-download";
+/// Hand the simulated series to Measure a camera.
+pub const SERIES_MEASURE: &str = "series-measure";
+/// What the series request did.
+pub const SERIES_STATUS: &str = "series-status";
 /// Pin the scenario.
 pub const PIN_SCENARIO: &str = "pin-scenario";
 /// What pinning did.

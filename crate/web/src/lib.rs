@@ -15,6 +15,7 @@ pub mod ids;
 #[cfg(not(target_arch = "wasm32"))]
 pub mod markup;
 pub mod plot;
+pub mod sim_words;
 pub mod svg;
 
 #[cfg(target_arch = "wasm32")]
@@ -25,6 +26,8 @@ pub mod dom;
 mod events;
 #[cfg(target_arch = "wasm32")]
 mod form;
+#[cfg(target_arch = "wasm32")]
+mod frame_ui;
 #[cfg(target_arch = "wasm32")]
 mod frames_plot;
 #[cfg(target_arch = "wasm32")]

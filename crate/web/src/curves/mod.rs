@@ -17,4 +17,4 @@ pub mod table;
 mod page;
 
 #[cfg(target_arch = "wasm32")]
-pub use page::{mark_stale, show, take_pins, wire, with_pins};
+pub use page::{first_pin, mark_stale, show, take_pins, wire, with_pins};

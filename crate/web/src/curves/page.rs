@@ -79,6 +79,19 @@ pub fn take_pins(value: Value) -> (Value, Vec<engine::Problem>) {
     (value, problems)
 }
 
+/// The first pinned scenario (its name and JSON), for the simulated frame beside the
+/// scenario's.
+#[must_use]
+pub fn first_pin() -> Option<(String, Value)> {
+    STATE.with(|s| {
+        let s = s.borrow();
+        s.pins
+            .list()
+            .first()
+            .map(|p| (p.name.clone(), p.value.clone()))
+    })
+}
+
 /// The form is not valid now: the curves keep the last valid scenario, which cannot be pinned.
 pub fn mark_stale() {
     STATE.with(|s| s.borrow_mut().valid = false);

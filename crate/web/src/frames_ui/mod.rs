@@ -33,8 +33,9 @@ mod run;
 mod table;
 
 use results::use_sensor;
+pub(crate) use run::new_worker;
 use run::{cancel, start_run};
-use table::{add_files, clear_files};
+use table::{add_files, add_frame_file, apply_manifest, clear_files};
 
 /// The id of the data block holding the worker's script. `scripts/embed-worker.mjs` adds it to
 /// the built page (it is not in `www/index.html`, so it is looked up without `dom::by_id`).
@@ -42,12 +43,13 @@ const WORKER_SCRIPT_ID: &str = "frames-worker-script";
 
 /// What a copy of the page without the frame worker says (the self-contained file is built
 /// without it by default, to stay within its size budget).
-const NO_WORKER: &str = "this copy of the page has no frame analysis: it was left out to keep \
+pub(crate) const NO_WORKER: &str =
+    "this copy of the page has no frame analysis: it was left out to keep \
      the self-contained file small. Open the served page (scripts/serve), or run \
      noise-budget characterize on a manifest of these files";
 
 /// Whether the page holds the frame worker's script.
-fn has_worker() -> bool {
+pub(crate) fn has_worker() -> bool {
     dom::document()
         .and_then(|d| d.get_element_by_id(WORKER_SCRIPT_ID))
         .is_some()
@@ -136,6 +138,28 @@ pub fn mount() {
     if !has_worker() {
         status(&format!("Note: {NO_WORKER}."));
     }
+}
+
+/// Put a simulated series (each file's name and bytes, and its manifest's text) in the table as
+/// if chosen, fill the table from the manifest and analyse it: "try Measure with simulated
+/// frames" (`frame_ui.rs`). The files are the worker's, made in this browser.
+pub(crate) fn try_simulated(files: &[(String, wasm_bindgen::JsValue)], manifest_text: &str) {
+    clear_files();
+    for (name, bytes) in files {
+        let parts = js_sys::Array::of1(bytes);
+        if let Ok(f) = File::new_with_buffer_source_sequence(&parts, name) {
+            add_frame_file(f);
+        }
+    }
+    let count = FILES.with(|fs| fs.borrow().len());
+    if let Some(t) = dom::by_id("measure-table") {
+        dom::set_hidden(&t, count == 0);
+    }
+    apply_manifest("the simulated series' manifest.json", manifest_text);
+    if let Some(s) = dom::by_id("measure") {
+        s.scroll_into_view();
+    }
+    start_run();
 }
 
 fn status(text: &str) {

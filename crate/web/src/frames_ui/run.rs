@@ -39,7 +39,7 @@ fn set_running(running: bool, total: u32) {
 /// `data-src`, so the page's HTML stays small and starts sooner), or from the script embedded
 /// in the self-contained file through a Blob URL. The second value is the Blob URL to revoke
 /// (empty for a file).
-fn new_worker() -> Result<(Worker, String), String> {
+pub(crate) fn new_worker() -> Result<(Worker, String), String> {
     let block = dom::document().and_then(|d| d.get_element_by_id(WORKER_SCRIPT_ID));
     if let Some(src) = block
         .as_ref()

@@ -45,7 +45,7 @@ pub(super) fn add_files(list: &FileList) {
     }
 }
 
-fn add_frame_file(f: File) {
+pub(super) fn add_frame_file(f: File) {
     let Some(body) = dom::by_id("measure-rows") else {
         return;
     };
@@ -145,7 +145,7 @@ fn text_of(v: &Value) -> String {
 }
 
 /// Fill the table from a manifest: each entry's file is matched by its name.
-fn apply_manifest(manifest_name: &str, text: &str) {
+pub(super) fn apply_manifest(manifest_name: &str, text: &str) {
     let v: Value = match serde_json::from_str(text) {
         Ok(v) => v,
         Err(e) => {

@@ -1,0 +1,145 @@
+//! The simulated frame's words: each patch's label (its light, the SNR measured on the
+//! simulated frame with its sampling uncertainty, and the model's) and the display mapping,
+//! from the frame worker's JSON of the engine's `SceneFrame` (`crate/frames-worker/src/sim.rs`).
+//!
+//! Pure, natively tested; no figure computed here, only read and worded. `frame_ui.rs` puts
+//! them on the page.
+
+use serde_json::Value;
+
+use crate::display::{Numbers, Style};
+
+/// One patch's label.
+#[derive(Debug, Clone, PartialEq)]
+pub struct PatchLabel {
+    /// "× 0.1" of the scenario's light.
+    pub light: String,
+    /// "12.3 ± 0.4", or "—" (the dark patch, or a clipped one).
+    pub measured: String,
+    /// "12.5", or "—".
+    pub model: String,
+    /// The measured SNR as the engine gave it (for `data-value`).
+    pub measured_value: Option<f64>,
+    /// The model's total SNR as the engine gave it.
+    pub model_value: Option<f64>,
+}
+
+fn number(v: &Value, pointer: &str) -> Option<f64> {
+    v.pointer(pointer)
+        .and_then(Value::as_f64)
+        .filter(|x| x.is_finite())
+}
+
+/// Each patch's label, in the engine's patch order (`frame` is the JSON's `frame` object).
+#[must_use]
+pub fn patch_labels(frame: &Value, numbers: &dyn Numbers) -> Vec<PatchLabel> {
+    let n = |x: f64| numbers.rounded(x, Style::Number);
+    frame
+        .get("patches")
+        .and_then(Value::as_array)
+        .map(Vec::as_slice)
+        .unwrap_or_default()
+        .iter()
+        .map(|p| {
+            let measured = number(p, "/measured/snr").zip(number(p, "/measured/snr_uncertainty"));
+            let model = number(p, "/model/snr_total");
+            PatchLabel {
+                measured_value: measured.map(|m| m.0),
+                model_value: model,
+                light: number(p, "/light_factor")
+                    .map_or_else(|| "—".into(), |f| format!("× {}", n(f))),
+                measured: measured
+                    .map_or_else(|| "—".into(), |(s, u)| format!("{} ± {}", n(s), n(u))),
+                model: model.map_or_else(|| "—".into(), n),
+            }
+        })
+        .collect()
+}
+
+/// The display mapping in words, with the engine's numbers.
+#[must_use]
+pub fn mapping_words(frame: &Value, numbers: &dyn Numbers) -> String {
+    let n = |p: &str| {
+        number(frame, p).map_or_else(|| "—".into(), |x| numbers.rounded(x, Style::Number))
+    };
+    let whole = |p: &str| {
+        frame
+            .pointer(p)
+            .and_then(Value::as_u64)
+            .map_or_else(|| "—".into(), |x| x.to_string())
+    };
+    format!(
+        "{} × {} output pixels, seed {}. Shown linear in light from black at {} DN (black level, dark and background) to white at {} DN (saturation), then with a display gamma of {}.",
+        whole("/width"),
+        whole("/height"),
+        whole("/seed"),
+        n("/display/dark_dn"),
+        n("/display/white_dn"),
+        n("/display/gamma"),
+    )
+}
+
+#[cfg(test)]
+#[allow(clippy::unwrap_used, clippy::indexing_slicing)]
+mod tests {
+    use super::{mapping_words, patch_labels};
+    use crate::display::{Numbers, Style};
+
+    struct Plain;
+    impl Numbers for Plain {
+        fn rounded(&self, x: f64, _: Style) -> String {
+            format!("{x:.2}")
+        }
+        fn full(&self, x: f64) -> String {
+            format!("{x}")
+        }
+    }
+
+    #[test]
+    fn labels_and_mapping_are_the_engine_frames_numbers() {
+        // The engine's own frame, through the JSON the worker sends.
+        let sc = engine::validate::scenario_from_json(engine::demos::DEMOS[0].json).unwrap();
+        let f = engine::simulate::frame(&sc, 7, engine::simulate::FrameSize::new(96, 72).unwrap())
+            .unwrap();
+        let v = serde_json::to_value(&f).unwrap();
+        let labels = patch_labels(&v, &Plain);
+        assert_eq!(labels.len(), f.patches.len());
+        for (l, p) in labels.iter().zip(&f.patches) {
+            assert_eq!(l.light, format!("× {:.2}", p.light_factor));
+            match (
+                &p.model,
+                &p.measured
+                    .as_ref()
+                    .and_then(|m| m.snr.zip(m.snr_uncertainty)),
+            ) {
+                (Some(m), _) => assert_eq!(l.model, format!("{:.2}", m.snr_total)),
+                (None, _) => assert_eq!(l.model, "—"),
+            }
+        }
+        assert!(labels.iter().any(|l| l.measured.contains(" ± ")));
+        assert!(
+            labels.iter().any(|l| l.measured == "—"),
+            "the dark patch has no SNR"
+        );
+        let words = mapping_words(&v, &Plain);
+        assert!(
+            words.starts_with("96 × 72 output pixels, seed 7."),
+            "{words}"
+        );
+        assert!(
+            words.contains(&format!("white at {:.2} DN", f.display.white_dn)),
+            "{words}"
+        );
+    }
+
+    #[test]
+    fn a_frame_missing_its_figures_gets_dashes_not_a_panic() {
+        let v = serde_json::json!({"patches": [{"light_factor": "x"}, {}]});
+        let labels = patch_labels(&v, &Plain);
+        assert_eq!(labels.len(), 2);
+        assert!(labels
+            .iter()
+            .all(|l| l.light == "—" && l.model == "—" && l.measured == "—"));
+        assert!(mapping_words(&serde_json::Value::Null, &Plain).starts_with("— × —"));
+    }
+}
