@@ -63,8 +63,13 @@ fn bench(c: &mut Criterion) {
         // The page's curves: SNR and the contrast detection probability, no exact tails.
         g.bench_function(
             format!("1000 points of {key}, scene demo, curves' sweep"),
-            |b| b.iter(|| engine::sweep::sweep_without_detection(black_box(&scene), &request)),
+            |b| {
+                b.iter(|| engine::sweep::sweep_without_detection(black_box(&scene), &request, true))
+            },
         );
+        g.bench_function(format!("1000 points of {key}, scene demo, SNR only"), |b| {
+            b.iter(|| engine::sweep::sweep_without_detection(black_box(&scene), &request, false))
+        });
     }
     g.finish();
 }

@@ -129,7 +129,11 @@ pub fn request(sc: &Scenario, view: View, points: u32) -> SweepRequest {
         }
     };
     // Signal and HDR top only: the detection figures are not needed for the range.
-    let report = crate::model::evaluate_parts(sc, &crate::model::resolve_lights(sc), false);
+    let report = crate::model::evaluate_parts(
+        sc,
+        &crate::model::resolve_lights(sc),
+        crate::model::Figures::Snr,
+    );
     let signal = report.signal_e;
     let saturation = regimes(sc).saturation_signal_e;
     // An HDR output holds light past the first readout's saturation: the view goes on to twice
@@ -160,8 +164,8 @@ pub fn request(sc: &Scenario, view: View, points: u32) -> SweepRequest {
 
 /// A view's sweep of the scenario given as JSON (`base`, valid), with the range of
 /// [`request`] pulled towards the scenario's value wherever a calculator limit refuses an end.
-/// Its points carry no exact detection figures (null) but the contrast detection probability;
-/// [`crate::sweep::sweep`] over the same range gives them all.
+/// Its points carry no exact detection figures (null), and the contrast detection probability
+/// only on the light view; [`crate::sweep::sweep`] over the same range gives them all.
 ///
 /// # Errors
 /// The base scenario's problems, or the sweep's (for `points` out of range), naming the field.
@@ -184,9 +188,10 @@ pub fn view_sweep(base: &Value, view: View, points: u32) -> Result<Sweep, Scenar
             ),
         }]));
     }
-    // The curves draw SNR and the contrast detection probability: the exact detection figures
-    // are left out (sweep::sweep_without_detection).
-    crate::sweep::sweep_without_detection(base, &req)
+    // The curves draw SNR, and the contrast detection probability against light level: the
+    // exact detection figures are left out, and the CDP off the light view
+    // (sweep::sweep_without_detection).
+    crate::sweep::sweep_without_detection(base, &req, view == View::Light)
 }
 
 /// `end`, or the nearest value towards `anchor` (by factors of ten on a log view, by halves on

@@ -133,15 +133,26 @@ pub fn resolve_lights(sc: &Scenario) -> Lights {
 /// [`evaluate`] with the lights already resolved for this scenario.
 #[must_use]
 pub fn evaluate_with(sc: &Scenario, lights: &Lights) -> Report {
-    evaluate_parts(sc, lights, true)
+    evaluate_parts(sc, lights, Figures::All)
 }
 
-/// [`evaluate_with`], with the detection figures left out when `detection` is false (all
-/// null but the contrast detection probability): the page's curves draw SNR and the CDP only,
-/// and the exact detection figures (tails, thresholds, photon counting) cost several times
-/// the rest of an evaluation.
+/// Which detection figures an evaluation computes: the page's curves draw SNR, and the CDP
+/// against light level only, while the exact detection figures (tails, thresholds, photon
+/// counting) cost several times the rest of an evaluation and the CDP alone 4–8× it
+/// (the `sweep` benchmark).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub(crate) enum Figures {
+    /// Every figure of the report.
+    All,
+    /// The detection object null but its contrast detection probability.
+    Contrast,
+    /// The detection object null.
+    Snr,
+}
+
+/// [`evaluate_with`], with only the detection figures `figures` asks for.
 #[must_use]
-pub(crate) fn evaluate_parts(sc: &Scenario, lights: &Lights, detection: bool) -> Report {
+pub(crate) fn evaluate_parts(sc: &Scenario, lights: &Lights, figures: Figures) -> Report {
     let base = pixel(
         sc,
         &sc.sensor,
@@ -150,10 +161,10 @@ pub(crate) fn evaluate_parts(sc: &Scenario, lights: &Lights, detection: bool) ->
         lights.background.as_ref(),
     );
     let mut report = base.report;
-    if detection {
-        detection::add_detection(sc, &base.noise, &mut report);
-    } else {
-        detection::add_contrast(sc, &base.noise, &mut report);
+    match figures {
+        Figures::All => detection::add_detection(sc, &base.noise, &mut report),
+        Figures::Contrast => detection::add_contrast(sc, &base.noise, &mut report),
+        Figures::Snr => {}
     }
     if sc.sensor.colour.is_some() {
         extras::add_colour(sc, lights, &mut report);

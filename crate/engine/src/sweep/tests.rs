@@ -94,7 +94,12 @@ fn a_sweep_without_detection_differs_only_in_the_detection_figures() {
         spacing: super::Spacing::Log,
     };
     let full = super::sweep(&base, &req).unwrap();
-    let lean = super::sweep_without_detection(&base, &req).unwrap();
+    let lean = super::sweep_without_detection(&base, &req, true).unwrap();
+    let snr_only = super::sweep_without_detection(&base, &req, false).unwrap();
+    for (s, l) in snr_only.points.iter().zip(&lean.points) {
+        assert_eq!(s.report.snr, l.report.snr);
+        assert_eq!(s.report.detection.contrast_detection_probability, None);
+    }
     assert_eq!(full.points.len(), lean.points.len());
     for (f, l) in full.points.iter().zip(&lean.points) {
         assert_eq!(f.value, l.value);

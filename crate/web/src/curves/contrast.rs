@@ -33,10 +33,23 @@ fn percent(r: &Report) -> Option<f64> {
 
 /// A fraction in percent with at most three decimals, trailing zeros dropped ("10 %",
 /// "2.5 %"): the task's inputs, written as entered.
+/// Rounded with integers, so the text never depends on float formatting's precision rules.
 fn pct(x: f64) -> String {
-    let t = format!("{:.3}", x * 100.0);
-    let t = t.trim_end_matches('0').trim_end_matches('.');
-    format!("{t} %")
+    let thousandths = (x * 100_000.0).round();
+    if !thousandths.is_finite() || thousandths.abs() > 1e15 {
+        return "— %".into();
+    }
+    #[allow(clippy::cast_possible_truncation)] // |value| ≤ 1e15, checked above
+    let t = thousandths as i64;
+    let sign = if t < 0 { "−" } else { "" };
+    let (whole, frac) = (t.abs() / 1000, t.abs() % 1000);
+    let frac = format!("{frac:03}");
+    let frac = frac.trim_end_matches('0');
+    if frac.is_empty() {
+        format!("{sign}{whole} %")
+    } else {
+        format!("{sign}{whole}.{frac} %")
+    }
 }
 
 /// The task in words: the Weber contrast and the confidence interval of a report.
@@ -235,6 +248,16 @@ mod tests {
         );
         assert!(text.starts_with("photon flux at the sensor "), "{text}");
         assert!(text.contains(": contrast detection probability "), "{text}");
+    }
+
+    #[test]
+    fn percentages_are_written_as_entered() {
+        // Arithmetic: fractions × 100, at most three decimals, trailing zeros dropped.
+        assert_eq!(super::pct(0.1), "10 %");
+        assert_eq!(super::pct(0.025), "2.5 %");
+        assert_eq!(super::pct(0.123_456), "12.346 %");
+        assert_eq!(super::pct(1.0), "100 %");
+        assert_eq!(super::pct(f64::NAN), "— %");
     }
 
     #[test]
