@@ -39,7 +39,7 @@ fn reference_8() -> Value {
             "system_gain_dn_per_e": 1000},
         "light": {"photons_per_pixel": 6.52},
         "exposure": {"time_s": 0.01},
-        "detection": {"false_alarm_probability": 1e-3, "pixels_per_frame": 1_000_000}
+        "detection": {"false_alarm_probability": 1e-3, "pixels": 1_000_000}
     })
 }
 
@@ -120,9 +120,9 @@ fn references_8_row_through_the_report() {
 }
 
 #[test]
-fn references_8_s90_with_required_probability_0_9() {
+fn references_8_s90_with_detection_probability_0_9() {
     let mut v = reference_8();
-    v["detection"]["required_probability"] = json!(0.9);
+    v["detection"]["detection_probability"] = json!(0.9);
     let r = report_of(&v);
     // REFERENCES.md §8, σ_r = 1.0: s for P_D = 90 % 6.5564, Gauss 6.6533.
     assert_close(figure(&r, "signal_e"), 6.5564, FOUR_DECIMALS, "s90 exact");
@@ -139,7 +139,7 @@ fn references_8_s90_with_required_probability_0_9() {
 #[test]
 fn the_frame_false_alarm_is_one_minus_the_product_over_pixels() {
     let mut v = reference_8();
-    v["detection"]["pixels_per_frame"] = json!(1000);
+    v["detection"]["pixels"] = json!(1000);
     let r = report_of(&v);
     // 1 − (1 − 1e-3)^1000 = 0.6323045752290363 (numpy: 1 - (1 - 1e-3)**1000).
     assert_rel(
@@ -162,7 +162,7 @@ fn the_frame_false_alarm_is_one_minus_the_product_over_pixels() {
         .any(|w| w["code"] == "detection_frame_false_alarm_likely"
             && w["concerns"][0] == "detection.frame_false_alarm_probability"));
     // One pixel searched: the frame's probability is the pixel's, no warning.
-    v["detection"]["pixels_per_frame"] = json!(1);
+    v["detection"]["pixels"] = json!(1);
     let r = report_of(&v);
     assert_rel(
         figure(&r, "frame_false_alarm_probability"),
@@ -279,7 +279,7 @@ fn sub_electron_read_noise_warns_where_the_gaussian_picture_misleads() {
     // σ_r = 0.3 e⁻ (REFERENCES.md §8: "at σ_r ≤ 0.3 the Gaussian approximation is wrong").
     let mut v = reference_8();
     v["sensor"]["read_noise_e"] = json!(0.3);
-    v["detection"]["pixels_per_frame"] = json!(1);
+    v["detection"]["pixels"] = json!(1);
     let r = report_of(&v);
     let warnings = r["warnings"].as_array().unwrap();
     let find = |code: &str| warnings.iter().find(|w| w["code"] == code);
@@ -324,22 +324,22 @@ fn bad_detection_keys_are_named_with_their_rule() {
             json!(-0.1),
             "must be > 0, got -0.1",
         ),
-        ("required_probability", json!(0), "must be > 0, got 0"),
-        ("required_probability", json!(1), "must be < 1, got 1"),
-        ("required_probability", json!(1.5), "must be < 1, got 1.5"),
-        ("required_probability", json!(-0.1), "must be > 0, got -0.1"),
+        ("detection_probability", json!(0), "must be > 0, got 0"),
+        ("detection_probability", json!(1), "must be < 1, got 1"),
+        ("detection_probability", json!(1.5), "must be < 1, got 1.5"),
         (
-            "pixels_per_frame",
+            "detection_probability",
+            json!(-0.1),
+            "must be > 0, got -0.1",
+        ),
+        (
+            "pixels",
             json!(0),
             "must be a whole number from 1 to 4000000000, got 0",
         ),
+        ("pixels", json!(2.5), "must be a whole number, got 2.5"),
         (
-            "pixels_per_frame",
-            json!(2.5),
-            "must be a whole number, got 2.5",
-        ),
-        (
-            "pixels_per_frame",
+            "pixels",
             json!(-3),
             "must be a whole number from 1 to 4000000000, got -3",
         ),
@@ -364,12 +364,14 @@ fn bad_detection_keys_are_named_with_their_rule() {
     }
     // Every problem at once, each named; an unknown key with a hint.
     let mut v = reference_8();
-    v["detection"] = json!({"false_alarm_probability": 0, "pixels_per_frame": 0.5,
-        "contrast": 0, "pixels": 3});
+    // The names of an earlier version (required_probability, pixels_per_frame) are unknown
+    // keys now, named with the one meant.
+    v["detection"] = json!({"false_alarm_probability": 0, "pixels": 0.5,
+        "contrast": 0, "pixels_per_frame": 3});
     let got = problems(&v);
     assert_eq!(got.len(), 4, "{got:?}");
     assert!(
-        got[3].starts_with("detection.pixels: unknown key"),
+        got[3].starts_with("detection.pixels_per_frame: unknown key"),
         "{got:?}"
     );
     v["detection"] = json!(3);
@@ -385,8 +387,8 @@ fn a_scenario_without_detection_takes_every_default() {
     v.as_object_mut().unwrap().remove("detection");
     let without = report_of(&v);
     // (reference_8 searches a million pixels; the default is one.)
-    v["detection"] = json!({"false_alarm_probability": 1e-3, "required_probability": 0.5,
-        "pixels_per_frame": 1, "contrast": 0.1, "contrast_interval": 0.5});
+    v["detection"] = json!({"false_alarm_probability": 1e-3, "detection_probability": 0.5,
+        "pixels": 1, "contrast": 0.1, "contrast_interval": 0.5});
     // The defaults of docs/scenario-format.md (common practice, no source; REFERENCES §8's
     // check value for p_fa; ε from Geese et al. 2018, from memory).
     assert_eq!(without, report_of(&v));
@@ -443,8 +445,8 @@ fn scenario_strategy() -> impl Strategy<Value = Value> {
                     "light": {"photons_per_pixel": 10f64.powf(log_photons)},
                     "exposure": {"time_s": 0.1, "binning": b, "frames_averaged": frames,
                         "binning_mode": if charge { "charge" } else { "digital" }},
-                    "detection": {"false_alarm_probability": pfa, "required_probability": pd,
-                        "pixels_per_frame": m, "contrast": if c == 0.0 { 0.1 } else { c },
+                    "detection": {"false_alarm_probability": pfa, "detection_probability": pd,
+                        "pixels": m, "contrast": if c == 0.0 { 0.1 } else { c },
                         "contrast_interval": eps}
                 })
             },
@@ -473,7 +475,7 @@ proptest! {
     #[test]
     fn detection_figures_are_finite_or_null(v in scenario_strategy()) {
         let pfa = v["detection"]["false_alarm_probability"].as_f64().unwrap();
-        let pd = v["detection"]["required_probability"].as_f64().unwrap();
+        let pd = v["detection"]["detection_probability"].as_f64().unwrap();
         let usable = |p: f64| (1e-15..=1.0 - 1e-15).contains(&p);
         match engine::validate::scenario_from_value(&v) {
             Ok(sc) => {

@@ -339,7 +339,7 @@ fn detection_block(o: &mut String, scenario: &Scenario, r: &Report) {
         o,
         "detection (false alarm {} per pixel, {} pixels per frame; exact, Gaussian in brackets)",
         num(task.false_alarm_probability),
-        num(f64::from(task.pixels_per_frame))
+        num(f64::from(task.pixels))
     );
     let _ = writeln!(
         o,
@@ -351,7 +351,7 @@ fn detection_block(o: &mut String, scenario: &Scenario, r: &Report) {
     let _ = writeln!(
         o,
         "  signal for p_d {:<10} {} ({})",
-        num(task.required_probability),
+        num(task.detection_probability),
         e(d.signal_e),
         e(d.signal_e_gaussian)
     );

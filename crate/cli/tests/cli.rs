@@ -339,7 +339,7 @@ fn sweep_json_and_bad_ranges() {
 const DETECTION_SCENARIO: &str = r#"{"version":1,"sensor":{"pixel_pitch_um":3.45,
   "quantum_efficiency":0.5,"full_well_e":10000,"read_noise_e":1.0,"dark_current_e_per_s":1,
   "adc_bits":32,"system_gain_dn_per_e":1000},"light":{"photons_per_pixel":6.52},
-  "exposure":{"time_s":0.01},"detection":{"pixels_per_frame":1}}"#;
+  "exposure":{"time_s":0.01},"detection":{"pixels":1}}"#;
 
 #[test]
 fn the_table_shows_the_detection_figures() {
@@ -366,16 +366,15 @@ fn the_table_shows_the_detection_figures() {
     // A million pixels searched: a false alarm in nearly every frame (1 − (1 − 1e-3)^1e6),
     // and the warning that says so, in the table too.
     let many = DETECTION_SCENARIO.replace(
-        r#""detection":{"pixels_per_frame":1}"#,
-        r#""detection":{"pixels_per_frame":1000000}"#,
+        r#""detection":{"pixels":1}"#,
+        r#""detection":{"pixels":1000000}"#,
     );
     let path = temp_file("detection-many.json", many.as_bytes());
     let t = String::from_utf8_lossy(&run(&["eval", "--table", &path], None).stdout).to_string();
     assert!(t.contains("1000000 pixels per frame"), "{t}");
     assert!(t.contains("[detection_frame_false_alarm_likely]"), "{t}");
     // The default is one pixel: no such warning.
-    let defaults =
-        DETECTION_SCENARIO.replace(r#""detection":{"pixels_per_frame":1}"#, r#""x_note":0"#);
+    let defaults = DETECTION_SCENARIO.replace(r#""detection":{"pixels":1}"#, r#""x_note":0"#);
     let path = temp_file("detection-defaults.json", defaults.as_bytes());
     let t = String::from_utf8_lossy(&run(&["eval", "--table", &path], None).stdout).to_string();
     assert!(!t.contains("[detection_frame_false_alarm_likely]"), "{t}");

@@ -246,9 +246,9 @@ pub struct Detection {
     /// False-alarm probability per pixel, p_fa, in (0, 1).
     pub false_alarm_probability: f64,
     /// Detection probability p_d for which the detection signal is found, in (0, 1).
-    pub required_probability: f64,
+    pub detection_probability: f64,
     /// Pixels M searched per frame, ≥ 1.
-    pub pixels_per_frame: u32,
+    pub pixels: u32,
     /// Weber contrast C of the target patch against the reference patch: non-zero, > −1.
     pub contrast: f64,
     /// Confidence interval ε of the contrast detection probability, in (0, 1].

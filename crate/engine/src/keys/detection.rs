@@ -42,8 +42,8 @@ pub const FALSE_ALARM_PROBABILITY: Key = detection(
 );
 
 /// The detection probability the detection signal is found for.
-pub const REQUIRED_PROBABILITY: Key = detection(
-    "detection.required_probability",
+pub const DETECTION_PROBABILITY: Key = detection(
+    "detection.detection_probability",
     probability(DEFAULT_DETECTION_PROBABILITY),
 )
 .unit(Unit::new("probability", "1"))
@@ -55,8 +55,8 @@ pub const REQUIRED_PROBABILITY: Key = detection(
 );
 
 /// Pixels searched per frame.
-pub const PIXELS_PER_FRAME: Key = detection(
-    "detection.pixels_per_frame",
+pub const PIXELS_SEARCHED: Key = detection(
+    "detection.pixels",
     Rule::Whole {
         // One: the per-frame figure is the per-pixel one until the pixels searched are given
         // (a default of a megapixel put a false-alarm warning on every scenario).
@@ -128,8 +128,8 @@ pub(super) const TOP_KEYS: &[Key] = &[DETECTION];
 /// The `detection` object's keys, in the order the page shows them.
 pub(super) const KEYS: &[Key] = &[
     FALSE_ALARM_PROBABILITY,
-    REQUIRED_PROBABILITY,
-    PIXELS_PER_FRAME,
+    DETECTION_PROBABILITY,
+    PIXELS_SEARCHED,
     CONTRAST,
     CONTRAST_INTERVAL,
 ];

@@ -65,8 +65,8 @@ fn summed_inputs(sc: &Scenario, noise: &OutputNoise, signal_e: f64) -> Detection
         dark_e: frames * (noise.dark_e + noise.background_e),
         read_variance_e2: frames * noise.reads * noise.per_read_e2(),
         false_alarm_probability: task.false_alarm_probability,
-        detection_probability: task.required_probability,
-        pixels: u64::from(task.pixels_per_frame),
+        detection_probability: task.detection_probability,
+        pixels: u64::from(task.pixels),
     }
 }
 
@@ -161,7 +161,7 @@ pub(crate) fn add_detection(sc: &Scenario, noise: &OutputNoise, report: &mut Rep
                             "The Gaussian approximation puts the signal detected with probability \
                              {} at {} e⁻, the exact Poisson–Gaussian sum at {} e⁻: at so few \
                              electrons the charge is not Gaussian. Use the exact figures.",
-                            sig(task.required_probability),
+                            sig(task.detection_probability),
                             sig(gauss),
                             sig(exact)
                         ),
@@ -212,7 +212,7 @@ pub(crate) fn add_detection(sc: &Scenario, noise: &OutputNoise, report: &mut Rep
                      false alarm somewhere in the frame with probability {}: more likely than \
                      not. For {} per frame, each pixel needs {}.",
                     sig(task.false_alarm_probability),
-                    task.pixels_per_frame,
+                    task.pixels,
                     d.frame_false_alarm_probability
                         .map_or_else(|| "—".to_string(), sig),
                     sig(task.false_alarm_probability),

@@ -12,12 +12,12 @@ use crate::scenario::Detection;
 /// The detection task of the object in `f`.
 pub(super) fn detection(p: &mut Problems, f: &mut Fields<'_>) -> Option<Detection> {
     use keys::{
-        CONTRAST, CONTRAST_INTERVAL, FALSE_ALARM_PROBABILITY, PIXELS_PER_FRAME,
-        REQUIRED_PROBABILITY,
+        CONTRAST, CONTRAST_INTERVAL, DETECTION_PROBABILITY, FALSE_ALARM_PROBABILITY,
+        PIXELS_SEARCHED,
     };
     let false_alarm = f.number_key(p, key!(FALSE_ALARM_PROBABILITY));
-    let required = f.number_key(p, key!(REQUIRED_PROBABILITY));
-    let pixels = f.whole_key(p, key!(PIXELS_PER_FRAME));
+    let required = f.number_key(p, key!(DETECTION_PROBABILITY));
+    let pixels = f.whole_key(p, key!(PIXELS_SEARCHED));
     let contrast = f.number_key(p, key!(CONTRAST));
     let interval = f.number_key(p, key!(CONTRAST_INTERVAL));
     if contrast == Some(0.0) {
@@ -29,8 +29,8 @@ pub(super) fn detection(p: &mut Problems, f: &mut Fields<'_>) -> Option<Detectio
     f.finish(p);
     Some(Detection {
         false_alarm_probability: false_alarm?,
-        required_probability: required?,
-        pixels_per_frame: pixels?,
+        detection_probability: required?,
+        pixels: pixels?,
         contrast: contrast.filter(|c| *c != 0.0)?,
         contrast_interval: interval?,
     })
