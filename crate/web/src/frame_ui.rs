@@ -23,7 +23,7 @@ use web_sys::{
 
 use crate::display::Browser;
 use crate::events::on_id;
-use crate::sim_words::{mapping_words, patch_labels};
+use crate::sim_words::{mapping_words, patch_labels, patch_marks};
 use crate::{curves, dom, frames_ui, ids};
 
 /// The simulation worker: started on first use and kept (it holds the compiled wasm).
@@ -359,6 +359,22 @@ fn frame_figure(title: &str, answer: &Value, rgba: Option<&[u8]>) -> Option<Elem
     {
         if let Ok(img) = ImageData::new_with_u8_clamped_array_and_sh(Clamped(px), w, h) {
             let _ = ctx.put_image_data(&img, 0.0, 0.0);
+        }
+        // Each patch's number, as the table gives it, in a corner of its cell: written on a
+        // small dark box so it reads on bright and dark patches alike.
+        let size = (f64::from(h) / 30.0).clamp(8.0, 16.0);
+        #[allow(clippy::cast_possible_truncation, clippy::cast_sign_loss)] // 8 ≤ size ≤ 16
+        let px_size = size.round() as u32;
+        ctx.set_font(&format!("600 {px_size}px sans-serif"));
+        ctx.set_text_baseline("top");
+        for (x, y, n) in patch_marks(frame) {
+            // Digits are about 0.6 em wide in a sans-serif face.
+            #[allow(clippy::cast_precision_loss)] // a patch number has one or two digits
+            let width = 0.62 * size * n.len() as f64;
+            ctx.set_fill_style_str("rgba(0, 0, 0, 0.6)");
+            ctx.fill_rect(x + 1.0, y + 1.0, width + 4.0, size + 3.0);
+            ctx.set_fill_style_str("#ffffff");
+            let _ = ctx.fill_text(&n, x + 3.0, y + 2.5);
         }
     }
     let _ = fig.append_child(&canvas);

@@ -56,6 +56,25 @@ pub fn patch_labels(frame: &Value, numbers: &dyn Numbers) -> Vec<PatchLabel> {
         .collect()
 }
 
+/// Where each patch's number is written on the picture: its cell's top-left corner, in
+/// output pixels, with the number the patch table gives it (from 1, in the engine's order).
+#[must_use]
+pub fn patch_marks(frame: &Value) -> Vec<(f64, f64, String)> {
+    frame
+        .get("patches")
+        .and_then(Value::as_array)
+        .map(Vec::as_slice)
+        .unwrap_or_default()
+        .iter()
+        .enumerate()
+        .filter_map(|(i, p)| {
+            let x = number(p, "/cell/x")?;
+            let y = number(p, "/cell/y")?;
+            Some((x, y, (i + 1).to_string()))
+        })
+        .collect()
+}
+
 /// The display mapping in words, with the engine's numbers.
 #[must_use]
 pub fn mapping_words(frame: &Value, numbers: &dyn Numbers) -> String {
@@ -130,6 +149,20 @@ mod tests {
             words.contains(&format!("white at {:.2} DN", f.display.white_dn)),
             "{words}"
         );
+    }
+
+    #[test]
+    fn each_patch_is_numbered_at_its_cells_corner() {
+        let sc = engine::validate::scenario_from_json(engine::demos::DEMOS[0].json).unwrap();
+        let f = engine::simulate::frame(&sc, 7, engine::simulate::FrameSize::new(96, 72).unwrap())
+            .unwrap();
+        let v = serde_json::to_value(&f).unwrap();
+        let marks = super::patch_marks(&v);
+        assert_eq!(marks.len(), f.patches.len());
+        for (i, ((x, y, n), p)) in marks.iter().zip(&f.patches).enumerate() {
+            assert_eq!((*x, *y), (f64::from(p.cell.x), f64::from(p.cell.y)));
+            assert_eq!(n, &(i + 1).to_string());
+        }
     }
 
     #[test]
