@@ -77,19 +77,50 @@ pub(crate) fn widen_into(samples: Samples, data: &[u8], out: &mut Vec<u16>) {
                 *o = u16::from(*b);
             }
         }
-        Samples::Be16(_) => {
-            for (o, p) in out.iter_mut().zip(data.chunks_exact(2)) {
-                if let &[hi, lo] = p {
-                    *o = u16::from_be_bytes([hi, lo]);
-                }
-            }
+        Samples::Be16(_) => widen_16::<true>(data, out),
+        Samples::Le16(_) => widen_16::<false>(data, out),
+    }
+}
+
+/// `out[i]` = the i-th 16-bit sample of `data`, big-endian with `BIG`: eight bytes at a time
+/// as one `u64` whose 16-bit lanes are byte-swapped with two masks and shifts (for `BIG`),
+/// which compiles to a few vector instructions per 16 samples natively and in wasm's simd128
+/// (where the zip of `chunks_exact(2)` stayed a call per sample).
+fn widen_16<const BIG: bool>(data: &[u8], out: &mut [u16]) {
+    const LOW: u64 = 0x00ff_00ff_00ff_00ff;
+    let mut outs = out.chunks_exact_mut(4);
+    let mut ins = data.chunks_exact(8);
+    for (o, d) in (&mut outs).zip(&mut ins) {
+        let (Ok(o), Ok(d)) = (<&mut [u16; 4]>::try_from(o), <[u8; 8]>::try_from(d)) else {
+            continue;
+        };
+        let x = u64::from_le_bytes(d);
+        let x = if BIG {
+            ((x & LOW) << 8) | ((x >> 8) & LOW)
+        } else {
+            x
+        };
+        #[allow(clippy::cast_possible_truncation)] // each lane is 16 bits, taken by shifting
+        {
+            *o = [
+                x as u16,
+                (x >> 16) as u16,
+                (x >> 32) as u16,
+                (x >> 48) as u16,
+            ];
         }
-        Samples::Le16(_) => {
-            for (o, p) in out.iter_mut().zip(data.chunks_exact(2)) {
-                if let &[lo, hi] = p {
-                    *o = u16::from_le_bytes([lo, hi]);
-                }
-            }
+    }
+    for (o, p) in outs
+        .into_remainder()
+        .iter_mut()
+        .zip(ins.remainder().chunks_exact(2))
+    {
+        if let &[first, second] = p {
+            *o = if BIG {
+                u16::from_be_bytes([first, second])
+            } else {
+                u16::from_le_bytes([first, second])
+            };
         }
     }
 }
@@ -305,6 +336,25 @@ impl FrameFile {
 #[allow(clippy::unwrap_used)] // OK because a failing test should stop loudly
 mod tests {
     use super::*;
+
+    #[test]
+    #[allow(clippy::indexing_slicing, clippy::cast_possible_truncation)] // test code
+    fn widening_sixteen_bit_samples_matches_the_byte_order_functions() {
+        // Every length from 0 to 21 samples (the eight-byte blocks and their remainders), each
+        // sample checked against u16::from_be_bytes / from_le_bytes (std).
+        for n in 0..22usize {
+            let data: Vec<u8> = (0..2 * n).map(|i| (i * 37 + 11) as u8).collect();
+            let mut be = vec![0u16; n];
+            let mut le = vec![0u16; n];
+            super::widen_16::<true>(&data, &mut be);
+            super::widen_16::<false>(&data, &mut le);
+            for k in 0..n {
+                let pair = [data[2 * k], data[2 * k + 1]];
+                assert_eq!(be[k], u16::from_be_bytes(pair), "n {n}, sample {k}");
+                assert_eq!(le[k], u16::from_le_bytes(pair), "n {n}, sample {k}");
+            }
+        }
+    }
 
     #[test]
     fn rows_and_frames_equal_the_decoded_frame() {
