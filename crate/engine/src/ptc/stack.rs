@@ -763,6 +763,59 @@ mod tests {
     }
 
     #[test]
+    fn every_stack_length_gives_the_brute_force_figures() {
+        // L = 2 … 19 frames of 13 × 7 (odd width: both parities end a row), so that one to four
+        // pairs are summed per pass and an odd frame out is left: the mean, the temporal
+        // variance (the mean of each pair's, by the separate pair_sums path, EMVA 1288's 1/(2NM)
+        // form) and the spatial variance of the averaged frame (sample variance, n − 1) computed
+        // here directly in f64. Frames: invented data from a fixed-seed generator.
+        let (w, h) = (13u32, 7u32);
+        let n = (w * h) as usize;
+        let mut state = 0x2545_f491_4f6c_dd1du64;
+        let mut sample = || {
+            state ^= state << 13;
+            state ^= state >> 7;
+            state ^= state << 17;
+            1000 + (state % 97) as u16
+        };
+        for l in 2..=19u32 {
+            let frames: Vec<Vec<u16>> =
+                (0..l).map(|_| (0..n).map(|_| sample()).collect()).collect();
+            let mut acc = StackAccumulator::new(spec(l), None).unwrap();
+            for f in &frames {
+                acc.push(Frame::new(w, h, 16, f.clone()).unwrap()).unwrap();
+            }
+            let s = acc.finish().unwrap();
+            let pairs = (l / 2) as usize;
+            assert_eq!(s.pairs as usize, pairs, "L {l}");
+            let temporal: f64 = (0..pairs)
+                .map(|k| {
+                    crate::ptc::pair_sums(&frames[2 * k], &frames[2 * k + 1])
+                        .temporal_variance_dn2()
+                        .unwrap()
+                })
+                .sum::<f64>()
+                / pairs as f64;
+            assert!(
+                (s.temporal_variance_dn2 - temporal).abs() <= 1e-12 * temporal,
+                "L {l}: {} vs {temporal}",
+                s.temporal_variance_dn2
+            );
+            let means: Vec<f64> = (0..n)
+                .map(|i| frames.iter().map(|f| f64::from(f[i])).sum::<f64>() / f64::from(l))
+                .collect();
+            let mean = means.iter().sum::<f64>() / n as f64;
+            assert!((s.mean_dn - mean).abs() <= 1e-12 * mean, "L {l}");
+            let raw = means.iter().map(|m| (m - mean).powi(2)).sum::<f64>() / (n as f64 - 1.0);
+            assert!(
+                (s.spatial_variance_raw_dn2 - raw).abs() <= 1e-9 * raw,
+                "L {l}: {} vs {raw}",
+                s.spatial_variance_raw_dn2
+            );
+        }
+    }
+
+    #[test]
     fn longer_stacks_use_the_per_pixel_sum() {
         // Four frames: the pair-sum path and the per-pixel path must agree on the spatial part
         // when frames 3–4 repeat frames 1–2.
