@@ -15,6 +15,7 @@ import { readFileSync, writeFileSync } from 'node:fs';
 import { basename, dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { gzipSync } from 'node:zlib';
+import { gzipAsync } from '@gfx/zopfli';
 
 const [pagePath, workerDir] = process.argv.slice(2);
 const fail = (msg) => { console.error(`embed-worker: ${msg}`); process.exit(1); };
@@ -26,7 +27,8 @@ const wasm = readFileSync(join(workerDir, 'noise_budget_frames_worker_bg.wasm'))
 const boot = readFileSync(join(here, '../crate/frames-worker/boot.js'), 'utf8');
 if (!/\bwasm_bindgen\b/.test(glue)) fail('the glue defines no wasm_bindgen (build it with --target no-modules)');
 
-const wasmGz = gzipSync(wasm, { level: 9 });
+// Zopfli's gzip, as for the page's wasm (scripts/single-file.mjs): smaller, inflated the same.
+const wasmGz = Buffer.from(await gzipAsync(wasm, { numiterations: 15 }));
 const script = `${glue}\nconst NOISE_BUDGET_FRAMES_WASM = "${wasmGz.toString('base64')}";\n${boot}`;
 // Inside a data block only `</script` and `<!--` could end or confuse it; neither may appear.
 if (/<\/script|<!--/i.test(script)) fail('the worker script contains </script or <!--, which a data block cannot hold');
