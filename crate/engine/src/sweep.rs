@@ -192,6 +192,17 @@ fn run(base: &Value, request: &SweepRequest, figures: Figures) -> Result<Sweep, 
             );
         }
     }
+    // The one rule a range of ends cannot state: a contrast of 0 is refused (two patches of the
+    // same signal), so a sweep may not cross it between two valid ends.
+    if key == "detection.contrast" && request.from * request.to < 0.0 {
+        problems.push(problem(
+            "sweep.from",
+            format!(
+                "detection.contrast must not be 0, so a sweep of it may not cross 0: got {} to {}; sweep each sign on its own",
+                request.from, request.to
+            ),
+        ));
+    }
     if !problems.is_empty() {
         return Err(ScenarioError::from_problems(problems));
     }
@@ -505,6 +516,11 @@ fn set(sc: &mut Scenario, key: &str, v: f64) {
         "exposure.binning" => sc.exposure.binning = whole(v),
         "temperature_c" => sc.temperature_c = v,
         "snr_threshold" => sc.snr_threshold = v,
+        "detection.false_alarm_probability" => sc.detection.false_alarm_probability = v,
+        "detection.detection_probability" => sc.detection.detection_probability = v,
+        "detection.pixels" => sc.detection.pixels = whole(v),
+        "detection.contrast" => sc.detection.contrast = v,
+        "detection.contrast_interval" => sc.detection.contrast_interval = v,
         _ => set_light(&mut sc.light, key, v),
     }
 }

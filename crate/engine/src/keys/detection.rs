@@ -34,6 +34,7 @@ pub const FALSE_ALARM_PROBABILITY: Key = detection(
     probability(DEFAULT_FALSE_ALARM_PROBABILITY),
 )
 .unit(Unit::new("per pixel", "1"))
+.sweepable()
 .words(
     "False-alarm probability",
     "false-alarm probability",
@@ -47,6 +48,7 @@ pub const DETECTION_PROBABILITY: Key = detection(
     probability(DEFAULT_DETECTION_PROBABILITY),
 )
 .unit(Unit::new("probability", "1"))
+.sweepable()
 .words(
     "Detection probability wanted",
     "required detection probability",
@@ -66,6 +68,7 @@ pub const PIXELS_SEARCHED: Key = detection(
     },
 )
 .unit(Unit::same("pixels"))
+.sweepable()
 .words(
     "Pixels searched",
     "pixels searched per frame",
@@ -83,6 +86,7 @@ pub const CONTRAST: Key = detection(
     },
 )
 .unit(Unit::new("Weber contrast", "1"))
+.sweepable()
 .words(
     "Contrast",
     "contrast",
@@ -99,6 +103,7 @@ pub const CONTRAST_INTERVAL: Key = detection(
     },
 )
 .unit(Unit::new("of the contrast", "1"))
+.sweepable()
 .words(
     "Contrast interval",
     "contrast confidence interval",

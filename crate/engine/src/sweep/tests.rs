@@ -22,7 +22,9 @@ fn base() -> Value {
             "system_gain_dn_per_e": 0.25, "black_level_dn": 64},
         "light": {"photon_flux_per_um2_s": 500},
         "exposure": {"time_s": 0.01, "frames_averaged": 2, "binning": 2},
-        "temperature_c": 40, "snr_threshold": 3
+        "temperature_c": 40, "snr_threshold": 3,
+        "detection": {"false_alarm_probability": 1e-3, "detection_probability": 0.5,
+            "pixels": 100, "contrast": 0.1, "contrast_interval": 0.5}
     })
 }
 
@@ -325,4 +327,52 @@ fn csv_has_a_header_with_units_and_one_row_a_point() {
         assert_eq!(row.split(',').count(), columns, "{row}");
     }
     assert!(lines[1].starts_with("-20,"));
+}
+
+#[test]
+fn detection_keys_sweep_and_a_contrast_sweep_may_not_cross_zero() {
+    // The detection figures along a sweep of the false-alarm probability: a lower p_fa puts
+    // the threshold higher (Neyman–Pearson: the false-alarm tail shrinks as τ rises).
+    let b = base();
+    let s = sweep(
+        &b,
+        &request(
+            "detection.false_alarm_probability",
+            1e-6,
+            1e-2,
+            5,
+            Spacing::Log,
+        ),
+    )
+    .unwrap();
+    let tau: Vec<f64> = s
+        .points
+        .iter()
+        .map(|p| p.report.detection.threshold_e.unwrap())
+        .collect();
+    assert!(tau.windows(2).all(|w| w[0] > w[1]), "{tau:?}");
+    let csv = to_csv(&s);
+    assert!(
+        csv.starts_with("detection.false_alarm_probability [1],"),
+        "{}",
+        csv.lines().next().unwrap_or_default()
+    );
+    // A contrast sweep through 0 is refused by name; each sign on its own is swept.
+    let e = sweep(
+        &b,
+        &request("detection.contrast", -0.5, 0.5, 5, Spacing::Linear),
+    )
+    .unwrap_err()
+    .to_string();
+    assert!(
+        e.contains(
+            "sweep.from: detection.contrast must not be 0, so a sweep of it may not cross 0"
+        ),
+        "{e}"
+    );
+    assert!(sweep(
+        &b,
+        &request("detection.contrast", -0.5, -0.05, 5, Spacing::Linear)
+    )
+    .is_ok());
 }
