@@ -741,3 +741,85 @@ proptest! {
         }
     }
 }
+
+/// Every stack accumulated with its spatial summaries, then analysed: the one-pass reference
+/// for `ptc::measure`, which summarises short stacks only when the analysis uses them.
+fn characterize_in_one_pass(s: &simulate::Series) -> Characterization {
+    let m = ptc::parse_manifest(&s.manifest_json).unwrap();
+    let files: HashMap<&str, &Vec<u8>> = s.files.iter().map(|(n, b)| (n.as_str(), b)).collect();
+    let stats: Vec<ptc::StackStats> = m
+        .stacks
+        .iter()
+        .map(|stack| {
+            let first = &stack[0];
+            let spec = ptc::StackSpec {
+                kind: first.kind,
+                exposure_time_s: first.exposure_time_s,
+                level: first.level.clone(),
+                photons_per_pixel: first.photons_per_pixel,
+                frames: stack.len() as u32,
+            };
+            let mut acc = ptc::StackAccumulator::with_cfa(spec, m.roi, m.cfa).unwrap();
+            for f in stack {
+                let mut file = engine::frames::FrameFile::default();
+                *file.bytes_mut() = files[f.path.as_str()].clone();
+                file.decode(f.raw).unwrap();
+                acc.push_file(&mut file).unwrap();
+            }
+            acc.finish().unwrap()
+        })
+        .collect();
+    let options = ptc::AnalysisOptions {
+        cfa: m.cfa,
+        significant_bits: m.significant_bits,
+    };
+    ptc::analyse_with(&stats, options).unwrap()
+}
+
+#[test]
+fn summarising_only_the_stacks_used_changes_no_figure_and_reads_few_files_twice() {
+    // The simulated series is darks and flat pairs (short stacks). `ptc::measure` leaves their
+    // spatial summaries out, then reads again only the dark and the PRNU flat stack the spatial
+    // report uses: every figure, the spatial report included, must equal the one-pass analysis
+    // that summarises every stack (an identity, not a tolerance), for a mono and a colour
+    // sensor.
+    for sc in [
+        demo("global-shutter-machine-vision"),
+        demo("colour-machine-vision"),
+    ] {
+        let s = simulate::series(&sc, 11, FrameSize::new(64, 48).unwrap()).unwrap();
+        let m = ptc::parse_manifest(&s.manifest_json).unwrap();
+        let files: HashMap<&str, &Vec<u8>> = s.files.iter().map(|(n, b)| (n.as_str(), b)).collect();
+        let mut reads = 0usize;
+        let c = ptc::measure(
+            &m,
+            &mut |f| {
+                reads += 1;
+                Ok(files[f.path.as_str()].clone())
+            },
+            &mut |_, _| {},
+        )
+        .unwrap();
+        let reference = characterize_in_one_pass(&s);
+        assert_eq!(c, reference, "{}", sc.title().unwrap_or_default());
+        assert!(c.fit.spatial.is_some() || !c.channels.is_empty());
+        let longest_short = m
+            .stacks
+            .iter()
+            .map(Vec::len)
+            .filter(|l| *l < 4)
+            .max()
+            .unwrap_or(0);
+        let extra = reads - s.files.len();
+        assert!(
+            extra > 0,
+            "the series has short stacks whose summaries are read again"
+        );
+        assert!(
+            extra <= 2 * 4 * longest_short,
+            "{extra} files read again of {}",
+            s.files.len()
+        );
+        assert!(extra < s.files.len() / 4, "{extra} of {}", s.files.len());
+    }
+}

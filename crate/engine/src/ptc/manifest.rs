@@ -13,7 +13,7 @@ use serde_json::Value;
 
 use super::{
     analyse_with, AnalysisOptions, Cfa, Characterization, FrameKind, Roi, StackAccumulator,
-    StackBuffers, StackSpec, CFA_NAMES,
+    StackBuffers, StackSpec, StackStats, CFA_NAMES,
 };
 use crate::frames::{Frame, FrameFile, RawGeometry};
 pub use crate::input::Problem;
@@ -112,65 +112,33 @@ pub fn measure_buffered(
 ) -> Result<Characterization, Failure> {
     let mut messages = Vec::new();
     let mut io_error = false;
-    let mut stats = Vec::new();
+    let mut stats: Vec<StackStats> = Vec::new();
+    let mut summarised: Vec<bool> = Vec::new();
     let mut file = FrameFile::default();
     let mut buffers = StackBuffers::default();
+    // Pass 1: every stack; the spatial summaries only for stacks of SUMMARY_FRAMES or more.
     for stack in &manifest.stacks {
-        let Some(first) = stack.first() else { continue };
-        let spec = StackSpec {
-            kind: first.kind,
-            exposure_time_s: first.exposure_time_s,
-            level: first.level.clone(),
-            photons_per_pixel: first.photons_per_pixel,
-            frames: u32::try_from(stack.len()).unwrap_or(u32::MAX),
-        };
-        let acc = StackAccumulator::with_buffers(
-            spec,
-            manifest.roi,
-            manifest.cfa,
-            std::mem::take(&mut buffers),
+        let summaries = stack.len() >= SUMMARY_FRAMES;
+        let one = accumulate(
+            manifest,
+            stack,
+            summaries,
+            (&mut file, &mut buffers),
+            &mut *read,
+            &mut *seen,
         );
-        let mut acc = match acc {
-            Ok(a) => a,
-            Err(e) => {
-                messages.push(format!("frames[{}]: {e}", first.index));
-                continue;
+        match one {
+            Ok(Some(s)) => {
+                stats.push(s);
+                summarised.push(summaries);
             }
-        };
-        let mut ok = true;
-        for f in stack {
-            let name = format!("frames[{}] ({})", f.index, f.path);
-            if let Err(e) = read(f, file.bytes_mut()) {
-                messages.push(format!("{name}: {e}"));
-                io_error = true;
-                ok = false;
-                seen(f, None);
-                continue;
-            }
-            if let Err(e) = file.decode(f.raw) {
-                messages.push(format!("{name}: {e}"));
-                ok = false;
-                seen(f, None);
-                continue;
-            }
-            seen(f, Some(&file));
-            if ok {
-                if let Err(e) = acc.push_file(&mut file) {
-                    messages.push(format!("{name}: {e}"));
-                    ok = false;
-                }
-            }
-        }
-        let (result, kept) = acc.finish_with_buffers();
-        buffers = kept;
-        if ok {
-            match result {
-                Ok(s) => stats.push(s),
-                Err(e) => messages.push(format!("frames[{}]: {e}", first.index)),
+            Ok(None) => {}
+            Err((lines, io)) => {
+                messages.extend(lines);
+                io_error |= io;
             }
         }
     }
-    drop((file, buffers));
     if !messages.is_empty() {
         return Err(Failure {
             messages,
@@ -181,10 +149,119 @@ pub fn measure_buffered(
         cfa: manifest.cfa,
         significant_bits: manifest.significant_bits,
     };
-    analyse_with(&stats, options).map_err(|e| Failure {
+    let analysis_failure = |e| Failure {
         messages: vec![format!("analysis: {e}")],
         io: false,
-    })
+    };
+    let first = analyse_with(&stats, options).map_err(analysis_failure)?;
+    // Pass 2: the stacks whose summaries the spatial report uses, read again where pass 1
+    // left them out (short stacks: a few frames each). The moments are the same, so the
+    // analysis picks the same stacks; only their summaries are added.
+    let mut again = false;
+    let stacks = manifest.stacks.iter().filter(|s| !s.is_empty());
+    for ((stack, s), done) in stacks.zip(stats.iter_mut()).zip(summarised.iter_mut()) {
+        if *done || !first.spatial_from.contains(&s.spec) {
+            continue;
+        }
+        let one = accumulate(
+            manifest,
+            stack,
+            true,
+            (&mut file, &mut buffers),
+            &mut *read,
+            &mut |_, _| {},
+        );
+        match one {
+            Ok(Some(full)) => {
+                *s = full;
+                *done = true;
+                again = true;
+            }
+            Ok(None) => {}
+            Err((lines, io)) => {
+                return Err(Failure {
+                    messages: lines,
+                    io,
+                })
+            }
+        }
+    }
+    drop((file, buffers));
+    if !again {
+        return Ok(first);
+    }
+    analyse_with(&stats, options).map_err(analysis_failure)
+}
+
+/// Stacks of at least this many frames get their spatial summaries in the first pass: a stack
+/// that long was most likely taken for the nonuniformity (EMVA 1288: L ≥ 2, more is better),
+/// and reading it again would cost more than its summaries; shorter ones are summarised only
+/// if the analysis uses them, after a second read of their few frames. Common practice, no
+/// source.
+const SUMMARY_FRAMES: usize = 4;
+
+/// Read, decode and accumulate one stack: its statistics, `None` for an empty stack, or its
+/// problems (one line each, naming the file) and whether a file could not be read.
+fn accumulate(
+    manifest: &Manifest,
+    stack: &[FrameEntry],
+    summaries: bool,
+    (file, buffers): (&mut FrameFile, &mut StackBuffers),
+    read: &mut ReadInto<'_>,
+    seen: &mut dyn FnMut(&FrameEntry, Option<&FrameFile>),
+) -> Result<Option<StackStats>, (Vec<String>, bool)> {
+    let Some(first) = stack.first() else {
+        return Ok(None);
+    };
+    let spec = StackSpec {
+        kind: first.kind,
+        exposure_time_s: first.exposure_time_s,
+        level: first.level.clone(),
+        photons_per_pixel: first.photons_per_pixel,
+        frames: u32::try_from(stack.len()).unwrap_or(u32::MAX),
+    };
+    let acc =
+        StackAccumulator::with_buffers(spec, manifest.roi, manifest.cfa, std::mem::take(buffers));
+    let mut acc = match acc {
+        Ok(a) if summaries => a,
+        Ok(a) => a.without_summaries(),
+        Err(e) => return Err((vec![format!("frames[{}]: {e}", first.index)], false)),
+    };
+    let mut messages = Vec::new();
+    let mut io_error = false;
+    let mut ok = true;
+    for f in stack {
+        let name = format!("frames[{}] ({})", f.index, f.path);
+        if let Err(e) = read(f, file.bytes_mut()) {
+            messages.push(format!("{name}: {e}"));
+            io_error = true;
+            ok = false;
+            seen(f, None);
+            continue;
+        }
+        if let Err(e) = file.decode(f.raw) {
+            messages.push(format!("{name}: {e}"));
+            ok = false;
+            seen(f, None);
+            continue;
+        }
+        seen(f, Some(file));
+        if ok {
+            if let Err(e) = acc.push_file(file) {
+                messages.push(format!("{name}: {e}"));
+                ok = false;
+            }
+        }
+    }
+    let (result, kept) = acc.finish_with_buffers();
+    *buffers = kept;
+    if !ok {
+        return Err((messages, io_error));
+    }
+    match result {
+        Ok(s) => Ok(Some(s)),
+        Err(e) => Err((vec![format!("frames[{}]: {e}", first.index)], io_error)),
+    }
 }
 
 // ---- parsing -----------------------------------------------------------------------------

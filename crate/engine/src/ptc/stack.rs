@@ -290,6 +290,8 @@ pub struct StackAccumulator {
     container_bits: u8,
     bits: Option<Option<u8>>,
     msb_bits: Option<Option<u8>>,
+    /// Whether the spatial summaries (histograms, profiles, spectrograms) are made.
+    summaries: bool,
 }
 
 impl StackAccumulator {
@@ -345,7 +347,18 @@ impl StackAccumulator {
             container_bits: 0,
             bits: None,
             msb_bits: None,
+            summaries: true,
         })
+    }
+
+    /// Leave out the spatial summaries (defect histograms, profiles, spectrograms: most of
+    /// [`StackAccumulator::finish`]'s time): the stack's statistics then have no `spatial` and
+    /// no `phase_spatial`, everything else the same. For stacks whose summaries will not be
+    /// reported (the analysis uses one dark and one flat stack's, see [`crate::ptc::measure`]).
+    #[must_use]
+    pub fn without_summaries(mut self) -> Self {
+        self.summaries = false;
+        self
     }
 
     /// The stack's conditions.
@@ -600,7 +613,9 @@ impl StackAccumulator {
         });
         let mut spatial = None;
         let mut phase_spatial = Vec::new();
-        if self.cfa.is_bayer() {
+        if !self.summaries {
+            // Left out on request.
+        } else if self.cfa.is_bayer() {
             let phases: Vec<Group> = (0..4usize)
                 .map(|phase| Group {
                     // The phase's first pixel inside the region, in region coordinates.

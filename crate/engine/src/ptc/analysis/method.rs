@@ -512,6 +512,11 @@ pub(super) fn analyse_one(stacks: &[StackStats]) -> Result<Single, AnalysisError
         .copied()
         .find(|s| same_time(s.spec.exposure_time_s, dsnu_dark.exposure_time_s))
         .or_else(|| darks.stacks.first().copied());
+    let spatial_from: Vec<_> = dark_stack
+        .map(|d| d.spec.clone())
+        .into_iter()
+        .chain(dark_stack.and(prnu_point).map(|p| p.s.spec.clone()))
+        .collect();
     let spatial = dark_stack.and_then(|d| {
         spatial_fit(
             d,
@@ -525,6 +530,7 @@ pub(super) fn analyse_one(stacks: &[StackStats]) -> Result<Single, AnalysisError
 
     Ok(Single {
         sensor,
+        spatial_from,
         fit: FitReport {
             pixels_per_frame: stacks.first().map_or(0, |s| s.pixels),
             system_gain: GainFit {

@@ -16,7 +16,7 @@ use std::fmt;
 use super::cfa::CHANNEL_NAMES;
 use super::depth::sample_depth;
 use super::figures::figures;
-use super::stack::StackStats;
+use super::stack::{StackSpec, StackStats};
 
 mod colour;
 mod darks;
@@ -169,6 +169,9 @@ impl std::error::Error for AnalysisError {}
 struct Single {
     sensor: MeasuredSensor,
     fit: FitReport,
+    /// The conditions of the stacks whose spatial summaries the spatial report uses (the dark
+    /// stack and the flat stack used for PRNU).
+    spatial_from: Vec<StackSpec>,
 }
 
 fn same_time(a: f64, b: f64) -> bool {
@@ -257,6 +260,7 @@ pub fn analyse_with(
             channels: Vec::new(),
             colour: None,
             figures,
+            spatial_from: one.spatial_from,
         });
     };
     let pick = |g: usize| -> Vec<StackStats> { native.iter().filter_map(|s| s.group(g)).collect() };
@@ -270,12 +274,18 @@ pub fn analyse_with(
     green.sensor.adc_bits = depth.native_bits;
     green.fit.spatial = None;
     let mut channels = Vec::new();
+    let mut spatial_from: Vec<StackSpec> = Vec::new();
     for (name, phase) in CHANNEL_NAMES.iter().zip(phases) {
         let mut one = analyse_one(&pick(phase)).map_err(|e| AnalysisError::Channel {
             name,
             error: Box::new(e),
         })?;
         one.sensor.adc_bits = depth.native_bits;
+        for spec in one.spatial_from.drain(..) {
+            if !spatial_from.contains(&spec) {
+                spatial_from.push(spec);
+            }
+        }
         let figures = figures(&one.sensor, &one.fit, None);
         channels.push(ChannelResult {
             name,
@@ -305,5 +315,6 @@ pub fn analyse_with(
         channels,
         colour: Some(colour),
         figures,
+        spatial_from,
     })
 }

@@ -9,7 +9,7 @@ use super::super::depth::SampleDepth;
 use super::super::figures::Figure;
 use super::super::fit::LineFit;
 use super::super::spatial::{Histogram, SpatialSummary, VarianceSplit};
-use super::super::stack::FrameKind;
+use super::super::stack::{FrameKind, StackSpec};
 
 /// The sensor keys of SCENARIO.md that the frames measured; absent keys were not measurable.
 #[derive(Debug, Clone, Default, PartialEq, Serialize)]
@@ -351,6 +351,11 @@ pub struct Characterization {
     pub colour: Option<ColourSummary>,
     /// Every measured figure as one list (name, unit, value, uncertainty, clause), for tables.
     pub figures: Vec<Figure>,
+    /// The conditions of the stacks whose spatial summaries the spatial reports use (the dark
+    /// and the PRNU flat stack, per channel for a colour sensor): what [`crate::ptc::measure`]
+    /// reads again when it first left their summaries out. Not part of the output.
+    #[serde(skip)]
+    pub spatial_from: Vec<StackSpec>,
 }
 
 /// What the analysis needs besides the stacks.
