@@ -30,6 +30,16 @@ fn number(v: &Value, pointer: &str) -> Option<f64> {
         .filter(|x| x.is_finite())
 }
 
+/// An uncertainty rounded to two significant digits, as uncertainties are quoted (GUM, JCGM
+/// 100:2008 §7.2.6: usually at most two significant digits; from memory).
+fn two_digits(u: f64) -> f64 {
+    if !(u.is_finite() && u > 0.0) {
+        return u;
+    }
+    let step = 10f64.powf(u.log10().floor() - 1.0);
+    (u / step).round() * step
+}
+
 /// Each patch's label, in the engine's patch order (`frame` is the JSON's `frame` object).
 #[must_use]
 pub fn patch_labels(frame: &Value, numbers: &dyn Numbers) -> Vec<PatchLabel> {
@@ -48,8 +58,10 @@ pub fn patch_labels(frame: &Value, numbers: &dyn Numbers) -> Vec<PatchLabel> {
                 model_value: model,
                 light: number(p, "/light_factor")
                     .map_or_else(|| "—".into(), |f| format!("× {}", n(f))),
-                measured: measured
-                    .map_or_else(|| "—".into(), |(s, u)| format!("{} ± {}", n(s), n(u))),
+                measured: measured.map_or_else(
+                    || "—".into(),
+                    |(s, u)| format!("{} ± {}", n(s), n(two_digits(u))),
+                ),
                 model: model.map_or_else(|| "—".into(), n),
             }
         })
@@ -149,6 +161,22 @@ mod tests {
             words.contains(&format!("white at {:.2} DN", f.display.white_dn)),
             "{words}"
         );
+    }
+
+    #[test]
+    fn uncertainties_are_quoted_to_two_significant_digits() {
+        // GUM (JCGM 100:2008) §7.2.6, from memory; the values by arithmetic.
+        for (u, want) in [
+            (0.01717, 0.017),
+            (0.3482, 0.35),
+            (1.0, 1.0),
+            (12.34, 12.0),
+            (0.0, 0.0),
+        ] {
+            let got = super::two_digits(u);
+            assert!((got - want).abs() <= 1e-12 * want.max(1.0), "{u}: {got}");
+        }
+        assert!(super::two_digits(f64::NAN).is_nan());
     }
 
     #[test]
