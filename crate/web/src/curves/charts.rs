@@ -287,6 +287,82 @@ fn hdr_line(sweep: &Sweep, x_of: &dyn Fn(&SweepPoint) -> f64) -> (Line, Vec<Mark
     (line, dips)
 }
 
+/// One scenario a chart draws: the one on screen (unless it is one of the pins, then drawn
+/// as that pin) or a pin whose view varies the chart's quantity.
+pub(super) struct Drawer<'a> {
+    /// Its legend entry.
+    pub label: String,
+    /// Its colour.
+    pub color: &'static str,
+    /// Its view's sweep.
+    pub sweep: Rc<Sweep>,
+    /// Its operating point on the chart's x axis.
+    pub here_x: f64,
+    /// Its report (the operating point's figures).
+    pub report: &'a Report,
+    /// Whether it is the scenario on screen (its HDR output is drawn with it).
+    pub now: bool,
+}
+
+/// The scenarios chart `k` (a view's index) draws, in legend order: the scenario on screen
+/// unless it is pinned, then the pins overlaid where their view varies the same quantity
+/// (any view, on the SNR-against-signal chart: `any_key`). `here` gives a scenario's x.
+fn drawers<'a>(
+    now: &Now<'a>,
+    pins: &[PinCurves<'a>],
+    (k, sweep): (usize, &Rc<Sweep>),
+    any_key: bool,
+    here: &dyn Fn(&Value, &Report) -> f64,
+) -> Vec<Drawer<'a>> {
+    let mut out = Vec::new();
+    if !pins.iter().any(|p| p.on_screen) {
+        out.push(Drawer {
+            label: if pins.is_empty() {
+                "this scenario".into()
+            } else {
+                "on screen (not pinned)".into()
+            },
+            color: NOW_COLOR,
+            sweep: Rc::clone(sweep),
+            here_x: here(now.value, now.report),
+            report: now.report,
+            now: true,
+        });
+    }
+    for (i, pin) in pins.iter().enumerate() {
+        let Some(ps) = pin
+            .views
+            .get(k)
+            .cloned()
+            .flatten()
+            .filter(|ps| ps.key == sweep.key || any_key)
+        else {
+            continue;
+        };
+        out.push(Drawer {
+            label: short(pin.name),
+            color: PIN_COLORS.get(i).copied().unwrap_or(NOW_COLOR),
+            sweep: ps,
+            here_x: here(pin.value, pin.report),
+            report: pin.report,
+            now: false,
+        });
+    }
+    out
+}
+
+/// A chart built, with what reading values and exporting need.
+fn drawn(chart: Chart, xs: Vec<f64>, at: usize, sweep: Rc<Sweep>) -> Drawn {
+    let markup = chart.svg();
+    Drawn {
+        chart,
+        markup,
+        xs,
+        at,
+        sweep,
+    }
+}
+
 /// The chart `kind` of the scenario on screen with the pins overlaid; `None` when its view
 /// could not be swept.
 #[must_use]
@@ -308,16 +384,16 @@ pub fn build(
             p.value
         }
     };
-    let value_of = |v: &Value| {
-        crate::fields::value_at(v, key)
-            .and_then(Value::as_f64)
-            .unwrap_or(f64::NAN)
+    let here = |v: &Value, r: &Report| {
+        if by_signal {
+            r.signal_e
+        } else {
+            crate::fields::value_at(v, key)
+                .and_then(Value::as_f64)
+                .unwrap_or(f64::NAN)
+        }
     };
-    let here_x = if by_signal {
-        now.report.signal_e
-    } else {
-        value_of(now.value)
-    };
+    let here_x = here(now.value, now.report);
     let (x_label, x_unit) = if by_signal {
         ("signal per output pixel".to_string(), "e⁻")
     } else {
@@ -330,81 +406,41 @@ pub fn build(
     };
     let xs: Vec<f64> = sweep.points.iter().map(x_of).collect();
     let at = nearest(&xs, here_x);
-    if kind == ChartKind::Contrast {
-        let chart = contrast_chart(now, pins, k, &sweep, here_x, (&x_label, x_unit));
-        let markup = chart.svg();
-        return Some(Drawn {
-            chart,
-            markup,
-            xs,
-            at,
-            sweep,
-        });
-    }
     if kind == ChartKind::Budget {
         let chart = budget(&sweep, &xs, here_x, (&x_label, x_unit), x_scale);
-        let markup = chart.svg();
-        return Some(Drawn {
-            chart,
-            markup,
-            xs,
-            at,
-            sweep,
-        });
+        return Some(drawn(chart, xs, at, sweep));
+    }
+    let scenarios = drawers(now, pins, (k, &sweep), by_signal, &here);
+    let mut all_x = xs.clone();
+    for d in scenarios.iter().filter(|d| !d.now) {
+        all_x.extend(d.sweep.points.iter().map(x_of));
+    }
+    let x = Axis::fitted(&x_label, x_unit, x_scale, &all_x, X_DECADES);
+    if kind == ChartKind::Contrast {
+        return Some(drawn(contrast::chart(x, &scenarios), xs, at, sweep));
     }
     let mut lines: Vec<Line> = Vec::new();
     let mut markers = Vec::new();
-    let mut all_x = xs.clone();
-    // The scenario on screen, unless it is one of the pins (drawn as that pin).
-    if !pins.iter().any(|p| p.on_screen) {
-        let label = if pins.is_empty() {
-            "this scenario"
-        } else {
-            "on screen (not pinned)"
-        };
-        lines.extend(snr_lines(label, NOW_COLOR, &sweep, &x_of));
-        for y in [now.report.snr.total, now.report.snr.temporal] {
+    for d in &scenarios {
+        lines.extend(snr_lines(&d.label, d.color, &d.sweep, &x_of));
+        for y in [d.report.snr.total, d.report.snr.temporal] {
             markers.push(Marker {
-                x: here_x,
+                x: d.here_x,
                 y,
-                color: NOW_COLOR,
+                color: d.color,
             });
         }
-        if let Some(h) = &now.report.hdr {
-            let (line, dips) = hdr_line(&sweep, &x_of);
+        if let Some(h) = d.report.hdr.as_ref().filter(|_| d.now) {
+            let (line, dips) = hdr_line(&d.sweep, &x_of);
             lines.push(line);
             markers.extend(dips);
             markers.push(Marker {
-                x: here_x,
+                x: d.here_x,
                 y: h.snr.total,
                 color: HDR_COLOR,
             });
         }
     }
-    for (i, pin) in pins.iter().enumerate() {
-        let color = PIN_COLORS.get(i).copied().unwrap_or(NOW_COLOR);
-        // Pins are overlaid only where their view varies the same quantity.
-        let Some(ps) = pin
-            .views
-            .get(k)
-            .cloned()
-            .flatten()
-            .filter(|ps| ps.key == key || by_signal)
-        else {
-            continue;
-        };
-        all_x.extend(ps.points.iter().map(x_of));
-        lines.extend(snr_lines(&short(pin.name), color, &ps, &x_of));
-        let px = if by_signal {
-            pin.report.signal_e
-        } else {
-            value_of(pin.value)
-        };
-        for y in [pin.report.snr.total, pin.report.snr.temporal] {
-            markers.push(Marker { x: px, y, color });
-        }
-    }
-    let x = Axis::fitted(&x_label, x_unit, x_scale, &all_x, X_DECADES);
     let y = Axis::fitted(
         "signal-to-noise ratio",
         "",
@@ -456,64 +492,7 @@ pub fn build(
             "solid: total SNR · dashed: temporal SNR".into()
         },
     };
-    let markup = chart.svg();
-    Some(Drawn {
-        chart,
-        markup,
-        xs,
-        at,
-        sweep,
-    })
-}
-
-/// The contrast detection probability against light level: the scenario on screen (unless it
-/// is a pin) and the pins whose light view varies the same quantity.
-fn contrast_chart(
-    now: &Now<'_>,
-    pins: &[PinCurves<'_>],
-    k: usize,
-    sweep: &Rc<Sweep>,
-    here_x: f64,
-    (label, unit): (&str, &'static str),
-) -> Chart {
-    let key = sweep.key.as_str();
-    let mut series = Vec::new();
-    let mut all_x: Vec<f64> = sweep.points.iter().map(|p| p.value).collect();
-    if !pins.iter().any(|p| p.on_screen) {
-        series.push(contrast::Series {
-            label: if pins.is_empty() {
-                "this scenario".into()
-            } else {
-                "on screen (not pinned)".into()
-            },
-            color: NOW_COLOR,
-            sweep,
-            here: (here_x, now.report),
-        });
-    }
-    let pin_views: Vec<(usize, Rc<Sweep>)> = pins
-        .iter()
-        .enumerate()
-        .filter_map(|(i, pin)| {
-            let ps = pin.views.get(k).cloned().flatten()?;
-            (ps.key == key).then_some((i, ps))
-        })
-        .collect();
-    for (i, ps) in &pin_views {
-        let Some(pin) = pins.get(*i) else { continue };
-        all_x.extend(ps.points.iter().map(|p| p.value));
-        let px = crate::fields::value_at(pin.value, key)
-            .and_then(Value::as_f64)
-            .unwrap_or(f64::NAN);
-        series.push(contrast::Series {
-            label: short(pin.name),
-            color: PIN_COLORS.get(*i).copied().unwrap_or(NOW_COLOR),
-            sweep: ps,
-            here: (px, pin.report),
-        });
-    }
-    let x = Axis::fitted(label, unit, Scale::Log, &all_x, X_DECADES);
-    contrast::chart(x, &series)
+    Some(drawn(chart, xs, at, sweep))
 }
 
 /// The stacked noise budget along a sweep, with the scenario as a vertical line.

@@ -5,23 +5,11 @@
 //! every figure is the engine's (`report.detection.contrast_detection_probability`, kept by the
 //! curves' lean sweep); here they are only placed, in percent on a linear axis.
 
-use engine::sweep::Sweep;
 use engine::Report;
 
+use super::charts::Drawer;
 use crate::chart::{Axis, Chart, Line, Marker, Scale};
 use crate::display::{Numbers, Style};
-
-/// What the CDP chart is drawn from: one series per scenario (the one on screen, then pins).
-pub(super) struct Series<'a> {
-    /// Its legend entry.
-    pub label: String,
-    /// Its colour.
-    pub color: &'static str,
-    /// Its light view.
-    pub sweep: &'a Sweep,
-    /// Its operating point: the light amount and its report.
-    pub here: (f64, &'a Report),
-}
 
 /// The CDP of one report, in percent (`None` where the engine gave none: no signal).
 fn percent(r: &Report) -> Option<f64> {
@@ -62,8 +50,8 @@ fn task_words(r: &Report) -> String {
 }
 
 /// The chart: `x` is the light axis fitted by the caller (the same as the SNR-against-light
-/// chart's), `series` the scenarios drawn.
-pub(super) fn chart(x: Axis, series: &[Series<'_>]) -> Chart {
+/// chart's), `series` the scenarios drawn (their light views).
+pub(super) fn chart(x: Axis, series: &[Drawer<'_>]) -> Chart {
     let mut lines = Vec::new();
     let mut markers = Vec::new();
     for s in series {
@@ -79,15 +67,15 @@ pub(super) fn chart(x: Axis, series: &[Series<'_>]) -> Chart {
             dash: "",
             legend: true,
         });
-        if let Some(y) = percent(s.here.1) {
+        if let Some(y) = percent(s.report) {
             markers.push(Marker {
-                x: s.here.0,
+                x: s.here_x,
                 y,
                 color: s.color,
             });
         }
     }
-    let tasks: Vec<String> = series.iter().map(|s| task_words(s.here.1)).collect();
+    let tasks: Vec<String> = series.iter().map(|s| task_words(s.report)).collect();
     let same_task = tasks.iter().all(|t| Some(t) == tasks.first());
     let note = match (tasks.first(), same_task) {
         (Some(t), true) => format!("one pixel of each patch · {t}"),
