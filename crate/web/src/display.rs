@@ -40,6 +40,24 @@ pub trait Numbers {
     fn full(&self, x: f64) -> String;
 }
 
+/// Numbers as Rust writes them, for the native tests of the pure modules (the page uses the
+/// browser's `Intl.NumberFormat`): three decimals, percentages with one.
+#[cfg(test)]
+pub(crate) struct Plain;
+
+#[cfg(test)]
+impl Numbers for Plain {
+    fn rounded(&self, x: f64, style: Style) -> String {
+        match style {
+            Style::Number => format!("{x:.3}"),
+            Style::Percent => format!("{:.1} %", x * 100.0),
+        }
+    }
+    fn full(&self, x: f64) -> String {
+        format!("{x}")
+    }
+}
+
 /// The browser's formatting: [`rounded`] and [`full`].
 #[cfg(target_arch = "wasm32")]
 pub struct Browser;

@@ -114,36 +114,33 @@ pub fn mapping_words(frame: &Value, numbers: &dyn Numbers) -> String {
 #[allow(clippy::unwrap_used, clippy::indexing_slicing)]
 mod tests {
     use super::{mapping_words, patch_labels};
-    use crate::display::{Numbers, Style};
+    use crate::display::Plain;
 
-    struct Plain;
-    impl Numbers for Plain {
-        fn rounded(&self, x: f64, _: Style) -> String {
-            format!("{x:.2}")
-        }
-        fn full(&self, x: f64) -> String {
-            format!("{x}")
-        }
+    /// The engine's own 96 × 72 frame of the first demo (seed 7), and the JSON the worker sends
+    /// of it.
+    fn engine_frame() -> (engine::simulate::SceneFrame, serde_json::Value) {
+        let sc = engine::validate::scenario_from_json(engine::demos::DEMOS[0].json).unwrap();
+        let f = engine::simulate::frame(&sc, 7, engine::simulate::FrameSize::new(96, 72).unwrap())
+            .unwrap();
+        let v = serde_json::to_value(&f).unwrap();
+        (f, v)
     }
 
     #[test]
     fn labels_and_mapping_are_the_engine_frames_numbers() {
         // The engine's own frame, through the JSON the worker sends.
-        let sc = engine::validate::scenario_from_json(engine::demos::DEMOS[0].json).unwrap();
-        let f = engine::simulate::frame(&sc, 7, engine::simulate::FrameSize::new(96, 72).unwrap())
-            .unwrap();
-        let v = serde_json::to_value(&f).unwrap();
+        let (f, v) = engine_frame();
         let labels = patch_labels(&v, &Plain);
         assert_eq!(labels.len(), f.patches.len());
         for (l, p) in labels.iter().zip(&f.patches) {
-            assert_eq!(l.light, format!("× {:.2}", p.light_factor));
+            assert_eq!(l.light, format!("× {:.3}", p.light_factor));
             match (
                 &p.model,
                 &p.measured
                     .as_ref()
                     .and_then(|m| m.snr.zip(m.snr_uncertainty)),
             ) {
-                (Some(m), _) => assert_eq!(l.model, format!("{:.2}", m.snr_total)),
+                (Some(m), _) => assert_eq!(l.model, format!("{:.3}", m.snr_total)),
                 (None, _) => assert_eq!(l.model, "—"),
             }
         }
@@ -158,7 +155,7 @@ mod tests {
             "{words}"
         );
         assert!(
-            words.contains(&format!("white at {:.2} DN", f.display.white_dn)),
+            words.contains(&format!("white at {:.3} DN", f.display.white_dn)),
             "{words}"
         );
     }
@@ -181,10 +178,7 @@ mod tests {
 
     #[test]
     fn each_patch_is_numbered_at_its_cells_corner() {
-        let sc = engine::validate::scenario_from_json(engine::demos::DEMOS[0].json).unwrap();
-        let f = engine::simulate::frame(&sc, 7, engine::simulate::FrameSize::new(96, 72).unwrap())
-            .unwrap();
-        let v = serde_json::to_value(&f).unwrap();
+        let (f, v) = engine_frame();
         let marks = super::patch_marks(&v);
         assert_eq!(marks.len(), f.patches.len());
         for (i, ((x, y, n), p)) in marks.iter().zip(&f.patches).enumerate() {

@@ -630,21 +630,7 @@ mod tests {
     use serde_json::{json, Value};
 
     use super::{build, readout, ChartKind, Drawn, Now, PinCurves};
-    use crate::display::{Numbers, Style};
-
-    /// Numbers as Rust writes them (the page uses the browser's `Intl.NumberFormat`).
-    struct Plain;
-    impl Numbers for Plain {
-        fn rounded(&self, x: f64, style: Style) -> String {
-            match style {
-                Style::Number => format!("{x:.3}"),
-                Style::Percent => format!("{:.1} %", x * 100.0),
-            }
-        }
-        fn full(&self, x: f64) -> String {
-            format!("{x}")
-        }
-    }
+    use crate::display::Plain;
 
     fn scenario(read_noise: f64) -> Value {
         json!({"version": 1,

@@ -132,20 +132,7 @@ mod tests {
     use serde_json::json;
 
     use super::super::charts::{build, readout, ChartKind, Now, PinCurves};
-    use crate::display::{Numbers, Style};
-
-    struct Plain;
-    impl Numbers for Plain {
-        fn rounded(&self, x: f64, style: Style) -> String {
-            match style {
-                Style::Number => format!("{x:.3}"),
-                Style::Percent => format!("{:.1} %", x * 100.0),
-            }
-        }
-        fn full(&self, x: f64) -> String {
-            format!("{x}")
-        }
-    }
+    use crate::display::Plain;
 
     fn scenario(read_noise: f64) -> serde_json::Value {
         json!({"version": 1,
