@@ -113,25 +113,20 @@ pub fn measure_buffered(
     let mut messages = Vec::new();
     let mut io_error = false;
     let mut stats: Vec<StackStats> = Vec::new();
-    let mut summarised: Vec<bool> = Vec::new();
     let mut file = FrameFile::default();
     let mut buffers = StackBuffers::default();
     // Pass 1: every stack; the spatial summaries only for stacks of SUMMARY_FRAMES or more.
     for stack in &manifest.stacks {
-        let summaries = stack.len() >= SUMMARY_FRAMES;
         let one = accumulate(
             manifest,
             stack,
-            summaries,
+            summarised_as_read(stack),
             (&mut file, &mut buffers),
             &mut *read,
             &mut *seen,
         );
         match one {
-            Ok(Some(s)) => {
-                stats.push(s);
-                summarised.push(summaries);
-            }
+            Ok(Some(s)) => stats.push(s),
             Ok(None) => {}
             Err((lines, io)) => {
                 messages.extend(lines);
@@ -159,8 +154,8 @@ pub fn measure_buffered(
     // analysis picks the same stacks; only their summaries are added.
     let mut again = false;
     let stacks = manifest.stacks.iter().filter(|s| !s.is_empty());
-    for ((stack, s), done) in stacks.zip(stats.iter_mut()).zip(summarised.iter_mut()) {
-        if *done || !first.spatial_from.contains(&s.spec) {
+    for (stack, s) in stacks.zip(stats.iter_mut()) {
+        if summarised_as_read(stack) || !first.spatial_from.contains(&s.spec) {
             continue;
         }
         let one = accumulate(
@@ -174,7 +169,6 @@ pub fn measure_buffered(
         match one {
             Ok(Some(full)) => {
                 *s = full;
-                *done = true;
                 again = true;
             }
             Ok(None) => {}
@@ -199,6 +193,11 @@ pub fn measure_buffered(
 /// if the analysis uses them, after a second read of their few frames. Common practice, no
 /// source.
 const SUMMARY_FRAMES: usize = 4;
+
+/// Whether the first pass makes a stack's spatial summaries ([`SUMMARY_FRAMES`]).
+fn summarised_as_read(stack: &[FrameEntry]) -> bool {
+    stack.len() >= SUMMARY_FRAMES
+}
 
 /// Read, decode and accumulate one stack: its statistics, `None` for an empty stack, or its
 /// problems (one line each, naming the file) and whether a file could not be read.
