@@ -13,7 +13,7 @@ import { createRequire } from 'node:module';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { after, before, describe, test } from 'node:test';
-import { DIST, cli, launch, openPage, singleFileUrl, startServer } from './helpers.mjs';
+import { DIST, analysisEnded, cli, launch, openPage, singleFileUrl, startServer } from './helpers.mjs';
 
 const axeSource = readFileSync(createRequire(import.meta.url).resolve('axe-core/axe.min.js'), 'utf8');
 
@@ -204,10 +204,7 @@ async function chooseFrames(page, files) {
 
 async function analyse(page) {
   await page.click('#measure-run');
-  await page.waitForFunction(() => {
-    const s = document.getElementById('measure-status')?.textContent ?? '';
-    return /^Analysed|could not be analysed/.test(s);
-  }, null, { timeout: 30000 });
+  await analysisEnded(page);
 }
 
 const shownMeasure = (page) => page.$$eval('[data-measure]',

@@ -78,6 +78,14 @@ export async function pageFor(t, browser, url, options) {
   return opened;
 }
 
+/** Wait until Measure a camera's analysis has ended (its status says analysed or not). */
+export async function analysisEnded(page, timeout = 30000) {
+  await page.waitForFunction(() => {
+    const s = document.getElementById('measure-status')?.textContent ?? '';
+    return /^Analysed|could not be analysed/.test(s);
+  }, null, { timeout });
+}
+
 /** Load a demo with its button and wait until the form shows it. */
 export async function loadDemo(page, name) {
   await page.click(`button[data-demo="${name}"]`);

@@ -11,7 +11,7 @@ import { mkdtempSync, readFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { after, before, describe, test } from 'node:test';
-import { DIST, ROOT, cli, launch, loadDemo, openPage, singleFileUrl, startServer } from './helpers.mjs';
+import { DIST, ROOT, analysisEnded, cli, launch, loadDemo, openPage, singleFileUrl, startServer } from './helpers.mjs';
 
 const DEMO = 'global-shutter-machine-vision';
 const DEMO_PATH = join(ROOT, 'www/demos', `${DEMO}.json`);
@@ -102,7 +102,7 @@ describe('the simulated frame and series in the served page', () => {
       assert.ok(zip.includes(Buffer.from('noise-budget-series-seed-5/manifest.json')));
 
       await page.click('#series-measure');
-      await page.waitForFunction(() => /^Analysed|could not be analysed/.test(document.getElementById('measure-status')?.textContent ?? ''), null, { timeout: 120000 });
+      await analysisEnded(page, 120000);
       assert.match(await page.textContent('#measure-status'), /^Analysed \d+ frame files/);
       // Source: the command line writes the same series (seed 5, its default 256 × 256) and
       // characterizes it.
