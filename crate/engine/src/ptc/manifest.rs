@@ -1,21 +1,17 @@
-//! The frame manifest: which files form which stacks, checked with every problem at once, and
-//! the measurement that reads them one at a time into the stack accumulators and analyses.
+//! The frame manifest: which files form which stacks, checked with every problem at once
+//! (the measurement that reads them is `measurement.rs`).
 //!
 //! Shared by `noise-budget characterize` (files on disk) and the page's frame worker (files the
-//! user chose): both hand over a `read` function, so this module does no I/O itself, and both
-//! get the same rules, messages and figures. Paths are text here; resolving them against a
-//! folder is the caller's business.
+//! user chose), so both get the same rules and messages. Paths are text here; resolving them
+//! against a folder is the caller's business.
 
 use std::collections::BTreeMap;
 use std::fmt::Write as _;
 
 use serde_json::Value;
 
-use super::{
-    analyse_with, AnalysisOptions, Cfa, Characterization, FrameKind, Roi, StackAccumulator,
-    StackBuffers, StackSpec, StackStats, CFA_NAMES,
-};
-use crate::frames::{Frame, FrameFile, RawGeometry};
+use super::{Cfa, FrameKind, Roi, CFA_NAMES};
+use crate::frames::RawGeometry;
 pub use crate::input::Problem;
 use crate::input::{self, show_value, type_name, Fields, Need, Problems, Range};
 
@@ -55,212 +51,6 @@ pub struct Manifest {
     /// The camera's bits per sample (`"significant_bits"`, at the top or on every frame; one
     /// value for the whole series).
     pub significant_bits: Option<u8>,
-}
-
-/// Why frames could not be measured: the messages, and whether a file could not be read.
-#[derive(Debug, Clone, PartialEq, Eq)]
-pub struct Failure {
-    /// One line each, naming the file or key.
-    pub messages: Vec<String>,
-    /// True when any file could not be read (the command's exit status 1).
-    pub io: bool,
-}
-
-/// Read, decode and accumulate every stack, then analyse.
-///
-/// `read` returns a file's bytes, or why it cannot (the message follows the file's name);
-/// `seen` is told of each frame entry after its file was read: `Some(frame)` when it decoded,
-/// `None` when it could not be read or decoded. One file's bytes are held at a time and dropped
-/// once decoded; each stack keeps only what its accumulator needs.
-///
-/// Every stack is attempted, so that all undecodable files are reported at once.
-///
-/// # Errors
-/// A [`Failure`] listing each unreadable or undecodable file, or why the analysis is impossible.
-pub fn measure(
-    manifest: &Manifest,
-    read: &mut dyn FnMut(&FrameEntry) -> Result<Vec<u8>, String>,
-    seen: &mut dyn FnMut(&FrameEntry, Option<&Frame>),
-) -> Result<Characterization, Failure> {
-    measure_buffered(
-        manifest,
-        &mut |f, buffer| {
-            *buffer = read(f)?;
-            Ok(())
-        },
-        &mut |f, file| seen(f, file.and_then(FrameFile::to_frame).as_ref()),
-    )
-}
-
-/// A `read` for [`measure_buffered`]: replace the buffer's contents with the file's bytes, or
-/// say why it cannot.
-pub type ReadInto<'a> = dyn FnMut(&FrameEntry, &mut Vec<u8>) -> Result<(), String> + 'a;
-
-/// As [`measure`], with a `read` that replaces the contents of a buffer with the file's bytes
-/// (clear it, then fill it), and a `seen` told of each file as it was read
-/// ([`FrameFile`]: its size and depth; the samples are widened only when summed). The files'
-/// buffers go round between this function and the stack accumulators
-/// ([`StackAccumulator::push_file`]), so a long series is read into the same few buffers. The
-/// figures are those of [`measure`].
-///
-/// # Errors
-/// As [`measure`].
-pub fn measure_buffered(
-    manifest: &Manifest,
-    read: &mut ReadInto<'_>,
-    seen: &mut dyn FnMut(&FrameEntry, Option<&FrameFile>),
-) -> Result<Characterization, Failure> {
-    let mut messages = Vec::new();
-    let mut io_error = false;
-    let mut stats: Vec<StackStats> = Vec::new();
-    let mut file = FrameFile::default();
-    let mut buffers = StackBuffers::default();
-    // Pass 1: every stack; the spatial summaries only for stacks of SUMMARY_FRAMES or more.
-    for stack in &manifest.stacks {
-        let one = accumulate(
-            manifest,
-            stack,
-            summarised_as_read(stack),
-            (&mut file, &mut buffers),
-            &mut *read,
-            &mut *seen,
-        );
-        match one {
-            Ok(Some(s)) => stats.push(s),
-            Ok(None) => {}
-            Err((lines, io)) => {
-                messages.extend(lines);
-                io_error |= io;
-            }
-        }
-    }
-    if !messages.is_empty() {
-        return Err(Failure {
-            messages,
-            io: io_error,
-        });
-    }
-    let options = AnalysisOptions {
-        cfa: manifest.cfa,
-        significant_bits: manifest.significant_bits,
-    };
-    let analysis_failure = |e| Failure {
-        messages: vec![format!("analysis: {e}")],
-        io: false,
-    };
-    let first = analyse_with(&stats, options).map_err(analysis_failure)?;
-    // Pass 2: the stacks whose summaries the spatial report uses, read again where pass 1
-    // left them out (short stacks: a few frames each). The moments are the same, so the
-    // analysis picks the same stacks; only their summaries are added.
-    let mut again = false;
-    let stacks = manifest.stacks.iter().filter(|s| !s.is_empty());
-    for (stack, s) in stacks.zip(stats.iter_mut()) {
-        if summarised_as_read(stack) || !first.spatial_from.contains(&s.spec) {
-            continue;
-        }
-        let one = accumulate(
-            manifest,
-            stack,
-            true,
-            (&mut file, &mut buffers),
-            &mut *read,
-            &mut |_, _| {},
-        );
-        match one {
-            Ok(Some(full)) => {
-                *s = full;
-                again = true;
-            }
-            Ok(None) => {}
-            Err((lines, io)) => {
-                return Err(Failure {
-                    messages: lines,
-                    io,
-                })
-            }
-        }
-    }
-    drop((file, buffers));
-    if !again {
-        return Ok(first);
-    }
-    analyse_with(&stats, options).map_err(analysis_failure)
-}
-
-/// Stacks of at least this many frames get their spatial summaries in the first pass: a stack
-/// that long was most likely taken for the nonuniformity (EMVA 1288: L ≥ 2, more is better),
-/// and reading it again would cost more than its summaries; shorter ones are summarised only
-/// if the analysis uses them, after a second read of their few frames. Common practice, no
-/// source.
-const SUMMARY_FRAMES: usize = 4;
-
-/// Whether the first pass makes a stack's spatial summaries ([`SUMMARY_FRAMES`]).
-fn summarised_as_read(stack: &[FrameEntry]) -> bool {
-    stack.len() >= SUMMARY_FRAMES
-}
-
-/// Read, decode and accumulate one stack: its statistics, `None` for an empty stack, or its
-/// problems (one line each, naming the file) and whether a file could not be read.
-fn accumulate(
-    manifest: &Manifest,
-    stack: &[FrameEntry],
-    summaries: bool,
-    (file, buffers): (&mut FrameFile, &mut StackBuffers),
-    read: &mut ReadInto<'_>,
-    seen: &mut dyn FnMut(&FrameEntry, Option<&FrameFile>),
-) -> Result<Option<StackStats>, (Vec<String>, bool)> {
-    let Some(first) = stack.first() else {
-        return Ok(None);
-    };
-    let spec = StackSpec {
-        kind: first.kind,
-        exposure_time_s: first.exposure_time_s,
-        level: first.level.clone(),
-        photons_per_pixel: first.photons_per_pixel,
-        frames: u32::try_from(stack.len()).unwrap_or(u32::MAX),
-    };
-    let acc =
-        StackAccumulator::with_buffers(spec, manifest.roi, manifest.cfa, std::mem::take(buffers));
-    let mut acc = match acc {
-        Ok(a) if summaries => a,
-        Ok(a) => a.without_summaries(),
-        Err(e) => return Err((vec![format!("frames[{}]: {e}", first.index)], false)),
-    };
-    let mut messages = Vec::new();
-    let mut io_error = false;
-    let mut ok = true;
-    for f in stack {
-        let name = format!("frames[{}] ({})", f.index, f.path);
-        if let Err(e) = read(f, file.bytes_mut()) {
-            messages.push(format!("{name}: {e}"));
-            io_error = true;
-            ok = false;
-            seen(f, None);
-            continue;
-        }
-        if let Err(e) = file.decode(f.raw) {
-            messages.push(format!("{name}: {e}"));
-            ok = false;
-            seen(f, None);
-            continue;
-        }
-        seen(f, Some(file));
-        if ok {
-            if let Err(e) = acc.push_file(file) {
-                messages.push(format!("{name}: {e}"));
-                ok = false;
-            }
-        }
-    }
-    let (result, kept) = acc.finish_with_buffers();
-    *buffers = kept;
-    if !ok {
-        return Err((messages, io_error));
-    }
-    match result {
-        Ok(s) => Ok(Some(s)),
-        Err(e) => Err((vec![format!("frames[{}]: {e}", first.index)], io_error)),
-    }
 }
 
 // ---- parsing -----------------------------------------------------------------------------
@@ -621,46 +411,5 @@ mod tests {
         assert!(problems(r#"{"version": 1}"#)
             .iter()
             .any(|p| p.starts_with("frames: required")));
-    }
-
-    /// A 4 × 2 8-bit PGM with the given samples.
-    fn pgm(samples: [u8; 8]) -> Vec<u8> {
-        let mut b = b"P5 4 2 255\n".to_vec();
-        b.extend(samples);
-        b
-    }
-
-    #[test]
-    fn measure_names_each_bad_file_and_tells_what_it_saw() {
-        let m = parse_manifest(
-            r#"{"version": 1, "frames": [
-                  {"path": "d1.pgm", "kind": "dark", "exposure_time_s": 0.01},
-                  {"path": "d2.pgm", "kind": "dark", "exposure_time_s": 0.01},
-                  {"path": "f1.pgm", "kind": "flat", "exposure_time_s": 0.01},
-                  {"path": "f2.pgm", "kind": "flat", "exposure_time_s": 0.01}
-                ]}"#,
-        )
-        .unwrap();
-        let mut seen = Vec::new();
-        let got = measure(
-            &m,
-            &mut |f| match f.path.as_str() {
-                "d2.pgm" => Ok(b"P5 4 2 255\n\x01".to_vec()),
-                "f2.pgm" => Err("the browser could not read it".into()),
-                _ => Ok(pgm([1, 2, 3, 4, 5, 6, 7, 8])),
-            },
-            &mut |f, frame| seen.push((f.index, frame.map(Frame::width))),
-        );
-        let Err(failure) = got else {
-            unreachable!("{got:?}")
-        };
-        assert_eq!(seen, [(0, Some(4)), (1, None), (2, Some(4)), (3, None)]);
-        assert!(failure.io);
-        assert_eq!(failure.messages.len(), 2, "{failure:?}");
-        assert!(failure.messages[0].starts_with("frames[1] (d2.pgm): truncated"));
-        assert_eq!(
-            failure.messages[1],
-            "frames[3] (f2.pgm): the browser could not read it"
-        );
     }
 }

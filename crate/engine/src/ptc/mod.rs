@@ -9,8 +9,8 @@
 //! Code map: `pair.rs` the exact integer pass over a frame pair (the hot loop); `stack.rs` one
 //! stack; `fit.rs` straight-line fits with uncertainties; `formulas.rs` the standard's
 //! closed-form steps with their sources; `analysis/` the method, step by step; `manifest.rs`
-//! which files form which stacks, and the measurement over a `read` function; `curve.rs`
-//! plot-ready series of a result.
+//! which files form which stacks; `measurement.rs` the measurement, given one file at a time;
+//! `curve.rs` plot-ready series of a result.
 
 mod analysis;
 mod cfa;
@@ -22,6 +22,7 @@ mod figures;
 mod fit;
 mod formulas;
 mod manifest;
+mod measurement;
 mod pair;
 mod region;
 mod spatial;
@@ -44,10 +45,8 @@ pub use formulas::{
     prnu_percent, quantum_efficiency, read_noise_e, read_noise_upper_bound_e,
     saturation_capacity_e, QUANTIZATION_VARIANCE_DN2, SMALL_DARK_VARIANCE_DN2,
 };
-pub use manifest::{
-    measure, measure_buffered, parse_manifest, Failure, FrameEntry, Manifest, Problem, ReadInto,
-    MANIFEST_VERSION,
-};
+pub use manifest::{parse_manifest, FrameEntry, Manifest, Problem, MANIFEST_VERSION};
+pub use measurement::{measure, measure_buffered, Failure, Measurement, ReadInto};
 pub use pair::{pair_sums, PairSums};
 pub use spatial::{
     split_variance, HighNoise, Histogram, SpatialSummary, VarianceSplit, DEFECT_SIGMAS,
