@@ -12,7 +12,8 @@
 // (node's readFileSync), same session. worker: the served page (dist/index.html on a local
 // server), the files chosen and analysed as a person does (time from Analyse to the answer),
 // against reading the same File objects once with arrayBuffer() in the page.
-// Needs scripts/build-page first. Usage: node scripts/measure-series.mjs [--keep]
+// Needs scripts/build-page first.
+// Usage: node scripts/measure-series.mjs [--keep] [--rounds N] [--baseline OTHER_DIST_DIR]
 import { execFileSync } from 'node:child_process';
 import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
@@ -74,31 +75,57 @@ const browser = await chromium.launch({
   executablePath: process.env.CHROMIUM ?? '/usr/bin/chromium', headless: true,
   args: ['--no-sandbox', '--disable-gpu', '--disable-dev-shm-usage'],
 });
-const server = await serveStatic(DIST, 0);
+// The page's worker on one built page: the same File objects read once in the page (the floor),
+// then the analysis as a person starts it (time from Analyse to the answer).
+async function workerRun(distDir) {
+  const server = await serveStatic(distDir, 0);
+  const ctx = await browser.newContext();
+  try {
+    const page = await ctx.newPage();
+    await page.goto(`${server.origin}/`);
+    await page.waitForSelector('html[data-ready]', { timeout: 15000 });
+    await page.evaluate(() => { const i = document.createElement('input'); i.type = 'file'; i.multiple = true; i.id = 'bench-files'; document.body.append(i); });
+    await page.setInputFiles('#bench-files', files);
+    const readMs = await page.evaluate(async () => {
+      const t0 = performance.now();
+      let n = 0;
+      for (const f of document.getElementById('bench-files').files) n += (await f.arrayBuffer()).byteLength;
+      return performance.now() - t0 + n * 0;
+    });
+    await page.setInputFiles('#measure-files', files);
+    await page.waitForFunction(() => /described/.test(document.getElementById('measure-status')?.textContent ?? ''));
+    const t0 = Date.now();
+    await page.click('#measure-run');
+    await page.waitForFunction(() => /^Analysed|could not be analysed/.test(document.getElementById('measure-status')?.textContent ?? ''), null, { timeout: 600000 });
+    const ms = Date.now() - t0;
+    const k = await page.$eval('[data-measure="system_gain_dn_per_e"]', (e) => e.dataset.value);
+    return { readMs, ms, k: Number(k) };
+  } finally {
+    await ctx.close();
+    server.server.close();
+  }
+}
+// --baseline DIR: another built page (an earlier dist/) run alternately with this one, so that
+// the machine's load falls on both alike; --rounds N runs of each (medians reported).
+const arg = (name) => { const i = process.argv.indexOf(name); return i > 0 ? process.argv[i + 1] : undefined; };
+const baseline = arg('--baseline');
+const rounds = Math.max(1, Number(arg('--rounds') ?? 1));
+const median = (xs) => { const s = [...xs].sort((a, b) => a - b); const m = s.length >> 1; return s.length % 2 ? s[m] : (s[m - 1] + s[m]) / 2; };
 try {
-  const page = await browser.newPage();
-  await page.goto(`${server.origin}/`);
-  await page.waitForSelector('html[data-ready]', { timeout: 15000 });
-  // The floor: the same File objects read once in the page.
-  await page.evaluate(() => { const i = document.createElement('input'); i.type = 'file'; i.multiple = true; i.id = 'bench-files'; document.body.append(i); });
-  await page.setInputFiles('#bench-files', files);
-  const pageReadMs = await page.evaluate(async () => {
-    const t0 = performance.now();
-    let n = 0;
-    for (const f of document.getElementById('bench-files').files) n += (await f.arrayBuffer()).byteLength;
-    return performance.now() - t0 + n * 0;
-  });
-  await page.setInputFiles('#measure-files', files);
-  await page.waitForFunction(() => /described/.test(document.getElementById('measure-status')?.textContent ?? ''));
-  const t0 = Date.now();
-  await page.click('#measure-run');
-  await page.waitForFunction(() => /^Analysed|could not be analysed/.test(document.getElementById('measure-status')?.textContent ?? ''), null, { timeout: 600000 });
-  const workerMs = Date.now() - t0;
-  const k = await page.$eval('[data-measure="system_gain_dn_per_e"]', (e) => e.dataset.value);
-  console.log(`worker: plain read in the page ${pageReadMs.toFixed(0)} ms, analysis ${workerMs} ms = ${(workerMs / pageReadMs).toFixed(2)} × the read` +
-    ` (K green ${Number(k).toFixed(4)}); worker / native ${(workerMs / nativeMs).toFixed(2)} ×`);
+  const ours = []; const theirs = [];
+  for (let r = 0; r < rounds; r++) {
+    if (baseline) theirs.push(await workerRun(resolve(baseline)));
+    ours.push(await workerRun(DIST));
+  }
+  const read = median(ours.map((x) => x.readMs)); const ms = median(ours.map((x) => x.ms));
+  console.log(`worker: plain read in the page ${read.toFixed(0)} ms, analysis ${ms.toFixed(0)} ms = ${(ms / read).toFixed(2)} × the read` +
+    ` (K green ${ours[0].k.toFixed(4)}); worker / native ${(ms / nativeMs).toFixed(2)} ×` + (rounds > 1 ? ` (medians of ${rounds})` : ''));
+  if (baseline) {
+    const b = median(theirs.map((x) => x.ms));
+    console.log(`baseline ${baseline}: analysis ${b.toFixed(0)} ms (K green ${theirs[0].k.toFixed(4)}); this page / baseline ${(ms / b).toFixed(2)} ×` +
+      ` (runs: this ${ours.map((x) => x.ms).join(', ')} ms; baseline ${theirs.map((x) => x.ms).join(', ')} ms)`);
+  }
 } finally {
   await browser.close();
-  server.server.close();
   if (!process.argv.includes('--keep')) rmSync(dir, { recursive: true, force: true });
 }

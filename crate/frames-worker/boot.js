@@ -2,8 +2,8 @@
 // scripts/embed-worker.mjs puts this after the wasm-bindgen glue (target no-modules, which
 // defines `wasm_bindgen`) and the wasm as base64 of its gzip (NOISE_BUDGET_FRAMES_WASM), and
 // embeds the whole script in the page; the page starts it from a Blob URL, so nothing is
-// fetched. This script only inflates the wasm, reads the files one at a time and posts
-// messages; the analysis is Rust's (src/bindings.rs).
+// fetched. This script only inflates the wasm, reads the files (the next one while Rust
+// analyses the current one) and posts messages; the analysis is Rust's (src/bindings.rs).
 //
 // Messages in:  { manifest: "<manifest JSON text>", files: [File | ArrayBuffer, …] }
 //               { bench: { width, height, repeats } }
@@ -29,6 +29,80 @@ const noiseBudgetReady = (async () => {
   const bytes = await new Response(stream).arrayBuffer();
   await wasm_bindgen({ module_or_path: bytes });
 })();
+
+// How many files are read ahead of the one being analysed.
+const NOISE_BUDGET_READ_AHEAD = 1;
+
+// Reads the files: in a second worker when this browser lets a worker start one (its reads then
+// go on while this worker analyses), else here. read(i) gives a promise of { bytes } or
+// { why }, never rejected; close() stops the second worker.
+const NOISE_BUDGET_READER_SOURCE = `self.onmessage = (e) => {
+  const { id, file } = e.data;
+  try {
+    const buffer = new FileReaderSync().readAsArrayBuffer(file);
+    self.postMessage({ id, buffer }, [buffer]);
+  } catch (err) {
+    self.postMessage({ id, why: String((err && err.message) || err) });
+  }
+};`;
+function noiseBudgetReader(files) {
+  const why = (err) => String((err && err.message) || err || 'no reason given');
+  const here = (i) => {
+    const f = files[i];
+    try {
+      if (f instanceof Blob) return { bytes: new Uint8Array(new FileReaderSync().readAsArrayBuffer(f)) };
+      if (f instanceof ArrayBuffer) return { bytes: new Uint8Array(f) };
+      return { why: 'no such file was sent to the worker' };
+    } catch (err) {
+      return { why: why(err) };
+    }
+  };
+  let helper = null;
+  let url = '';
+  const waiting = new Map();
+  let next = 0;
+  if (typeof Worker === 'function' && files.some((f) => f instanceof Blob)) {
+    try {
+      url = URL.createObjectURL(new Blob([NOISE_BUDGET_READER_SOURCE], { type: 'text/javascript' }));
+      helper = new Worker(url);
+    } catch {
+      helper = null;
+    }
+  }
+  const stop = () => {
+    if (helper) helper.terminate();
+    helper = null;
+    if (url) URL.revokeObjectURL(url);
+    url = '';
+  };
+  if (helper) {
+    helper.onmessage = (e) => {
+      const w = waiting.get(e.data.id);
+      if (!w) return;
+      waiting.delete(e.data.id);
+      w.resolve(e.data.buffer ? { bytes: new Uint8Array(e.data.buffer) } : { why: e.data.why });
+    };
+    // A second worker that cannot run (a policy, a browser without FileReaderSync there):
+    // the reads it was given, and all later ones, are made here.
+    helper.onerror = (e) => {
+      e.preventDefault();
+      stop();
+      for (const w of waiting.values()) w.resolve(here(w.index));
+      waiting.clear();
+    };
+  }
+  return {
+    read(i) {
+      if (!helper || !(files[i] instanceof Blob)) return Promise.resolve(here(i));
+      return new Promise((resolve) => {
+        const id = next++;
+        waiting.set(id, { resolve, index: i });
+        helper.postMessage({ id, file: files[i] });
+      });
+    },
+    close: stop,
+  };
+}
 
 self.onmessage = async (event) => {
   const data = event.data ?? {};
@@ -62,17 +136,27 @@ self.onmessage = async (event) => {
       return;
     }
     const files = Array.from(data.files ?? []);
-    const reader = new FileReaderSync();
-    // One file at a time: its bytes live only until Rust has copied and decoded them.
-    const read = (i) => {
-      const f = files[i];
-      if (f instanceof Blob) return new Uint8Array(reader.readAsArrayBuffer(f));
-      if (f instanceof ArrayBuffer) return new Uint8Array(f);
-      throw new Error('no such file was sent to the worker');
-    };
-    const seen = (index, frame) => self.postMessage({ type: 'progress', index, frame });
-    const result = wasm_bindgen.analyse(String(data.manifest ?? ''), read, seen);
-    self.postMessage({ type: 'done', result });
+    const reader = noiseBudgetReader(files);
+    try {
+      const job = wasm_bindgen.Analysis.start(String(data.manifest ?? ''));
+      // Files being read, by manifest index: the wanted one and the next (at most
+      // NOISE_BUDGET_READ_AHEAD held besides the one Rust holds), so the next file is read while
+      // this one is analysed. A file read twice (the second pass) is asked for again.
+      const reading = new Map();
+      let index;
+      while ((index = job.wanted()) !== undefined) {
+        for (const i of job.upcoming(NOISE_BUDGET_READ_AHEAD + 1)) {
+          if (!reading.has(i)) reading.set(i, reader.read(i));
+        }
+        const got = await reading.get(index);
+        reading.delete(index);
+        const frame = got.bytes ? job.give(index, got.bytes) : job.unreadable(index, got.why);
+        if (frame !== undefined) self.postMessage({ type: 'progress', index, frame });
+      }
+      self.postMessage({ type: 'done', result: job.answer() });
+    } finally {
+      reader.close();
+    }
   } catch (err) {
     self.postMessage({ type: 'failed', message: `the frame analysis stopped: ${err}` });
   }

@@ -1,8 +1,8 @@
-//! The worker's JavaScript interface: `analyse`, `simulate_frame` and `simulate_series` for
+//! The worker's JavaScript interface: `Analysis`, `simulate_frame` and `simulate_series` for
 //! `boot.js`, and `pair_stats_ms` for `scripts/measure-frames.mjs`.
 //!
-//! Adapts JavaScript functions to the closures of [`crate::job`]; no rule or statistic here.
-//! A file JavaScript cannot give (an exception, or not bytes) becomes a message, never a panic.
+//! Adapts JavaScript values to [`crate::job`]; no rule or statistic here. A file JavaScript
+//! cannot give becomes a message, never a panic.
 
 use js_sys::{Function, Uint8Array};
 use wasm_bindgen::prelude::*;
@@ -81,36 +81,83 @@ pub fn simulate_series(scenario_json: &str, seed: &str, zip: bool) -> js_sys::Ar
     out
 }
 
-/// Analyse the frames a manifest lists. `read(index)` returns a file's bytes as a
-/// `Uint8Array` (or throws); `seen(index, text)` is called after each file with the frame's
-/// size text, or `null` when it could not be read or decoded. Returns the JSON of
-/// [`job::run`]. Each file's bytes are copied into wasm memory, decoded and dropped before the
-/// next is read.
+/// An analysis given its files one at a time (see [`job::Job`]), for `boot.js`, which reads
+/// the next files while one is analysed:
+///
+/// ```text
+/// const a = Analysis.start(manifest);
+/// while ((i = a.wanted()) !== undefined) { …a.upcoming(2) read ahead…; told = a.give(i, bytes) }
+/// a.answer()
+/// ```
 #[wasm_bindgen]
-#[must_use]
-pub fn analyse(manifest_json: &str, read: &Function, seen: &Function) -> String {
-    let mut read_one = |f: &engine::ptc::FrameEntry| {
-        let index = JsValue::from(u32::try_from(f.index).unwrap_or(u32::MAX));
-        match read.call1(&JsValue::NULL, &index) {
-            Ok(v) => match v.dyn_into::<Uint8Array>() {
-                Ok(bytes) => Ok(bytes.to_vec()),
-                Err(_) => Err("the browser gave no bytes for this file".to_string()),
-            },
-            Err(e) => Err(format!(
-                "the browser could not read the file: {}",
-                e.as_string()
-                    .or_else(|| js_sys::JSON::stringify(&e).ok().and_then(|s| s.as_string()))
-                    .unwrap_or_else(|| "no reason given".into())
-            )),
+pub struct Analysis {
+    job: job::Job,
+}
+
+#[wasm_bindgen]
+impl Analysis {
+    /// Start on the manifest the page wrote (JSON text); a manifest with problems wants no file
+    /// and answers with them.
+    #[must_use]
+    pub fn start(manifest_json: &str) -> Analysis {
+        Analysis {
+            job: job::Job::start(manifest_json),
         }
-    };
-    let mut seen_one = |f: &engine::ptc::FrameEntry, text: Option<String>| {
-        let index = JsValue::from(u32::try_from(f.index).unwrap_or(u32::MAX));
-        let text = text.map_or(JsValue::NULL, |t| JsValue::from_str(&t));
-        // A failing progress report must not stop the analysis.
-        let _ = seen.call2(&JsValue::NULL, &index, &text);
-    };
-    job::run(manifest_json, &mut read_one, &mut seen_one)
+    }
+
+    /// The manifest index of the file to give next, or `undefined` once the answer is ready.
+    #[must_use]
+    pub fn wanted(&self) -> Option<u32> {
+        self.job.wanted().map(index_u32)
+    }
+
+    /// The manifest indices of the next `n` files wanted, the wanted one first.
+    #[must_use]
+    pub fn upcoming(&self, n: u32) -> Vec<u32> {
+        let n = usize::try_from(n).unwrap_or(usize::MAX);
+        self.job.upcoming(n).into_iter().map(index_u32).collect()
+    }
+
+    /// Give file `index`'s bytes (copied into wasm memory, into the buffer the last frame
+    /// used). Returns the file table's text for it (`"W × H, B-bit"`), `null` when it could not
+    /// be decoded, or `undefined` when it was read a second time.
+    #[must_use]
+    pub fn give(&mut self, index: u32, bytes: &Uint8Array) -> JsValue {
+        let fill = |buffer: &mut Vec<u8>| {
+            // A buffer of the last frame's length is overwritten as it is, without zeroing.
+            buffer.resize(bytes.length() as usize, 0);
+            bytes.copy_to(buffer);
+        };
+        told(self.job.give(index as usize, Ok(&fill)))
+    }
+
+    /// Say that the browser could not read file `index`, and why (the message follows the
+    /// file's name in the problems). Returns as [`Analysis::give`].
+    #[must_use]
+    pub fn unreadable(&mut self, index: u32, why: &str) -> JsValue {
+        told(self.job.give(
+            index as usize,
+            Err(format!("the browser could not read the file: {why}")),
+        ))
+    }
+
+    /// The answer: the JSON text of [`job::run`].
+    #[must_use]
+    pub fn answer(self) -> String {
+        self.job.answer()
+    }
+}
+
+fn index_u32(i: usize) -> u32 {
+    u32::try_from(i).unwrap_or(u32::MAX)
+}
+
+fn told(t: Option<Option<String>>) -> JsValue {
+    match t {
+        None => JsValue::UNDEFINED,
+        Some(None) => JsValue::NULL,
+        Some(Some(text)) => JsValue::from_str(&text),
+    }
 }
 
 /// The best time, in milliseconds by `now()`, of `repeats` frame-pair statistics passes over

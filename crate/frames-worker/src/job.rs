@@ -5,8 +5,8 @@
 //! Pure and native-testable; the wasm bindings only adapt JavaScript functions to the two
 //! closures. No statistic or rule lives here (they are the engine's).
 
-use engine::frames::Frame;
-use engine::ptc::{self, Characterization, CurveSeries, FrameEntry, Problem};
+use engine::frames::{Frame, FrameFile};
+use engine::ptc::{self, Characterization, CurveSeries, Problem};
 use serde::Serialize;
 use serde_json::Value;
 
@@ -52,26 +52,119 @@ pub fn frame_text(frame: Option<&Frame>) -> Option<String> {
     frame.map(|f| format!("{} × {}, {}-bit", f.width(), f.height(), f.sample_bits()))
 }
 
-/// Run a job. `read` gets a frame entry (its `index` is the file's position in the manifest's
-/// `frames`, its `path` the file's name) and returns the bytes or why they cannot be read;
-/// `seen` is told each entry's [`frame_text`] after its file was read.
+/// Puts a file's bytes into the analysis's buffer (replacing what it holds).
+pub type Fill<'a> = dyn Fn(&mut Vec<u8>) + 'a;
+
+/// One analysis, given its files one at a time ([`engine::ptc::Measurement`] with text in and
+/// out), so that the worker can read the next files while one is analysed.
+#[derive(Debug)]
+pub struct Job {
+    measurement: Option<ptc::Measurement>,
+    /// The answer, when the manifest could not be read.
+    answer: Option<String>,
+}
+
+impl Job {
+    /// Start a job on the manifest the page wrote (JSON text). A manifest with problems makes
+    /// a job that wants no file and answers with them.
+    #[must_use]
+    pub fn start(manifest_json: &str) -> Job {
+        match ptc::parse_manifest(manifest_json) {
+            Ok(m) => Job {
+                measurement: Some(ptc::Measurement::new(m)),
+                answer: None,
+            },
+            Err(problems) => Job {
+                measurement: None,
+                answer: Some(problems_json(&named(manifest_json, &problems))),
+            },
+        }
+    }
+
+    /// The manifest index of the file to give next; `None` once the answer is ready.
+    #[must_use]
+    pub fn wanted(&self) -> Option<usize> {
+        Some(self.measurement.as_ref()?.wanted()?.index)
+    }
+
+    /// The manifest indices of the next `n` files wanted, [`Job::wanted`] first (see
+    /// [`engine::ptc::Measurement::upcoming`]), for reading ahead.
+    #[must_use]
+    pub fn upcoming(&self, n: usize) -> Vec<usize> {
+        self.measurement.as_ref().map_or_else(Vec::new, |m| {
+            m.upcoming(n).iter().map(|f| f.index).collect()
+        })
+    }
+
+    /// Give file `index`: its bytes, or why the browser could not read it. Returns what the
+    /// page's file table should say of it, `Some(`[`frame_text`]`)`, or `None` when the file
+    /// is being read a second time (the table already says). A file that is not the one
+    /// wanted is taken as the wanted one being unreadable, with a message saying so.
+    pub fn give(
+        &mut self,
+        index: usize,
+        bytes: Result<&Fill<'_>, String>,
+    ) -> Option<Option<String>> {
+        let m = self.measurement.as_mut()?;
+        let wanted = m.wanted()?.index;
+        let second = m.rereading();
+        let mut told = None;
+        m.give(
+            &mut |_, buffer| match &bytes {
+                Ok(fill) if index == wanted => {
+                    fill(buffer);
+                    Ok(())
+                }
+                Ok(_) => Err(format!(
+                    "the page sent frames[{index}] where this file was expected"
+                )),
+                Err(e) => Err(e.clone()),
+            },
+            &mut |_, file| told = Some(frame_text(file.and_then(FrameFile::to_frame).as_ref())),
+        );
+        if second {
+            None
+        } else {
+            Some(told.flatten())
+        }
+    }
+
+    /// The answer: JSON text, `{"result": …}` or `{"problems": […]}` (see [`run`]).
+    #[must_use]
+    pub fn answer(self) -> String {
+        if let Some(a) = self.answer {
+            return a;
+        }
+        match self.measurement.map(ptc::Measurement::finish) {
+            Some(Ok(c)) => answer_json(&c),
+            Some(Err(failure)) => problems_json(&failure.messages),
+            None => problems_json(&["the analysis had no manifest".to_string()]),
+        }
+    }
+}
+
+/// Run a job. `read` gets a frame entry's index (its position in the manifest's `frames`) and
+/// returns the bytes or why they cannot be read; `seen` is told each entry's [`frame_text`]
+/// after its file was read (once, though a file may be read twice).
 ///
 /// Returns JSON text: `{"result": {"sensor": …, "fit": …, "series": …}}`, or
 /// `{"problems": ["name: what is wrong", …]}`, every problem at once.
 pub fn run(
     manifest_json: &str,
-    read: &mut dyn FnMut(&FrameEntry) -> Result<Vec<u8>, String>,
-    seen: &mut dyn FnMut(&FrameEntry, Option<String>),
+    read: &mut dyn FnMut(usize) -> Result<Vec<u8>, String>,
+    seen: &mut dyn FnMut(usize, Option<String>),
 ) -> String {
-    let manifest = match ptc::parse_manifest(manifest_json) {
-        Ok(m) => m,
-        Err(problems) => return problems_json(&named(manifest_json, &problems)),
-    };
-    let result = ptc::measure(&manifest, read, &mut |f, frame| seen(f, frame_text(frame)));
-    match result {
-        Ok(c) => answer_json(&c),
-        Err(failure) => problems_json(&failure.messages),
+    let mut job = Job::start(manifest_json);
+    while let Some(index) = job.wanted() {
+        let told = match read(index) {
+            Ok(bytes) => job.give(index, Ok(&|buffer: &mut Vec<u8>| buffer.clone_from(&bytes))),
+            Err(e) => job.give(index, Err(e)),
+        };
+        if let Some(text) = told {
+            seen(index, text);
+        }
     }
+    job.answer()
 }
 
 /// The answer of a characterization as JSON text.
@@ -189,14 +282,14 @@ mod tests {
             r#"{"version": 1, "frames": [
                 {"path": "d1.pgm", "kind": "dark", "exposure_time_s": 1},
                 {"path": "d2.pgm", "kind": "dark", "exposure_time_s": 1}]}"#,
-            &mut |f| {
-                if f.index == 1 {
+            &mut |index| {
+                if index == 1 {
                     Ok(b"P5 2 1 255\n".to_vec())
                 } else {
                     Ok(pgm(3))
                 }
             },
-            &mut |f, text| seen.push((f.index, text)),
+            &mut |index, text| seen.push((index, text)),
         );
         assert_eq!(seen, [(0, Some("2 × 1, 8-bit".to_string())), (1, None)]);
         let v: Value = serde_json::from_str(&out).unwrap();

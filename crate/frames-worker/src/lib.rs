@@ -1,12 +1,13 @@
-//! The page's frame analysis, run in a Web Worker: the frame files the user chose, read one at
-//! a time into the engine's photon transfer analysis, and the result as JSON text.
+//! The page's frame analysis, run in a Web Worker: the frame files the user chose, given one at
+//! a time to the engine's photon transfer analysis (read one ahead, see `boot.js`), and the
+//! result as JSON text.
 //!
 //! A separate wasm from the page's (`crate/web`), so that the frame decoders and the analysis
 //! are loaded only when someone analyses frames and never slow the calculator's start. It has
 //! no DOM and no worker scope of its own: `boot.js` (appended to the wasm-bindgen glue by
 //! `scripts/embed-worker.mjs`) reads each file and posts progress and the result. It computes
 //! nothing itself: manifest rules, decoding, statistics and fits are the engine's
-//! (`engine::ptc::parse_manifest`, `engine::ptc::measure`), the same code as
+//! (`engine::ptc::parse_manifest`, `engine::ptc::Measurement`), the same code as
 //! `noise-budget characterize`. It also runs the page's simulations (`sim`: the test-scene
 //! frame and a photon transfer series, `engine::simulate`, the code of `noise-budget simulate`),
 //! so that neither the simulator nor its work is in the page's own wasm or thread; `zip` packs

@@ -550,7 +550,10 @@ mod tests {
             );
         }
         assert_eq!(got_order, order);
-        assert!(order.len() > 6, "the short stacks used are read again: {order:?}");
+        assert!(
+            order.len() > 6,
+            "the short stacks used are read again: {order:?}"
+        );
         // Told once per manifest entry, in the first pass only.
         let mut indices: Vec<usize> = told.iter().map(|t| t.0).collect();
         indices.sort_unstable();

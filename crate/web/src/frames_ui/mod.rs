@@ -5,12 +5,12 @@
 //!
 //! This is the DOM side only. It writes the table as a manifest (the same JSON as
 //! `noise-budget characterize` reads, with the file names as paths) and posts it with the File
-//! objects to the worker, which reads one file at a time, applies the engine's manifest rules,
-//! statistics and fits, and answers with JSON. Nothing here decodes a frame, checks a rule or
-//! computes a statistic, and the page's wasm links no frame decoder. The worker's script is
-//! written by `scripts/embed-worker.mjs` as a file beside the served page (or, in the single
-//! file, embedded in it and started from a Blob URL), and started only when an analysis
-//! starts; Cancel terminates it. Nothing here sends a frame anywhere, and nothing may panic on
+//! objects to the worker, which reads the files (one ahead of its analysis), applies the
+//! engine's manifest rules, statistics and fits, and answers with JSON. Nothing here decodes
+//! a frame, checks a rule or computes a statistic, and the page's wasm links no frame decoder.
+//! The worker's script is written by `scripts/embed-worker.mjs` as a file beside the served
+//! page (or, in the single file, embedded in it and started from a Blob URL), and started only
+//! when an analysis starts; Cancel terminates it. Nothing here sends a frame anywhere, and nothing may panic on
 //! a file or on what a user types.
 //!
 //! Here: the section's state, `mount` and the status and problem lines. `table.rs` the file
