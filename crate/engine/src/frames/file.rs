@@ -88,6 +88,14 @@ pub(crate) fn widen_into(samples: Samples, data: &[u8], out: &mut Vec<u16>) {
 /// (where the zip of `chunks_exact(2)` stayed a call per sample).
 fn widen_16<const BIG: bool>(data: &[u8], out: &mut [u16]) {
     const LOW: u64 = 0x00ff_00ff_00ff_00ff;
+    #[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
+    let (data, out) = {
+        let done = widen_16_simd128::<BIG>(data, out);
+        (
+            data.get(2 * done..).unwrap_or_default(),
+            out.get_mut(done..).unwrap_or_default(),
+        )
+    };
     let mut outs = out.chunks_exact_mut(4);
     let mut ins = data.chunks_exact(8);
     for (o, d) in (&mut outs).zip(&mut ins) {
@@ -125,6 +133,30 @@ fn widen_16<const BIG: bool>(data: &[u8], out: &mut [u16]) {
     }
 }
 
+/// As [`widen_16`] with wasm's 128-bit vectors, 8 samples a step (one load, one byte shuffle
+/// for `BIG`, one store), where the compiler leaves the `u64` form scalar: measured in node's
+/// V8 on a 12 MP, L = 16 series, the widening was 29 % of the worker's analysis. Returns the
+/// samples written (a multiple of 8); the caller widens the rest.
+#[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
+fn widen_16_simd128<const BIG: bool>(data: &[u8], out: &mut [u16]) -> usize {
+    use core::arch::wasm32::{i8x16_shuffle, v128, v128_load, v128_store};
+    let mut done = 0;
+    for (o, d) in out.chunks_exact_mut(8).zip(data.chunks_exact(16)) {
+        // SAFETY: `d` is exactly 16 readable bytes and `o` exactly 8 writable u16 (16 bytes)
+        // (chunks_exact); wasm's v128.load and v128.store have no alignment requirement.
+        let v = unsafe { v128_load(d.as_ptr().cast::<v128>()) };
+        let v = if BIG {
+            i8x16_shuffle::<1, 0, 3, 2, 5, 4, 7, 6, 9, 8, 11, 10, 13, 12, 15, 14>(v, v)
+        } else {
+            v
+        };
+        // SAFETY: as above; wasm is little-endian, so lane k lands in o[k].
+        unsafe { v128_store(o.as_mut_ptr().cast::<v128>(), v) };
+        done += 8;
+    }
+    done
+}
+
 /// The largest sample of `data`, one vectorised pass.
 fn largest(samples: Samples, data: &[u8]) -> u16 {
     match samples {
@@ -148,14 +180,19 @@ fn largest(samples: Samples, data: &[u8]) -> u16 {
     }
 }
 
-/// Refuse the first sample above `max` (a scan only when the largest is above it).
+/// Refuse the first sample above `max` (a scan only when the largest is above it; none when
+/// `max` is the container's own largest value, as for a 16-bit PGM with maxval 65535).
 pub(crate) fn check_samples(
     samples: Samples,
     data: &[u8],
     width: u32,
     max: u16,
 ) -> Result<(), FrameError> {
-    if largest(samples, data) <= max {
+    let container_max = match samples {
+        Samples::Byte(_) => u16::from(u8::MAX),
+        Samples::Be16(_) | Samples::Le16(_) => u16::MAX,
+    };
+    if max >= container_max || largest(samples, data) <= max {
         return Ok(());
     }
     let mut row = Vec::new();
