@@ -11,11 +11,12 @@
 // native: `noise-budget characterize` (release build) timed against reading every file once
 // (node's readFileSync), same session. worker: the served page (dist/index.html on a local
 // server), the files chosen and analysed as a person does (time from Analyse to the answer),
-// against reading the same File objects once with arrayBuffer() in the page.
+// against reading the same File objects once with arrayBuffer() in the page. same code: the
+// worker's analysis natively and its wasm in node, files read before each is given (below).
 // Needs scripts/build-page first.
 // Usage: node scripts/measure-series.mjs [--keep] [--rounds N] [--baseline OTHER_DIST_DIR]
 import { execFileSync } from 'node:child_process';
-import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { dirname, join, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -70,6 +71,42 @@ const nativeMs = ms(t);
 const c = JSON.parse(out);
 console.log(`native: plain read ${readMs.toFixed(0)} ms (${sum} bytes), characterize ${nativeMs.toFixed(0)} ms = ${(nativeMs / readMs).toFixed(2)} × the read` +
   ` (K green ${c.sensor.system_gain_dn_per_e.toFixed(4)} DN/e⁻, adc_bits ${c.sensor.adc_bits})`);
+
+// The same code, without the browser's file reading: the worker's analysis (its Job) natively
+// (crate/frames-worker/examples/job_native.rs) and its wasm, the speed build scripts/build-page
+// made, in node's V8 (target nodejs glue, wasm-opt -O3 as the build), each file read into
+// memory before it is given and only the giving timed; best of 3 each, alternated.
+function sameCode() {
+  const built = join(ROOT, 'target/frames-worker-build/wasm32-unknown-unknown/release/noise_budget_frames_worker.wasm');
+  if (!existsSync(built)) return console.log('same code: skipped (no worker build; run scripts/build-page)');
+  const glue = mkdtempSync(join(tmpdir(), 'noise-budget-worker-node-'));
+  try {
+    execFileSync('wasm-bindgen', ['--target', 'nodejs', '--no-typescript', '--out-dir', glue, built]);
+    const wasm = join(glue, 'noise_budget_frames_worker_bg.wasm');
+    execFileSync(join(ROOT, 'node_modules/binaryen/bin/wasm-opt'), ['-O3', '--enable-simd', '--enable-bulk-memory',
+      '--enable-nontrapping-float-to-int', '--enable-sign-ext', '--enable-mutable-globals', '-o', wasm, wasm]);
+    const driver = join(glue, 'drive.cjs');
+    writeFileSync(driver, `const w = require(${JSON.stringify(join(glue, 'noise_budget_frames_worker.js'))});
+const fs = require('fs'); const dir = ${JSON.stringify(dir)};
+const manifest = fs.readFileSync(dir + '/manifest.json', 'utf8'); const paths = JSON.parse(manifest).frames.map((f) => f.path);
+let give = 0; const job = w.Analysis.start(manifest); let i;
+while ((i = job.wanted()) !== undefined) { const b = fs.readFileSync(dir + '/' + paths[i]); const t = performance.now(); job.give(i, b); give += performance.now() - t; }
+const ok = job.answer().startsWith('{"result"'); console.log(JSON.stringify({ give_ms: give, ok }));`);
+    execFileSync('cargo', ['build', '--quiet', '--release', '--locked', '-p', 'noise-budget-frames-worker', '--example', 'job_native'], { cwd: ROOT, stdio: 'inherit' });
+    const native = []; const wasmRuns = [];
+    for (let r = 0; r < 3; r++) {
+      native.push(JSON.parse(execFileSync(join(ROOT, 'target/release/examples/job_native'), [dir], { encoding: 'utf8' })));
+      wasmRuns.push(JSON.parse(execFileSync(process.execPath, [driver], { encoding: 'utf8' })));
+    }
+    if (![...native, ...wasmRuns].every((x) => x.ok)) return console.log('same code: an analysis failed');
+    const n = Math.min(...native.map((x) => x.give_ms)); const wm = Math.min(...wasmRuns.map((x) => x.give_ms));
+    console.log(`same code (the worker's Job, files already read): native ${n.toFixed(0)} ms, wasm in node ${wm.toFixed(0)} ms` +
+      ` = ${(wm / n).toFixed(2)} × native (best of 3 each, alternated)`);
+  } finally {
+    rmSync(glue, { recursive: true, force: true });
+  }
+}
+sameCode();
 
 const browser = await chromium.launch({
   executablePath: process.env.CHROMIUM ?? '/usr/bin/chromium', headless: true,
