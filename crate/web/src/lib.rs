@@ -1,8 +1,9 @@
 //! The page's wasm boundary: reads the form and the address, calls the engine, writes results.
 //!
 //! The only crate that touches the DOM. It holds no formula and no validation rule: every
-//! figure and every refusal comes from `engine`; rounded display text comes from the browser's
-//! `Intl.NumberFormat`. Nothing here may panic on what a user types, links or opens.
+//! figure and every refusal comes from `engine`; rounded display text is written as the
+//! browser's `Intl.NumberFormat("en")` writes it (`display.rs`). Nothing here may panic on what
+//! a user types, links or opens.
 
 pub mod address;
 pub mod chart;
