@@ -11,9 +11,10 @@
 // Usage: node scripts/single-file.mjs [dist]
 import { createHash } from 'node:crypto';
 import { readFileSync, readdirSync, rmSync, writeFileSync } from 'node:fs';
-import { join } from 'node:path';
+import { dirname, join } from 'node:path';
+import { fileURLToPath } from 'node:url';
 import { gzipSync } from 'node:zlib';
-import { gzipAsync } from '@gfx/zopfli';
+import { deflateAsync } from '@gfx/zopfli';
 
 const dist = process.argv[2] ?? 'dist';
 const files = readdirSync(dist);
@@ -27,10 +28,24 @@ const cssName = files.find((f) => /^style-[0-9a-f]+\.css$/.test(f));
 if (!cssName) fail(`no style-*.css in ${dist}`);
 
 const wasm = readFileSync(join(dist, wasmName));
-// Zopfli (Google's exhaustive deflate, Apache-2.0, as an npm package): a gzip stream any
-// inflater reads, 6 % smaller than zlib's level 9 on this wasm (248 420 B against 265 512 B,
-// measured), which the self-contained file's 300 KB budget needs; about 2 s of build time.
-const wasmGz = Buffer.from(await gzipAsync(wasm, { numiterations: 15 }));
+// Zopfli (Google's exhaustive deflate, Apache-2.0, as an npm package): a deflate stream any
+// inflater reads, 6 % smaller than zlib's level 9 on this wasm (248 420 B against 265 512 B
+// as gzip, measured), which the self-contained file's 300 KB budget needs; about 2 s of build time.
+const wasmDeflated = Buffer.from(await deflateAsync(wasm, { numiterations: 15 }));
+// The page inflates it synchronously with tiny-inflate (Devon Govett, MIT, 9 KB of plain
+// JavaScript, from npm), so that the wasm starts and the first result is written inside the
+// script's own run, before the browser's first layout of the page: with DecompressionStream
+// (asynchronous) the first layout and paint of the page's form (about 80 ms in Chromium,
+// traced) came between the script and the calculator's start.
+const inflaterPath = join(dirname(fileURLToPath(import.meta.url)), '..', 'node_modules', 'tiny-inflate', 'index.js');
+const inflaterSource = readFileSync(inflaterPath, 'utf8');
+const inflaterExport = 'module.exports = tinf_uncompress;';
+if (!inflaterSource.includes(inflaterExport)) fail(`${inflaterPath} does not end as tiny-inflate 1.0.3 does`);
+const inflater = `// tiny-inflate 1.0.3 (https://github.com/devongovett/tiny-inflate), MIT License,
+// Copyright (c) 2015-present Devon Govett. Its export line is replaced by the return below.
+const noiseBudgetInflate = (() => {
+${inflaterSource.replace(inflaterExport, 'return tinf_uncompress;')}
+})();`;
 const css = readFileSync(join(dist, cssName), 'utf8');
 let html = readFileSync(join(dist, 'index.html'), 'utf8');
 
@@ -40,14 +55,17 @@ let glue = readFileSync(join(dist, glueName), 'utf8')
   .replace(/^export \{[^}]*\};?[ \t]*$/gm, '')
   .replace(/^export default [^;\n]+;?[ \t]*$/gm, '');
 if (/^\s*export\b/m.test(glue)) fail(`an export the script does not handle is left in ${glueName}`);
-if (!/\bfunction __wbg_init\b|\b__wbg_init\s*=/.test(glue)) fail(`${glueName} has no __wbg_init`);
+if (!/\bfunction initSync\b/.test(glue)) fail(`${glueName} has no initSync`);
 
 const app = `${glue}
+${inflater}
 // ---- noise-budget start-up (scripts/single-file.mjs) ----
 // The wasm is embedded so the page makes no request for it (the CSP forbids fetching), as the
-// base64 of its gzip (zopfli's): base64 of raw wasm compresses badly, so this keeps the file smaller; the
-// browser inflates it with DecompressionStream (no request: a Blob's stream, not a fetch).
-const NOISE_BUDGET_WASM_GZ = "${wasmGz.toString('base64')}";
+// base64 of its raw deflate (zopfli's): base64 of raw wasm compresses badly, so this keeps the
+// file smaller. It is inflated, compiled and started synchronously (initSync), so the first
+// result is written before the browser first lays out the page.
+const NOISE_BUDGET_WASM_DEFLATED = "${wasmDeflated.toString('base64')}";
+const NOISE_BUDGET_WASM_BYTES = ${wasm.length};
 function noiseBudgetBytes(b64) {
   if (typeof Uint8Array.fromBase64 === 'function') return Uint8Array.fromBase64(b64);
   const text = atob(b64);
@@ -55,24 +73,33 @@ function noiseBudgetBytes(b64) {
   for (let i = 0; i < text.length; i++) bytes[i] = text.charCodeAt(i);
   return bytes;
 }
-async function noiseBudgetInflate(b64) {
-  if (typeof DecompressionStream !== 'function') {
-    throw new Error('this browser has no DecompressionStream (Chrome 80, Firefox 113, Safari 16.4 or newer needed)');
-  }
-  const stream = new Blob([noiseBudgetBytes(b64)]).stream().pipeThrough(new DecompressionStream('gzip'));
-  return new Response(stream).arrayBuffer();
-}
 performance.mark('noise-budget:script-start');
-noiseBudgetInflate(NOISE_BUDGET_WASM_GZ).then((wasmBytes) => { performance.mark('noise-budget:wasm-inflated'); return __wbg_init({ module_or_path: wasmBytes }); }).then(
-  () => { window.wasmBindings = { evaluate, version }; },
-  (err) => {
-    const el = document.getElementById('boot-status');
-    if (el) {
-      el.hidden = false;
-      el.textContent = 'The calculator could not start in this browser: ' + err;
-    }
-  },
-);
+try {
+  let wasmBytes;
+  try {
+    wasmBytes = noiseBudgetInflate(noiseBudgetBytes(NOISE_BUDGET_WASM_DEFLATED), new Uint8Array(NOISE_BUDGET_WASM_BYTES));
+  } catch (err) {
+    throw new Error(\`its embedded code could not be unpacked (\${err}); the file may be damaged: download it again\`);
+  }
+  if (wasmBytes.length !== NOISE_BUDGET_WASM_BYTES) {
+    throw new Error(\`its embedded code unpacked to \${wasmBytes.length} bytes, not \${NOISE_BUDGET_WASM_BYTES}; the file may be damaged: download it again\`);
+  }
+  performance.mark('noise-budget:wasm-inflated');
+  let module;
+  try {
+    module = new WebAssembly.Module(wasmBytes);
+  } catch (err) {
+    throw new Error(\`its embedded code does not compile (\${err}): the file may be damaged (download it again), or this browser is older than WebAssembly's 2020 features\`);
+  }
+  initSync({ module });
+  window.wasmBindings = { evaluate, version };
+} catch (err) {
+  const el = document.getElementById('boot-status');
+  if (el) {
+    el.hidden = false;
+    el.textContent = 'The calculator could not start in this browser: ' + err;
+  }
+}
 `;
 
 const sha256 = (text) => createHash('sha256').update(text, 'utf8').digest('base64');

@@ -416,3 +416,41 @@ describe('the served page: keeping, sharing, keyboard, print, narrow column', ()
     assertOwnRequests(TARGETS[0], requests, errors);
   });
 });
+
+describe('a damaged single file', () => {
+  // A copy of the single file whose embedded wasm lost a stretch of its bytes (as a broken
+  // download or a mail gateway might leave it), its script's CSP hash written again so the
+  // script runs: the page says it could not start and why, instead of staying blank.
+  test('says the calculator could not start and that the file may be damaged', async () => {
+    const { createHash } = await import('node:crypto');
+    const { mkdtempSync } = await import('node:fs');
+    const { tmpdir } = await import('node:os');
+    const { pathToFileURL } = await import('node:url');
+    const html = readFileSync(new URL(singleFileUrl()), 'utf8');
+    const script = html.match(/<script type="module">([\s\S]*?)<\/script>/)[1];
+    const start = script.indexOf('const NOISE_BUDGET_WASM_DEFLATED = "') + 40;
+    assert.ok(start > 40, 'the embedded wasm is found');
+    // Replace 4 KB in the middle of the deflate stream by base64 of zeros.
+    const mid = start + 100000;
+    const damaged = script.slice(0, mid) + 'A'.repeat(4096) + script.slice(mid + 4096);
+    const sha = (t) => createHash('sha256').update(t, 'utf8').digest('base64');
+    const copy = html.replace(script, () => damaged).replace(`'sha256-${sha(script)}'`, `'sha256-${sha(damaged)}'`);
+    assert.notEqual(copy, html);
+    const dir = mkdtempSync(join(tmpdir(), 'noise-budget-damaged-'));
+    writeFileSync(join(dir, 'noise-budget.html'), copy);
+    const ctx = await env.browser.newContext();
+    try {
+      const page = await ctx.newPage();
+      const errors = [];
+      page.on('pageerror', (e) => errors.push(e.message));
+      await page.goto(pathToFileURL(join(dir, 'noise-budget.html')).href);
+      await page.waitForSelector('#boot-status:not([hidden])', { timeout: 15000 });
+      const text = await page.textContent('#boot-status');
+      assert.match(text, /^The calculator could not start in this browser: Error: its embedded code (could not be unpacked|unpacked to|does not compile).*download it again/, text);
+      assert.deepEqual(errors, [], 'no uncaught error besides the message');
+      assert.equal(await page.$('html[data-ready]'), null, 'the page does not claim to be ready');
+    } finally {
+      await ctx.close();
+    }
+  });
+});
