@@ -32,20 +32,13 @@ const wasm = readFileSync(join(dist, wasmName));
 // inflater reads, 6 % smaller than zlib's level 9 on this wasm (248 420 B against 265 512 B
 // as gzip, measured), which the self-contained file's 300 KB budget needs; about 2 s of build time.
 const wasmDeflated = Buffer.from(await deflateAsync(wasm, { numiterations: 15 }));
-// The page inflates it synchronously with tiny-inflate (Devon Govett, MIT, 9 KB of plain
-// JavaScript, from npm), so that the wasm starts and the first result is written inside the
-// script's own run, before the browser's first layout of the page: with DecompressionStream
-// (asynchronous) the first layout and paint of the page's form (about 80 ms in Chromium,
-// traced) came between the script and the calculator's start.
-const inflaterPath = join(dirname(fileURLToPath(import.meta.url)), '..', 'node_modules', 'tiny-inflate', 'index.js');
-const inflaterSource = readFileSync(inflaterPath, 'utf8');
-const inflaterExport = 'module.exports = tinf_uncompress;';
-if (!inflaterSource.includes(inflaterExport)) fail(`${inflaterPath} does not end as tiny-inflate 1.0.3 does`);
-const inflater = `// tiny-inflate 1.0.3 (https://github.com/devongovett/tiny-inflate), MIT License,
-// Copyright (c) 2015-present Devon Govett. Its export line is replaced by the return below.
-const noiseBudgetInflate = (() => {
-${inflaterSource.replace(inflaterExport, 'return tinf_uncompress;')}
-})();`;
+// The page inflates it synchronously (scripts/inflate.js, table-driven, checked against zlib
+// by tests/e2e/inflate.test.mjs), so that the wasm starts and the first result is written
+// inside the script's own run, before the browser's first layout of the page: with
+// DecompressionStream (asynchronous) the first layout and paint of the page's form (about
+// 80 ms in Chromium, traced) came between the script and the calculator's start.
+const inflater = readFileSync(join(dirname(fileURLToPath(import.meta.url)), 'inflate.js'), 'utf8');
+if (!/^const noiseBudgetInflate = /m.test(inflater)) fail('scripts/inflate.js does not define noiseBudgetInflate');
 const css = readFileSync(join(dist, cssName), 'utf8');
 let html = readFileSync(join(dist, 'index.html'), 'utf8');
 
