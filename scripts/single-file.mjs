@@ -87,6 +87,7 @@ try {
   initSync({ module });
   window.wasmBindings = { evaluate, version };
 } catch (err) {
+  document.getElementById('boot-waiting')?.remove();
   const el = document.getElementById('boot-status');
   if (el) {
     el.hidden = false;

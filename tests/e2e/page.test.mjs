@@ -449,6 +449,31 @@ describe('a damaged single file', () => {
       assert.match(text, /^The calculator could not start in this browser: Error: its embedded code (could not be unpacked|unpacked to|does not compile).*download it again/, text);
       assert.deepEqual(errors, [], 'no uncaught error besides the message');
       assert.equal(await page.$('html[data-ready]'), null, 'the page does not claim to be ready');
+      assert.equal(await page.$('#boot-waiting'), null, 'one message, not two');
+    } finally {
+      await ctx.close();
+    }
+  });
+
+  // The same damage without the hash written again: the browser refuses the script (its CSP
+  // hash no longer matches), so no code of the page runs; the page's static line says so.
+  test('whose script the browser refuses says, after a moment, that the calculator has not started', async () => {
+    const { mkdtempSync } = await import('node:fs');
+    const { tmpdir } = await import('node:os');
+    const { pathToFileURL } = await import('node:url');
+    const html = readFileSync(new URL(singleFileUrl()), 'utf8');
+    const at = html.indexOf('const NOISE_BUDGET_WASM_DEFLATED = "') + 140000;
+    const copy = html.slice(0, at) + (html[at] === 'A' ? 'B' : 'A') + html.slice(at + 1);
+    const dir = mkdtempSync(join(tmpdir(), 'noise-budget-refused-'));
+    writeFileSync(join(dir, 'noise-budget.html'), copy);
+    const ctx = await env.browser.newContext();
+    try {
+      const page = await ctx.newPage();
+      await page.goto(pathToFileURL(join(dir, 'noise-budget.html')).href);
+      assert.equal(await page.isVisible('#boot-waiting'), false, 'not shown at once');
+      await page.waitForSelector('#boot-waiting', { state: 'visible', timeout: 10000 });
+      assert.match(await page.textContent('#boot-waiting'), /has not started.*damaged: download it again/);
+      assert.equal(await page.$('html[data-ready]'), null);
     } finally {
       await ctx.close();
     }

@@ -46,6 +46,9 @@ pub fn mount() {
     if let Some(p) = dom::window().and_then(|w| w.performance()) {
         let _ = p.mark("noise-budget:mount-start");
     }
+    if let Some(w) = dom::by_id(ids::BOOT_WAITING) {
+        w.remove();
+    }
     results::reset();
     dom::set_text_of(ids::TOOL_VERSION, env!("CARGO_PKG_VERSION"));
     stamp_date();

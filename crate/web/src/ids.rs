@@ -6,6 +6,8 @@
 //! checks the same way.)
 
 // The tools above the form: demos, links, files, kept scenarios, messages.
+/// The line a page whose calculator never started keeps (removed at the start).
+pub const BOOT_WAITING: &str = "boot-waiting";
 /// The version stamp.
 pub const TOOL_VERSION: &str = "tool-version";
 /// The date stamp of a print.
