@@ -52,6 +52,8 @@ thread_local! {
     static STATE: RefCell<State> = RefCell::new(State::default());
     /// Whether a redraw waits for the next animation frame.
     static REDRAW_PENDING: Cell<bool> = const { Cell::new(false) };
+    /// Whether the curves have been drawn once since the page started.
+    static EVER_DRAWN: Cell<bool> = const { Cell::new(false) };
 }
 
 /// Ask the app (no state may be borrowed here: the app may call back into this module).
@@ -123,9 +125,31 @@ fn schedule_redraw() {
         return;
     };
     REDRAW_PENDING.with(|p| p.set(true));
-    let cb = Closure::once_into_js(|| {
-        REDRAW_PENDING.with(|p| p.set(false));
-        redraw();
+    // The page's first drawing waits until after the first paint (an animation frame, then a
+    // task): the page's start writes the first result before the browser's first layout, and
+    // the curves (about 50 ms in a cold start, measured) would otherwise hold back the paint
+    // that shows it. Later redraws are in the frame of the edit.
+    let first = !EVER_DRAWN.with(Cell::get);
+    let cb = Closure::once_into_js(move || {
+        let run = || {
+            REDRAW_PENDING.with(|p| p.set(false));
+            EVER_DRAWN.with(|d| d.set(true));
+            redraw();
+        };
+        if !first {
+            run();
+            return;
+        }
+        let later = Closure::once_into_js(run);
+        let queued = dom::window().is_some_and(|w| {
+            w.set_timeout_with_callback_and_timeout_and_arguments_0(later.unchecked_ref(), 0)
+                .is_ok()
+        });
+        if !queued {
+            REDRAW_PENDING.with(|p| p.set(false));
+            EVER_DRAWN.with(|d| d.set(true));
+            redraw();
+        }
     });
     if w.request_animation_frame(cb.unchecked_ref()).is_err() {
         REDRAW_PENDING.with(|p| p.set(false));
