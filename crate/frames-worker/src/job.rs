@@ -60,10 +60,14 @@ pub type Fill<'a> = dyn Fn(&mut Vec<u8>) + 'a;
 /// One analysis, given its files one at a time ([`engine::ptc::Measurement`] with text in and
 /// out), so that the worker can read the next files while one is analysed.
 #[derive(Debug)]
-pub struct Job {
-    measurement: Option<ptc::Measurement>,
-    /// The answer, when the manifest could not be read.
-    answer: Option<String>,
+pub struct Job(Stage);
+
+#[derive(Debug)]
+enum Stage {
+    /// The manifest was read: its files are being given.
+    Measuring(Box<ptc::Measurement>),
+    /// The manifest could not be read: the answer, its problems.
+    Refused(String),
 }
 
 impl Job {
@@ -71,29 +75,30 @@ impl Job {
     /// a job that wants no file and answers with them.
     #[must_use]
     pub fn start(manifest_json: &str) -> Job {
-        match ptc::parse_manifest(manifest_json) {
-            Ok(m) => Job {
-                measurement: Some(ptc::Measurement::new(m)),
-                answer: None,
-            },
-            Err(problems) => Job {
-                measurement: None,
-                answer: Some(problems_json(&named(manifest_json, &problems))),
-            },
+        Job(match ptc::parse_manifest(manifest_json) {
+            Ok(m) => Stage::Measuring(Box::new(ptc::Measurement::new(m))),
+            Err(problems) => Stage::Refused(problems_json(&named(manifest_json, &problems))),
+        })
+    }
+
+    fn measurement(&self) -> Option<&ptc::Measurement> {
+        match &self.0 {
+            Stage::Measuring(m) => Some(m),
+            Stage::Refused(_) => None,
         }
     }
 
     /// The manifest index of the file to give next; `None` once the answer is ready.
     #[must_use]
     pub fn wanted(&self) -> Option<usize> {
-        Some(self.measurement.as_ref()?.wanted()?.index)
+        Some(self.measurement()?.wanted()?.index)
     }
 
     /// The manifest indices of the next `n` files wanted, [`Job::wanted`] first (see
     /// [`engine::ptc::Measurement::upcoming`]), for reading ahead.
     #[must_use]
     pub fn upcoming(&self, n: usize) -> Vec<usize> {
-        self.measurement.as_ref().map_or_else(Vec::new, |m| {
+        self.measurement().map_or_else(Vec::new, |m| {
             m.upcoming(n).iter().map(|f| f.index).collect()
         })
     }
@@ -107,7 +112,9 @@ impl Job {
         index: usize,
         bytes: Result<&Fill<'_>, String>,
     ) -> Option<Option<String>> {
-        let m = self.measurement.as_mut()?;
+        let Stage::Measuring(m) = &mut self.0 else {
+            return None;
+        };
         let wanted = m.wanted()?.index;
         let second = m.rereading();
         let mut told = None;
@@ -134,13 +141,12 @@ impl Job {
     /// The answer: JSON text, `{"result": …}` or `{"problems": […]}` (see [`run`]).
     #[must_use]
     pub fn answer(self) -> String {
-        if let Some(a) = self.answer {
-            return a;
-        }
-        match self.measurement.map(ptc::Measurement::finish) {
-            Some(Ok(c)) => answer_json(&c),
-            Some(Err(failure)) => problems_json(&failure.messages),
-            None => problems_json(&["the analysis had no manifest".to_string()]),
+        match self.0 {
+            Stage::Refused(problems) => problems,
+            Stage::Measuring(m) => match m.finish() {
+                Ok(c) => answer_json(&c),
+                Err(failure) => problems_json(&failure.messages),
+            },
         }
     }
 }

@@ -92,9 +92,9 @@ struct Reading {
     stack: usize,
     acc: StackAccumulator,
     next: usize,
+    /// Problems with its files, one line each (none: every file so far was accumulated).
     messages: Vec<String>,
     io: bool,
-    ok: bool,
 }
 
 /// A measurement in progress, given one file at a time.
@@ -217,18 +217,16 @@ impl Measurement {
         if let Err(e) = read(f, self.file.bytes_mut()) {
             r.messages.push(format!("{name}: {e}"));
             r.io = true;
-            r.ok = false;
             tell(f, None);
         } else if let Err(e) = self.file.decode(f.raw) {
             r.messages.push(format!("{name}: {e}"));
-            r.ok = false;
             tell(f, None);
         } else {
             tell(f, Some(&self.file));
-            if r.ok {
+            // After a problem the stack's figures are lost anyway; only its files are checked.
+            if r.messages.is_empty() {
                 if let Err(e) = r.acc.push_file(&mut self.file) {
                     r.messages.push(format!("{name}: {e}"));
-                    r.ok = false;
                 }
             }
         }
@@ -275,7 +273,7 @@ impl Measurement {
             .map_or(0, |f| f.index);
         let (result, kept) = r.acc.finish_with_buffers();
         self.buffers = kept;
-        let problems = if !r.ok {
+        let problems = if !r.messages.is_empty() {
             Err((r.messages, r.io))
         } else {
             match result {
@@ -318,7 +316,10 @@ impl Measurement {
                 self.end_pass();
                 continue;
             };
-            let Some(first) = self.manifest.stacks.get(i).and_then(|s| s.first()) else {
+            let Some(stack) = self.manifest.stacks.get(i) else {
+                continue;
+            };
+            let Some(first) = stack.first() else {
                 continue;
             };
             let spec = StackSpec {
@@ -326,18 +327,9 @@ impl Measurement {
                 exposure_time_s: first.exposure_time_s,
                 level: first.level.clone(),
                 photons_per_pixel: first.photons_per_pixel,
-                frames: self
-                    .manifest
-                    .stacks
-                    .get(i)
-                    .map_or(0, |s| u32::try_from(s.len()).unwrap_or(u32::MAX)),
+                frames: u32::try_from(stack.len()).unwrap_or(u32::MAX),
             };
-            let summaries = self.second
-                || self
-                    .manifest
-                    .stacks
-                    .get(i)
-                    .is_some_and(|s| summarised_as_read(s));
+            let summaries = self.second || summarised_as_read(stack);
             let acc = StackAccumulator::with_buffers(
                 spec,
                 self.manifest.roi,
@@ -352,7 +344,6 @@ impl Measurement {
                         next: 0,
                         messages: Vec::new(),
                         io: false,
-                        ok: true,
                     });
                 }
                 Err(e) => {
