@@ -40,15 +40,19 @@ fn two_digits(u: f64) -> f64 {
     (u / step).round() * step
 }
 
+/// The frame's patches (`frame` is the JSON's `frame` object), none if it has no list.
+fn patches(frame: &Value) -> &[Value] {
+    frame
+        .get("patches")
+        .and_then(Value::as_array)
+        .map_or(&[], Vec::as_slice)
+}
+
 /// Each patch's label, in the engine's patch order (`frame` is the JSON's `frame` object).
 #[must_use]
 pub fn patch_labels(frame: &Value, numbers: &dyn Numbers) -> Vec<PatchLabel> {
     let n = |x: f64| numbers.rounded(x, Style::Number);
-    frame
-        .get("patches")
-        .and_then(Value::as_array)
-        .map(Vec::as_slice)
-        .unwrap_or_default()
+    patches(frame)
         .iter()
         .map(|p| {
             let measured = number(p, "/measured/snr").zip(number(p, "/measured/snr_uncertainty"));
@@ -72,11 +76,7 @@ pub fn patch_labels(frame: &Value, numbers: &dyn Numbers) -> Vec<PatchLabel> {
 /// output pixels, with the number the patch table gives it (from 1, in the engine's order).
 #[must_use]
 pub fn patch_marks(frame: &Value) -> Vec<(f64, f64, String)> {
-    frame
-        .get("patches")
-        .and_then(Value::as_array)
-        .map(Vec::as_slice)
-        .unwrap_or_default()
+    patches(frame)
         .iter()
         .enumerate()
         .filter_map(|(i, p)| {

@@ -131,30 +131,29 @@ fn schedule_redraw() {
     // that shows it. Later redraws are in the frame of the edit.
     let first = !EVER_DRAWN.with(Cell::get);
     let cb = Closure::once_into_js(move || {
-        let run = || {
-            REDRAW_PENDING.with(|p| p.set(false));
-            EVER_DRAWN.with(|d| d.set(true));
-            redraw();
-        };
         if !first {
-            run();
+            draw_pending();
             return;
         }
-        let later = Closure::once_into_js(run);
+        let later = Closure::once_into_js(draw_pending);
         let queued = dom::window().is_some_and(|w| {
             w.set_timeout_with_callback_and_timeout_and_arguments_0(later.unchecked_ref(), 0)
                 .is_ok()
         });
         if !queued {
-            REDRAW_PENDING.with(|p| p.set(false));
-            EVER_DRAWN.with(|d| d.set(true));
-            redraw();
+            draw_pending();
         }
     });
     if w.request_animation_frame(cb.unchecked_ref()).is_err() {
-        REDRAW_PENDING.with(|p| p.set(false));
-        redraw();
+        draw_pending();
     }
+}
+
+/// The redraw that [`schedule_redraw`] asked for.
+fn draw_pending() {
+    REDRAW_PENDING.with(|p| p.set(false));
+    EVER_DRAWN.with(|d| d.set(true));
+    redraw();
 }
 
 fn mark(name: &str) {
