@@ -1,15 +1,19 @@
 //! `noise-budget characterize MANIFEST`: measure a camera from dark and flat frames on disk.
 //!
 //! Reads the manifest file and hands it to the engine (`engine::ptc::parse_manifest`, every
-//! problem at once, each with its key path), reads each
-//! frame file once, stack by stack, into one reused buffer, hands the bytes to the engine's
-//! decoders and stack accumulators, and prints the engine's characterization as JSON or a
-//! table. It computes no statistic itself and never holds more than the stack being read.
+//! problem at once, each with its key path), gives the engine's measurement
+//! (`engine::ptc::Measurement`) each frame file it wants, read on a second thread one file
+//! ahead (as the page's worker does), and prints the engine's characterization as JSON or a
+//! table. It computes no statistic itself; the files go round a few reused buffers, so it
+//! holds a few frames whatever the length of the stacks.
 
+use std::collections::VecDeque;
 use std::fmt::Write as _;
 use std::io::{self, Read, Write};
-use std::path::Path;
+use std::path::{Path, PathBuf};
 use std::process::ExitCode;
+use std::sync::mpsc;
+use std::thread;
 
 use engine::ptc::{self, Characterization};
 
@@ -40,16 +44,7 @@ pub fn run(manifest_path: &Path, as_table: bool, spatial_csv: Option<&Path>) -> 
             return ExitCode::from(2);
         }
     };
-    // Paths are relative to the manifest's folder. Every file is read into the same buffer.
-    let mut read = |f: &ptc::FrameEntry, buffer: &mut Vec<u8>| {
-        let resolved = base.join(&f.path);
-        buffer.clear();
-        std::fs::File::open(&resolved)
-            .and_then(|mut file| file.read_to_end(buffer))
-            .map(|_| ())
-            .map_err(|e| format!("cannot read {}: {e}", resolved.display()))
-    };
-    let result = match ptc::measure_buffered(&manifest, &mut read, &mut |_, _| {}) {
+    let result = match measure_reading_ahead(&manifest, base) {
         Ok(c) => c,
         Err(failure) => {
             for m in &failure.messages {
@@ -200,6 +195,90 @@ pub fn render_table(c: &Characterization) -> String {
     o
 }
 
+/// How many files the reading thread reads ahead of the one being analysed: the frames a stack
+/// accumulator sums at once, so that the next ones are read while those are summed (one file
+/// ahead overlapped almost nothing, since the summing comes in bursts at every fourth frame).
+/// The files then go round this many buffers more than the accumulator's own.
+const READ_AHEAD: usize = ptc::FRAMES_SUMMED_AT_ONCE;
+
+/// A file's bytes as the reading thread read them (the buffer it was given), or why not.
+type FileRead = Result<Vec<u8>, String>;
+
+/// Read `path` into `buffer` (cleared first); the error says which file and why.
+fn read_file(path: &Path, mut buffer: Vec<u8>) -> FileRead {
+    buffer.clear();
+    std::fs::File::open(path)
+        .and_then(|mut file| file.read_to_end(&mut buffer))
+        .map(|_| buffer)
+        .map_err(|e| format!("cannot read {}: {e}", path.display()))
+}
+
+/// The measurement, its files read on a second thread while the engine analyses the file
+/// before (paths relative to the manifest's folder, `base`). The thread reads what
+/// [`ptc::Measurement::upcoming`] lists, in that order, into buffers handed back after use; a
+/// file read ahead that the measurement does not want after all is dropped, and one it wants
+/// that was not read ahead (or a thread that could not start) is read here. The result is the
+/// one `ptc::measure_buffered` gives: the same files in the same order, read once each per pass.
+fn measure_reading_ahead(
+    manifest: &ptc::Manifest,
+    base: &Path,
+) -> Result<Characterization, ptc::Failure> {
+    let (ask, asked) = mpsc::channel::<(PathBuf, Vec<u8>)>();
+    let (answer, answers) = mpsc::channel::<FileRead>();
+    thread::scope(|scope| {
+        let reader = thread::Builder::new()
+            .name("frame reader".into())
+            .spawn_scoped(scope, move || {
+                for (path, buffer) in asked {
+                    if answer.send(read_file(&path, buffer)).is_err() {
+                        break;
+                    }
+                }
+            });
+        // Without the thread every file is read here, as it is wanted.
+        let mut ask = reader.is_ok().then_some(ask);
+        let mut m = ptc::Measurement::new(manifest.clone());
+        // Manifest indices asked for and not yet answered, in the order asked.
+        let mut in_flight: VecDeque<usize> = VecDeque::new();
+        let mut spares: Vec<Vec<u8>> = Vec::new();
+        while m.wanted().is_some() {
+            if let Some(tx) = &ask {
+                for f in m.upcoming(READ_AHEAD + 1) {
+                    if in_flight.contains(&f.index) {
+                        continue;
+                    }
+                    let buffer = spares.pop().unwrap_or_default();
+                    if tx.send((base.join(&f.path), buffer)).is_err() {
+                        ask = None;
+                        break;
+                    }
+                    in_flight.push_back(f.index);
+                }
+            }
+            let mut read = |f: &ptc::FrameEntry, buffer: &mut Vec<u8>| {
+                while let Some(index) = in_flight.pop_front() {
+                    let Ok(got) = answers.recv() else { break };
+                    if index != f.index {
+                        spares.extend(got.ok());
+                        continue;
+                    }
+                    // The measurement's old buffer goes back to the reading thread.
+                    let bytes = got?;
+                    spares.push(std::mem::replace(buffer, bytes));
+                    return Ok(());
+                }
+                in_flight.clear();
+                *buffer = read_file(&base.join(&f.path), std::mem::take(buffer))?;
+                Ok(())
+            };
+            m.give(&mut read, &mut |_, _| {});
+        }
+        // Ending the requests ends the thread; the scope waits for it.
+        drop(ask);
+        m.finish()
+    })
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -210,5 +289,83 @@ mod tests {
         assert_eq!(sig(2.5), "2.5");
         assert_eq!(sig(10000.0), "10000");
         assert_eq!(sig(1.5e7), "1.5 × 10⁷");
+    }
+
+    /// A simulated series (the first demo sensor) on disk, its first stack made six frames
+    /// long (copies of its two files under new names), so that the measurement summarises it
+    /// as it reads and reads the short stacks twice; `drop` names a file left out.
+    fn series_on_disk(name: &str, drop: Option<usize>) -> PathBuf {
+        let dir = std::env::temp_dir().join(format!("nb-read-ahead-{name}-{}", std::process::id()));
+        let _ = std::fs::remove_dir_all(&dir);
+        std::fs::create_dir_all(&dir).unwrap_or_else(|e| panic!("{e}"));
+        let sc = engine::validate::scenario_from_json(engine::demos::DEMOS[0].json)
+            .unwrap_or_else(|e| panic!("{e:?}"));
+        let size = engine::simulate::FrameSize::new(40, 30).unwrap_or_else(|e| panic!("{e:?}"));
+        let s = engine::simulate::series(&sc, 7, size).unwrap_or_else(|e| panic!("{e:?}"));
+        let mut m: serde_json::Value =
+            serde_json::from_str(&s.manifest_json).unwrap_or_else(|e| panic!("{e}"));
+        let frames = m["frames"]
+            .as_array_mut()
+            .unwrap_or_else(|| panic!("no frames"));
+        for copy in 0..4 {
+            let mut f = frames[copy % 2].clone();
+            f["path"] = format!("copy{copy}.pgm").into();
+            frames.insert(2, f);
+        }
+        let mut files = s.files.clone();
+        for copy in 0..4 {
+            files.push((format!("copy{copy}.pgm"), s.files[copy % 2].1.clone()));
+        }
+        for (i, (file, bytes)) in files.iter().enumerate() {
+            if drop != Some(i) {
+                std::fs::write(dir.join(file), bytes).unwrap_or_else(|e| panic!("{e}"));
+            }
+        }
+        std::fs::write(dir.join("manifest.json"), m.to_string()).unwrap_or_else(|e| panic!("{e}"));
+        dir
+    }
+
+    /// The measurement with each file read when it is wanted, on this thread.
+    fn read_in_turn(
+        manifest: &ptc::Manifest,
+        dir: &Path,
+    ) -> Result<Characterization, ptc::Failure> {
+        let mut read = |f: &ptc::FrameEntry, buffer: &mut Vec<u8>| {
+            *buffer = read_file(&dir.join(&f.path), std::mem::take(buffer))?;
+            Ok(())
+        };
+        ptc::measure_buffered(manifest, &mut read, &mut |_, _| {})
+    }
+
+    // Derived: reading ahead on a second thread changes when a file is read, not which bytes
+    // the measurement is given or in what order, so the characterization (or the failure,
+    // messages and all) is identical to reading each file when it is wanted.
+    #[test]
+    fn reading_ahead_gives_the_same_result_as_reading_in_turn() {
+        for (name, drop) in [
+            ("whole", None),
+            ("missing", Some(5)),
+            ("missing-copy", Some(9)),
+        ] {
+            let dir = series_on_disk(name, drop);
+            let text = std::fs::read_to_string(dir.join("manifest.json"))
+                .unwrap_or_else(|e| panic!("{e}"));
+            let manifest = ptc::parse_manifest(&text).unwrap_or_else(|e| panic!("{e:?}"));
+            assert!(
+                manifest.stacks.first().is_some_and(|s| s.len() == 6),
+                "{name}"
+            );
+            let ahead = measure_reading_ahead(&manifest, &dir);
+            let in_turn = read_in_turn(&manifest, &dir);
+            assert_eq!(ahead, in_turn, "{name}");
+            assert_eq!(ahead.is_ok(), drop.is_none(), "{name}: {ahead:?}");
+            if let Err(f) = &ahead {
+                assert!(
+                    f.io && f.messages.iter().any(|m| m.contains("cannot read")),
+                    "{f:?}"
+                );
+            }
+            let _ = std::fs::remove_dir_all(&dir);
+        }
     }
 }

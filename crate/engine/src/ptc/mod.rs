@@ -54,5 +54,5 @@ pub use spatial::{
 };
 pub use stack::{
     spatial_variance_corrected_dn2, FrameKind, GroupStats, Roi, SampleInfo, StackAccumulator,
-    StackBuffers, StackError, StackSpec, StackStats, MAX_FRAMES_PER_STACK,
+    StackBuffers, StackError, StackSpec, StackStats, FRAMES_SUMMED_AT_ONCE, MAX_FRAMES_PER_STACK,
 };

@@ -266,6 +266,11 @@ pub struct StackBuffers {
 /// the next (three frames held, the fourth arriving).
 const HELD_FRAMES: usize = 3;
 
+/// How many frames an accumulator sums in one pass over its per-pixel sums (two pairs): the
+/// work of a stack comes in bursts at every such frame, so a reader that wants its reading to
+/// overlap the summing reads this many files ahead.
+pub const FRAMES_SUMMED_AT_ONCE: usize = HELD_FRAMES + 1;
+
 /// Accumulates one stack's frames into [`StackStats`].
 #[derive(Debug)]
 pub struct StackAccumulator {
