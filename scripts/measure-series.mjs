@@ -59,18 +59,28 @@ const files = [manifest, ...frames.map((f) => join(dir, f.path))];
 console.log(`series: ${frames.length} files of ${W} × ${H} 16-bit PGM (${(frames.length * W * H * 2 / 1e9).toFixed(2)} GB), RGGB, L = 16`);
 
 const ms = (t) => Number(process.hrtime.bigint() - t) / 1e6;
+const arg = (name) => { const i = process.argv.indexOf(name); return i > 0 ? process.argv[i + 1] : undefined; };
+const rounds = Math.max(1, Number(arg('--rounds') ?? 1));
+const median = (xs) => { const s = [...xs].sort((a, b) => a - b); const m = s.length >> 1; return s.length % 2 ? s[m] : (s[m - 1] + s[m]) / 2; };
 execFileSync('cargo', ['build', '--quiet', '--release', '--locked', '-p', 'noise-budget'], { cwd: ROOT, stdio: 'inherit' });
 const exe = join(ROOT, 'target/release/noise-budget');
-let t = process.hrtime.bigint();
-let sum = 0;
-for (const f of files) sum += readFileSync(f).length;
-const readMs = ms(t);
-t = process.hrtime.bigint();
-const out = execFileSync(exe, ['characterize', manifest], { encoding: 'utf8', maxBuffer: 1 << 28 });
-const nativeMs = ms(t);
-const c = JSON.parse(out);
+// The plain read and the command alternated, --rounds N times (medians).
+const reads = []; const runs = [];
+let sum = 0; let c;
+for (let r = 0; r < rounds; r++) {
+  let t = process.hrtime.bigint();
+  sum = 0;
+  for (const f of files) sum += readFileSync(f).length;
+  reads.push(ms(t));
+  t = process.hrtime.bigint();
+  const out = execFileSync(exe, ['characterize', manifest], { encoding: 'utf8', maxBuffer: 1 << 28 });
+  runs.push(ms(t));
+  c = JSON.parse(out);
+}
+const readMs = median(reads); const nativeMs = median(runs);
 console.log(`native: plain read ${readMs.toFixed(0)} ms (${sum} bytes), characterize ${nativeMs.toFixed(0)} ms = ${(nativeMs / readMs).toFixed(2)} × the read` +
-  ` (K green ${c.sensor.system_gain_dn_per_e.toFixed(4)} DN/e⁻, adc_bits ${c.sensor.adc_bits})`);
+  ` (K green ${c.sensor.system_gain_dn_per_e.toFixed(4)} DN/e⁻, adc_bits ${c.sensor.adc_bits})` +
+  (rounds > 1 ? ` (medians of ${rounds}, alternated; reads ${reads.map((x) => x.toFixed(0)).join(', ')}; runs ${runs.map((x) => x.toFixed(0)).join(', ')} ms)` : ''));
 
 // The same code, without the browser's file reading: the worker's analysis (its Job) natively
 // (crate/frames-worker/examples/job_native.rs) and its wasm, the speed build scripts/build-page
@@ -144,10 +154,7 @@ async function workerRun(distDir) {
 }
 // --baseline DIR: another built page (an earlier dist/) run alternately with this one, so that
 // the machine's load falls on both alike; --rounds N runs of each (medians reported).
-const arg = (name) => { const i = process.argv.indexOf(name); return i > 0 ? process.argv[i + 1] : undefined; };
 const baseline = arg('--baseline');
-const rounds = Math.max(1, Number(arg('--rounds') ?? 1));
-const median = (xs) => { const s = [...xs].sort((a, b) => a - b); const m = s.length >> 1; return s.length % 2 ? s[m] : (s[m - 1] + s[m]) / 2; };
 try {
   const ours = []; const theirs = [];
   for (let r = 0; r < rounds; r++) {

@@ -30,8 +30,10 @@ const noiseBudgetReady = (async () => {
   await wasm_bindgen({ module_or_path: bytes });
 })();
 
-// How many files are read ahead of the one being analysed.
-const NOISE_BUDGET_READ_AHEAD = 1;
+// How many files are read ahead of the one being analysed: the frames the engine's stack
+// accumulator sums at once (engine::ptc::FRAMES_SUMMED_AT_ONCE), so the next ones are read while
+// those are summed; with one ahead the reads waited through every burst of summing.
+const NOISE_BUDGET_READ_AHEAD = 4;
 
 // Reads the files: in a second worker when this browser lets a worker start one (its reads then
 // go on while this worker analyses), else here. read(i) gives a promise of { bytes } or
@@ -139,9 +141,9 @@ self.onmessage = async (event) => {
     const reader = noiseBudgetReader(files);
     try {
       const job = wasm_bindgen.Analysis.start(String(data.manifest ?? ''));
-      // Files being read, by manifest index: the wanted one and the next (at most
-      // NOISE_BUDGET_READ_AHEAD held besides the one Rust holds), so the next file is read while
-      // this one is analysed. A file read twice (the second pass) is asked for again.
+      // Files being read, by manifest index: the wanted one and the next ones (at most
+      // NOISE_BUDGET_READ_AHEAD held besides the one Rust holds), so the next files are read
+      // while this one is analysed. A file read twice (the second pass) is asked for again.
       const reading = new Map();
       let index;
       while ((index = job.wanted()) !== undefined) {
