@@ -86,7 +86,7 @@ pub fn simulate_series(scenario_json: &str, seed: &str, zip: bool) -> js_sys::Ar
 ///
 /// ```text
 /// const a = Analysis.start(manifest);
-/// while ((i = a.wanted()) !== undefined) { …a.upcoming(2) read ahead…; told = a.give(i, bytes) }
+/// while ((i = a.wanted()) !== undefined) { …a.upcoming(5) read ahead…; told = a.give(i, bytes) }
 /// a.answer()
 /// ```
 #[wasm_bindgen]

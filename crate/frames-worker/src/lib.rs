@@ -1,5 +1,5 @@
 //! The page's frame analysis, run in a Web Worker: the frame files the user chose, given one at
-//! a time to the engine's photon transfer analysis (read one ahead, see `boot.js`), and the
+//! a time to the engine's photon transfer analysis (read four ahead, see `boot.js`), and the
 //! result as JSON text.
 //!
 //! A separate wasm from the page's (`crate/web`), so that the frame decoders and the analysis
