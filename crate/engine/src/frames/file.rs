@@ -341,6 +341,20 @@ impl FrameFile {
         }
     }
 
+    /// Row `y`'s columns x0..x1 as the file's own big-endian bytes, when its samples are
+    /// 16-bit big-endian and not yet decoded (16-bit PGM), for a pass that reads them in place
+    /// (`ptc::pair::Be16`); `None` otherwise, or for a row outside the frame.
+    pub(crate) fn be16_row(&self, y: usize, (x0, x1): (usize, usize)) -> Option<&[u8]> {
+        let State::Encoded(h) = &self.state else {
+            return None;
+        };
+        let Samples::Be16(start) = h.samples else {
+            return None;
+        };
+        let row = start + y * h.width as usize * 2;
+        self.bytes.get(row + 2 * x0..row + 2 * x1)
+    }
+
     /// Columns `x0..x1` of row `y`: the decoded samples, or the file's widened into `buf`.
     /// Empty when out of the frame.
     pub(crate) fn row<'a>(

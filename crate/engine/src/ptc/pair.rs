@@ -254,6 +254,73 @@ fn pair_sums_portable(a: &[u16], b: &[u16]) -> PairSums {
 /// even or odd column, which it knows).
 const LANES: usize = 16;
 
+/// A row of 16-bit samples as a pass reads them: native `u16`s, or a file's big-endian bytes
+/// read in place ([`Be16`]), so that widening them costs no pass of its own (measured: a
+/// separate widening pass over the rows cost about as much as the rest of the pass, since its
+/// loads could not overlap the pass's work on the per-pixel sums).
+pub(crate) trait Row: Copy {
+    /// Samples in the row.
+    fn samples(self) -> usize;
+    /// The first `n` samples; `n` must not exceed [`Row::samples`] (the passes cut every row
+    /// to the shortest), else the row is empty.
+    fn first(self, n: usize) -> Self;
+    /// Sample `i`, which must be below [`Row::samples`] (the passes index only below the
+    /// length they cut every row to; written as indexing so that the loops vectorise).
+    fn at(self, i: usize) -> u16;
+    /// The row's samples [`LANES`] at a time (a shorter tail left out).
+    fn chunks(self) -> impl Iterator<Item = [u16; LANES]>;
+}
+
+impl Row for &[u16] {
+    #[inline(always)]
+    fn samples(self) -> usize {
+        self.len()
+    }
+    #[inline(always)]
+    fn first(self, n: usize) -> Self {
+        self.get(..n).unwrap_or_default()
+    }
+    #[inline(always)]
+    #[allow(clippy::indexing_slicing)] // OK because callers index below the length (see the trait)
+    fn at(self, i: usize) -> u16 {
+        self[i]
+    }
+    #[inline(always)]
+    fn chunks(self) -> impl Iterator<Item = [u16; LANES]> {
+        self.chunks_exact(LANES)
+            .filter_map(|c| <[u16; LANES]>::try_from(c).ok())
+    }
+}
+
+/// 16-bit big-endian samples in place (a 16-bit PGM's row; a trailing odd byte is not a
+/// sample).
+#[derive(Debug, Clone, Copy)]
+pub(crate) struct Be16<'a>(pub &'a [u8]);
+
+impl Row for Be16<'_> {
+    #[inline(always)]
+    fn samples(self) -> usize {
+        self.0.len() / 2
+    }
+    #[inline(always)]
+    fn first(self, n: usize) -> Self {
+        Be16(self.0.get(..2 * n).unwrap_or_default())
+    }
+    #[inline(always)]
+    #[allow(clippy::indexing_slicing)] // OK because callers index below the length (see the trait)
+    fn at(self, i: usize) -> u16 {
+        u16::from_be_bytes([self.0[2 * i], self.0[2 * i + 1]])
+    }
+    #[inline(always)]
+    #[allow(clippy::indexing_slicing)] // OK because 2j + 1 < 2·LANES indexes an array of 2·LANES
+    fn chunks(self) -> impl Iterator<Item = [u16; LANES]> {
+        self.0
+            .chunks_exact(2 * LANES)
+            .filter_map(|c| <&[u8; 2 * LANES]>::try_from(c).ok())
+            .map(|b| std::array::from_fn(|j| u16::from_be_bytes([b[2 * j], b[2 * j + 1]])))
+    }
+}
+
 /// What one pass over a row of a frame pair gives besides the per-pixel updates. The stack's
 /// pass leaves `sum_sum_sq` of its sums at 0: the stack takes the spatial variance from the
 /// per-pixel sums, and only the temporal variance from the pair.
@@ -278,7 +345,7 @@ pub(crate) struct RowPass {
 #[cfg(test)]
 pub(crate) fn pair_pass(a: &[u16], b: &[u16], sums: &mut [u32], dsq: &mut [u32]) -> RowPass {
     let [mut p, _] = pairs_pass(a, b, None, sums, dsq, false);
-    p.parity = parity_sums::<true>(a, b);
+    p.parity = parity_sums::<&[u16], true>(a, b);
     p
 }
 
@@ -296,10 +363,10 @@ pub(crate) fn pair_pass(a: &[u16], b: &[u16], sums: &mut [u32], dsq: &mut [u32])
 /// pixel far noisier than any threshold, which is what it is used for. On x86-64 with AVX2
 /// (checked at run time) the loops are compiled for 256-bit vectors; in wasm with `simd128`
 /// the compiler vectorises them for 128-bit ones.
-pub(crate) fn pairs_pass(
-    a: &[u16],
-    b: &[u16],
-    cd: Option<(&[u16], &[u16])>,
+pub(crate) fn pairs_pass<R: Row>(
+    a: R,
+    b: R,
+    cd: Option<(R, R)>,
     sums: &mut [u32],
     dsq: &mut [u32],
     first: bool,
@@ -317,10 +384,10 @@ pub(crate) fn pairs_pass(
 
 #[cfg(target_arch = "x86_64")]
 #[target_feature(enable = "avx2")]
-unsafe fn pairs_pass_avx2(
-    a: &[u16],
-    b: &[u16],
-    cd: Option<(&[u16], &[u16])>,
+unsafe fn pairs_pass_avx2<R: Row>(
+    a: R,
+    b: R,
+    cd: Option<(R, R)>,
     sums: &mut [u32],
     dsq: &mut [u32],
     first: bool,
@@ -329,31 +396,25 @@ unsafe fn pairs_pass_avx2(
 }
 
 #[inline(always)]
-fn pairs_pass_portable(
-    a: &[u16],
-    b: &[u16],
-    cd: Option<(&[u16], &[u16])>,
+fn pairs_pass_portable<R: Row>(
+    a: R,
+    b: R,
+    cd: Option<(R, R)>,
     sums: &mut [u32],
     dsq: &mut [u32],
     first: bool,
 ) -> [RowPass; 2] {
     let (c, d) = cd.unwrap_or((a, b));
-    let mut n = a.len().min(b.len()).min(sums.len());
+    let mut n = a.samples().min(b.samples()).min(sums.len());
     if cd.is_some() {
-        n = n.min(c.len()).min(d.len());
+        n = n.min(c.samples()).min(d.samples());
     }
     let with_dsq = !dsq.is_empty();
     if with_dsq {
         n = n.min(dsq.len());
     }
-    let (a, b) = (
-        a.get(..n).unwrap_or_default(),
-        b.get(..n).unwrap_or_default(),
-    );
-    let (c, d) = (
-        c.get(..n).unwrap_or_default(),
-        d.get(..n).unwrap_or_default(),
-    );
+    let (a, b) = (a.first(n), b.first(n));
+    let (c, d) = (c.first(n), d.first(n));
     let sums = sums.get_mut(..n).unwrap_or_default();
     let dsq = if with_dsq {
         dsq.get_mut(..n).unwrap_or_default()
@@ -362,24 +423,24 @@ fn pairs_pass_portable(
     };
     let two = cd.is_some();
     let (or, max) = match (first, with_dsq, two) {
-        (false, false, false) => per_pixel::<false, false, false>(a, b, c, d, sums, dsq),
-        (false, false, true) => per_pixel::<false, false, true>(a, b, c, d, sums, dsq),
-        (false, true, false) => per_pixel::<false, true, false>(a, b, c, d, sums, dsq),
-        (false, true, true) => per_pixel::<false, true, true>(a, b, c, d, sums, dsq),
-        (true, false, false) => per_pixel::<true, false, false>(a, b, c, d, sums, dsq),
-        (true, false, true) => per_pixel::<true, false, true>(a, b, c, d, sums, dsq),
-        (true, true, false) => per_pixel::<true, true, false>(a, b, c, d, sums, dsq),
-        (true, true, true) => per_pixel::<true, true, true>(a, b, c, d, sums, dsq),
+        (false, false, false) => per_pixel::<R, false, false, false>(a, b, c, d, sums, dsq),
+        (false, false, true) => per_pixel::<R, false, false, true>(a, b, c, d, sums, dsq),
+        (false, true, false) => per_pixel::<R, false, true, false>(a, b, c, d, sums, dsq),
+        (false, true, true) => per_pixel::<R, false, true, true>(a, b, c, d, sums, dsq),
+        (true, false, false) => per_pixel::<R, true, false, false>(a, b, c, d, sums, dsq),
+        (true, false, true) => per_pixel::<R, true, false, true>(a, b, c, d, sums, dsq),
+        (true, true, false) => per_pixel::<R, true, true, false>(a, b, c, d, sums, dsq),
+        (true, true, true) => per_pixel::<R, true, true, true>(a, b, c, d, sums, dsq),
     };
     [
         RowPass {
-            parity: parity_sums::<false>(a, b),
+            parity: parity_sums::<R, false>(a, b),
             or,
             max,
         },
         RowPass {
             parity: if two {
-                parity_sums::<false>(c, d)
+                parity_sums::<R, false>(c, d)
             } else {
                 [PairSums::default(); 2]
             },
@@ -394,32 +455,34 @@ fn pairs_pass_portable(
 /// `TWO`. Returns the OR and the maximum of the samples. A plain loop the compiler vectorises.
 #[inline(always)]
 #[allow(clippy::indexing_slicing)] // OK because the caller cut every slice to one length n
-fn per_pixel<const FIRST: bool, const DSQ: bool, const TWO: bool>(
-    a: &[u16],
-    b: &[u16],
-    c: &[u16],
-    d: &[u16],
+fn per_pixel<R: Row, const FIRST: bool, const DSQ: bool, const TWO: bool>(
+    a: R,
+    b: R,
+    c: R,
+    d: R,
     sums: &mut [u32],
     dsq: &mut [u32],
 ) -> (u16, u16) {
     let n = sums.len();
-    let (a, b, c, d) = (&a[..n], &b[..n], &c[..n], &d[..n]);
+    let (a, b, c, d) = (a.first(n), b.first(n), c.first(n), d.first(n));
     let dsq = if DSQ { &mut dsq[..n] } else { dsq };
     let (mut or, mut max) = (0u16, 0u16);
     for i in 0..n {
-        let (x, y) = (u32::from(a[i]), u32::from(b[i]));
+        let (ai, bi) = (a.at(i), b.at(i));
+        let (x, y) = (u32::from(ai), u32::from(bi));
         let mut v = x + y;
         let diff = x.abs_diff(y);
         let mut dd = diff * diff;
-        or |= a[i] | b[i];
-        max = max.max(a[i].max(b[i]));
+        or |= ai | bi;
+        max = max.max(ai.max(bi));
         if TWO {
-            let (z, w) = (u32::from(c[i]), u32::from(d[i]));
+            let (ci, di) = (c.at(i), d.at(i));
+            let (z, w) = (u32::from(ci), u32::from(di));
             v += z + w;
             let diff = z.abs_diff(w);
             dd = dd.saturating_add(diff * diff);
-            or |= c[i] | d[i];
-            max = max.max(c[i].max(d[i]));
+            or |= ci | di;
+            max = max.max(ci.max(di));
         }
         sums[i] = if FIRST { v } else { sums[i].wrapping_add(v) };
         if DSQ {
@@ -433,23 +496,20 @@ fn per_pixel<const FIRST: bool, const DSQ: bool, const TWO: bool>(
 /// (lane j takes the offsets ≡ j mod 16, so its parity is j's).
 #[inline(always)]
 #[allow(clippy::indexing_slicing)] // OK because every index is j < LANES into arrays of LANES
-fn parity_sums<const SQUARES_OF_SUMS: bool>(a: &[u16], b: &[u16]) -> [PairSums; 2] {
-    let n = a.len().min(b.len());
+fn parity_sums<R: Row, const SQUARES_OF_SUMS: bool>(a: R, b: R) -> [PairSums; 2] {
+    let n = a.samples().min(b.samples());
     let mut out = [PairSums::default(); 2];
     let mut dd = [0u64; LANES];
     let mut ss = [0u64; LANES];
-    let mut start = 0;
-    while start < n {
-        let end = (start + BLOCK).min(n);
-        let ca = a.get(start..end).unwrap_or_default();
-        let cb = b.get(start..end).unwrap_or_default();
+    let chunks = n / LANES;
+    let (mut xs, mut ys) = (a.first(n).chunks(), b.first(n).chunks());
+    let mut left = chunks;
+    while left > 0 {
+        let take = left.min(BLOCK / LANES);
+        left -= take;
         let mut sa = [0u32; LANES];
         let mut sb = [0u32; LANES];
-        for (x, y) in ca.chunks_exact(LANES).zip(cb.chunks_exact(LANES)) {
-            let (Ok(x), Ok(y)) = (<&[u16; LANES]>::try_from(x), <&[u16; LANES]>::try_from(y))
-            else {
-                continue;
-            };
+        for (x, y) in (&mut xs).zip(&mut ys).take(take) {
             for j in 0..LANES {
                 let (xj, yj) = (u32::from(x[j]), u32::from(y[j]));
                 sa[j] += xj;
@@ -466,23 +526,19 @@ fn parity_sums<const SQUARES_OF_SUMS: bool>(a: &[u16], b: &[u16]) -> [PairSums; 
             out[j % 2].sum_a += u64::from(sa[j]);
             out[j % 2].sum_b += u64::from(sb[j]);
         }
-        start = end;
     }
     for j in 0..LANES {
         out[j % 2].sum_diff_sq += dd[j];
         out[j % 2].sum_sum_sq += ss[j];
     }
-    let full = n - n % LANES;
+    let full = chunks * LANES;
     for p in &mut out {
         p.pixels = (full / 2) as u64;
     }
     // The last pixels that do not fill 16 lanes (only at the row's end: blocks are multiples
     // of 16, so offsets keep their parity).
     for i in full..n {
-        let (Some(&x), Some(&y)) = (a.get(i), b.get(i)) else {
-            continue;
-        };
-        let (x, y) = (u32::from(x), u32::from(y));
+        let (x, y) = (u32::from(a.at(i)), u32::from(b.at(i)));
         let s = u64::from(x + y);
         out[i % 2] = out[i % 2].merged(PairSums {
             pixels: 1,
@@ -570,6 +626,59 @@ mod tests {
         let mut sums2 = vec![1u32; n];
         assert_eq!(pair_pass(&a, &b, &mut sums2, &mut []), got);
         assert_eq!(sums2, sums);
+    }
+
+    #[test]
+    fn big_endian_rows_in_place_give_what_widened_rows_give() {
+        // Derived: Be16 reads the same samples from their big-endian bytes, so every output of
+        // the pass (parity sums, OR, maximum, per-pixel sums and squared differences) is the
+        // same integer as for the widened rows, for one pair or two, first pass or not, with or
+        // without the squared differences; rows of odd length (blocks and a tail), and a
+        // trailing odd byte that is not a sample.
+        let n = 2 * BLOCK + 37;
+        let row = |m: u32, s: u32| -> Vec<u16> {
+            (0..n as u32)
+                .map(|i| (i.wrapping_mul(m) >> s) as u16)
+                .collect()
+        };
+        let rows = [
+            row(2_654_435_761, 16),
+            row(40_503, 3),
+            row(2_246_822_519, 15),
+            row(97, 0),
+        ];
+        let bytes: Vec<Vec<u8>> = rows
+            .iter()
+            .map(|r| {
+                let mut b: Vec<u8> = r.iter().flat_map(|v| v.to_be_bytes()).collect();
+                b.push(0xff);
+                b
+            })
+            .collect();
+        let [a, b, c, d] = &rows;
+        let be = |i: usize| Be16(&bytes[i]);
+        for first in [false, true] {
+            for with_dsq in [false, true] {
+                for two in [false, true] {
+                    let start: Vec<u32> = (0..n as u32).map(|i| i % 7).collect();
+                    let (mut s1, mut s2) = (start.clone(), start.clone());
+                    let (mut d1, mut d2) = if with_dsq {
+                        (start.clone(), start.clone())
+                    } else {
+                        (Vec::new(), Vec::new())
+                    };
+                    let cd = two.then_some((c.as_slice(), d.as_slice()));
+                    let widened =
+                        pairs_pass(a.as_slice(), b.as_slice(), cd, &mut s1, &mut d1, first);
+                    let cd = two.then_some((be(2), be(3)));
+                    let in_place = pairs_pass(be(0), be(1), cd, &mut s2, &mut d2, first);
+                    let case = format!("first {first}, dsq {with_dsq}, two {two}");
+                    assert_eq!(widened, in_place, "{case}");
+                    assert_eq!(s1, s2, "{case}");
+                    assert_eq!(d1, d2, "{case}");
+                }
+            }
+        }
     }
 
     #[test]
