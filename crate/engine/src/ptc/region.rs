@@ -539,7 +539,39 @@ fn picked(lines: usize) -> Vec<usize> {
 
 /// Pass 2 and the summaries of `groups` (all pixels, or phases), from pass 1's `sums`.
 /// `frames` = L, `pairs` = frame pairs behind D.
+///
+/// Natively, two or more groups (a colour sensor's four phases) are summarised on two threads,
+/// half the groups each: a group's summary depends on its own pixels only, so the result is the
+/// same as in one thread (and is computed here again should the second thread fail). In wasm,
+/// one thread. Measured: the summaries were about 40 % of a 12 MP colour stack's analysis.
 pub(crate) fn summarise_groups(
+    region: Region<'_>,
+    sums: &RegionSums,
+    groups: &[Group],
+    frames: u32,
+    pairs: u32,
+) -> Vec<SpatialSummary> {
+    #[cfg(not(target_arch = "wasm32"))]
+    if groups.len() >= 2 {
+        let (first, second) = groups.split_at(groups.len() / 2);
+        return std::thread::scope(|scope| {
+            let other = std::thread::Builder::new().spawn_scoped(scope, || {
+                summarise_some(region, sums, second, frames, pairs)
+            });
+            let mut out = summarise_some(region, sums, first, frames, pairs);
+            let rest = other
+                .ok()
+                .and_then(|h| h.join().ok())
+                .unwrap_or_else(|| summarise_some(region, sums, second, frames, pairs));
+            out.extend(rest);
+            out
+        });
+    }
+    summarise_some(region, sums, groups, frames, pairs)
+}
+
+/// [`summarise_groups`] in this thread.
+fn summarise_some(
     region: Region<'_>,
     sums: &RegionSums,
     groups: &[Group],

@@ -79,6 +79,8 @@ fn check(w: usize, h: usize, sums: &[u32], dsq: &[u32], frames: u32, pairs: u32)
             })
             .collect();
         let all = summarise_groups(region, &rs, &phases, frames, pairs);
+        // Natively on two threads, two phases each: the same as in one thread.
+        assert_eq!(all, summarise_some(region, &rs, &phases, frames, pairs));
         for (g, s) in phases.iter().zip(&all) {
             let single = summarise_groups(region, &rs, &[*g], frames, pairs);
             assert_eq!(Some(s), single.first());
