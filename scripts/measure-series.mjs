@@ -85,7 +85,9 @@ console.log(`native: plain read ${readMs.toFixed(0)} ms (${sum} bytes), characte
 // The same code, without the browser's file reading: the worker's analysis (its Job) natively
 // (crate/frames-worker/examples/job_native.rs) and its wasm, the speed build scripts/build-page
 // made, in node's V8 (target nodejs glue, wasm-opt -O3 as the build), each file read into
-// memory before it is given and only the giving timed; best of 3 each, alternated.
+// memory before it is given and only the giving timed; best of 3 each, alternated. Both run on
+// one thread: the worker crate builds the engine without its `threads` feature, which the CLI
+// above has (so `characterize` is also faster than this native line).
 function sameCode() {
   const built = join(ROOT, 'target/frames-worker-build/wasm32-unknown-unknown/release/noise_budget_frames_worker.wasm');
   if (!existsSync(built)) return console.log('same code: skipped (no worker build; run scripts/build-page)');
@@ -110,7 +112,7 @@ const ok = job.answer().startsWith('{"result"'); console.log(JSON.stringify({ gi
     }
     if (![...native, ...wasmRuns].every((x) => x.ok)) return console.log('same code: an analysis failed');
     const n = Math.min(...native.map((x) => x.give_ms)); const wm = Math.min(...wasmRuns.map((x) => x.give_ms));
-    console.log(`same code (the worker's Job, files already read): native ${n.toFixed(0)} ms, wasm in node ${wm.toFixed(0)} ms` +
+    console.log(`same code (the worker's Job, files already read, one thread): native ${n.toFixed(0)} ms, wasm in node ${wm.toFixed(0)} ms` +
       ` = ${(wm / n).toFixed(2)} × native (best of 3 each, alternated)`);
   } finally {
     rmSync(glue, { recursive: true, force: true });

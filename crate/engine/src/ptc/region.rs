@@ -540,10 +540,10 @@ fn picked(lines: usize) -> Vec<usize> {
 /// Pass 2 and the summaries of `groups` (all pixels, or phases), from pass 1's `sums`.
 /// `frames` = L, `pairs` = frame pairs behind D.
 ///
-/// Natively, two or more groups (a colour sensor's four phases) are summarised on two threads,
-/// half the groups each: a group's summary depends on its own pixels only, so the result is the
-/// same as in one thread (and is computed here again should the second thread fail). In wasm,
-/// one thread. Measured: the summaries were about 40 % of a 12 MP colour stack's analysis.
+/// Natively with the `threads` feature, two or more groups (a colour sensor's four phases) are
+/// summarised on two threads, half the groups each: a group's summary depends on its own pixels
+/// only, so the result is the same as in one thread (and is computed here again should the
+/// second thread fail). In wasm, or without the feature, one thread. Measured: the summaries were about 40 % of a 12 MP colour stack's analysis.
 pub(crate) fn summarise_groups(
     region: Region<'_>,
     sums: &RegionSums,
@@ -551,7 +551,7 @@ pub(crate) fn summarise_groups(
     frames: u32,
     pairs: u32,
 ) -> Vec<SpatialSummary> {
-    #[cfg(not(target_arch = "wasm32"))]
+    #[cfg(all(feature = "threads", not(target_arch = "wasm32")))]
     if groups.len() >= 2 {
         let (first, second) = groups.split_at(groups.len() / 2);
         return std::thread::scope(|scope| {

@@ -271,10 +271,10 @@ struct RowsPass<'a> {
 
 impl RowsPass<'_> {
     /// Rows `ys`, whose per-pixel sums are `sums` and `dsq` (`w` a row; `dsq` empty for a
-    /// flat stack). Natively the rows are split between two threads, which write disjoint
-    /// rows and whose integer sums add in any order, so the result is the same as in one
-    /// thread (all of it is summed here should the thread fail to start). In wasm, one
-    /// thread.
+    /// flat stack). Natively with the `threads` feature the rows are split between two
+    /// threads, which write disjoint rows and whose integer sums add in any order, so the
+    /// result is the same as in one thread (all of it is summed here should the thread fail
+    /// to start). In wasm, or without the feature, one thread.
     fn run_split(
         self,
         ys: std::ops::Range<usize>,
@@ -283,7 +283,7 @@ impl RowsPass<'_> {
         dsq: &mut [u32],
         rows: &mut [Vec<u16>; 4],
     ) -> RowsSum {
-        #[cfg(not(target_arch = "wasm32"))]
+        #[cfg(all(feature = "threads", not(target_arch = "wasm32")))]
         if ys.len() >= 2 && w > 0 {
             let mid = ys.start + ys.len() / 2;
             let cut = (mid - ys.start) * w;
@@ -363,7 +363,7 @@ impl RowsPass<'_> {
 }
 
 /// Two runs of rows' sums together.
-#[cfg(not(target_arch = "wasm32"))]
+#[cfg(all(feature = "threads", not(target_arch = "wasm32")))]
 fn merge_rows_sums(a: RowsSum, b: RowsSum) -> RowsSum {
     let (mut phases, or, max) = a;
     for (mine, theirs) in phases.iter_mut().zip(b.0) {
