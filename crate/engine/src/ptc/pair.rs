@@ -258,7 +258,7 @@ const LANES: usize = 16;
 /// read in place ([`Be16`]), so that widening them costs no pass of its own (measured: a
 /// separate widening pass over the rows cost about as much as the rest of the pass, since its
 /// loads could not overlap the pass's work on the per-pixel sums).
-pub(crate) trait Row: Copy {
+pub(crate) trait Row<'r>: Copy {
     /// Samples in the row.
     fn samples(self) -> usize;
     /// The first `n` samples; `n` must not exceed [`Row::samples`] (the passes cut every row
@@ -269,9 +269,15 @@ pub(crate) trait Row: Copy {
     fn at(self, i: usize) -> u16;
     /// The row's samples [`LANES`] at a time (a shorter tail left out).
     fn chunks(self) -> impl Iterator<Item = [u16; LANES]>;
+    /// The row as widened samples, if it is one (for the SIMD loops that load them).
+    #[cfg_attr(
+        not(all(target_arch = "wasm32", target_feature = "simd128")),
+        allow(dead_code)
+    )]
+    fn widened(self) -> Option<&'r [u16]>;
 }
 
-impl Row for &[u16] {
+impl<'r> Row<'r> for &'r [u16] {
     #[inline(always)]
     fn samples(self) -> usize {
         self.len()
@@ -290,6 +296,10 @@ impl Row for &[u16] {
         self.chunks_exact(LANES)
             .filter_map(|c| <[u16; LANES]>::try_from(c).ok())
     }
+    #[inline(always)]
+    fn widened(self) -> Option<&'r [u16]> {
+        Some(self)
+    }
 }
 
 /// 16-bit big-endian samples in place (a 16-bit PGM's row; a trailing odd byte is not a
@@ -297,7 +307,7 @@ impl Row for &[u16] {
 #[derive(Debug, Clone, Copy)]
 pub(crate) struct Be16<'a>(pub &'a [u8]);
 
-impl Row for Be16<'_> {
+impl<'r> Row<'r> for Be16<'r> {
     #[inline(always)]
     fn samples(self) -> usize {
         self.0.len() / 2
@@ -318,6 +328,10 @@ impl Row for Be16<'_> {
             .chunks_exact(2 * LANES)
             .filter_map(|c| <&[u8; 2 * LANES]>::try_from(c).ok())
             .map(|b| std::array::from_fn(|j| u16::from_be_bytes([b[2 * j], b[2 * j + 1]])))
+    }
+    #[inline(always)]
+    fn widened(self) -> Option<&'r [u16]> {
+        None
     }
 }
 
@@ -363,7 +377,7 @@ pub(crate) fn pair_pass(a: &[u16], b: &[u16], sums: &mut [u32], dsq: &mut [u32])
 /// pixel far noisier than any threshold, which is what it is used for. On x86-64 with AVX2
 /// (checked at run time) the loops are compiled for 256-bit vectors; in wasm with `simd128`
 /// the compiler vectorises them for 128-bit ones.
-pub(crate) fn pairs_pass<R: Row>(
+pub(crate) fn pairs_pass<'r, R: Row<'r>>(
     a: R,
     b: R,
     cd: Option<(R, R)>,
@@ -384,7 +398,7 @@ pub(crate) fn pairs_pass<R: Row>(
 
 #[cfg(target_arch = "x86_64")]
 #[target_feature(enable = "avx2")]
-unsafe fn pairs_pass_avx2<R: Row>(
+unsafe fn pairs_pass_avx2<'r, R: Row<'r>>(
     a: R,
     b: R,
     cd: Option<(R, R)>,
@@ -396,7 +410,7 @@ unsafe fn pairs_pass_avx2<R: Row>(
 }
 
 #[inline(always)]
-fn pairs_pass_portable<R: Row>(
+fn pairs_pass_portable<'r, R: Row<'r>>(
     a: R,
     b: R,
     cd: Option<(R, R)>,
@@ -452,10 +466,162 @@ fn pairs_pass_portable<R: Row>(
 
 /// The per-pixel part of the pass over slices of one length: `sums (+)= a + b (+ c + d)`,
 /// with `DSQ` `dsq (+)= (a − b)² (+ (c − d)²)` (saturating); `=` with `FIRST`; c and d with
-/// `TWO`. Returns the OR and the maximum of the samples. A plain loop the compiler vectorises.
+/// `TWO`. Returns the OR and the maximum of the samples. In wasm with `simd128`, widened rows go
+/// through [`per_pixel_simd128`]; everywhere else a plain loop the compiler vectorises.
+#[inline(always)]
+fn per_pixel<'r, R: Row<'r>, const FIRST: bool, const DSQ: bool, const TWO: bool>(
+    a: R,
+    b: R,
+    c: R,
+    d: R,
+    sums: &mut [u32],
+    dsq: &mut [u32],
+) -> (u16, u16) {
+    #[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
+    if let (Some(a), Some(b), Some(c), Some(d)) =
+        (a.widened(), b.widened(), c.widened(), d.widened())
+    {
+        return per_pixel_simd128::<FIRST, DSQ, TWO>(a, b, c, d, sums, dsq);
+    }
+    per_pixel_loop::<R, FIRST, DSQ, TWO>(a, b, c, d, sums, dsq)
+}
+
+/// [`per_pixel`] with wasm's 128-bit SIMD, eight pixels at a time: the same integers as the
+/// plain loop (u16 lanes for the samples, |a − b| and the OR and maximum; u32 lanes for the
+/// sums, the squares formed exactly by widening multiplies, |a − b|² < 2^32, and saturating
+/// additions as an add whose wrap is detected by an unsigned compare). The last pixels that do
+/// not fill eight lanes go through the plain loop.
+#[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
+#[inline(always)]
+fn per_pixel_simd128<'r, const FIRST: bool, const DSQ: bool, const TWO: bool>(
+    a: &'r [u16],
+    b: &'r [u16],
+    c: &'r [u16],
+    d: &'r [u16],
+    sums: &mut [u32],
+    dsq: &mut [u32],
+) -> (u16, u16) {
+    use core::arch::wasm32::{
+        i16x8_sub, i32x4_add, u16x8_extract_lane, u16x8_max, u16x8_min, u16x8_splat,
+        u32x4_extend_high_u16x8, u32x4_extend_low_u16x8, u32x4_extmul_high_u16x8,
+        u32x4_extmul_low_u16x8, u32x4_lt, v128, v128_load, v128_or, v128_store,
+    };
+    let n = sums.len();
+    let cut = |s: &'r [u16]| s.get(..n).unwrap_or_default();
+    let (a, b, c, d) = (cut(a), cut(b), cut(c), cut(d));
+    let dsq = if DSQ {
+        dsq.get_mut(..n).unwrap_or_default()
+    } else {
+        dsq
+    };
+    let whole = if a.len() == n && b.len() == n && (!TWO || (c.len() == n && d.len() == n)) {
+        n - n % 8
+    } else {
+        0
+    };
+    let (mut or, mut max) = (u16x8_splat(0), u16x8_splat(0));
+    let load = |s: &[u16], i: usize| -> v128 {
+        let s = s.get(i..i + 8).unwrap_or_default();
+        // SAFETY: `s` is exactly 8 u16 (i + 8 ≤ whole ≤ the slice's length, checked above),
+        // 16 readable bytes; wasm's v128.load has no alignment requirement.
+        unsafe { v128_load(s.as_ptr().cast::<v128>()) }
+    };
+    let load32 = |s: &[u32], i: usize| -> v128 {
+        let s = s.get(i..i + 4).unwrap_or_default();
+        // SAFETY: as above, 4 u32 of 16 readable bytes.
+        unsafe { v128_load(s.as_ptr().cast::<v128>()) }
+    };
+    let store32 = |s: &mut [u32], i: usize, v: v128| {
+        if let Some(s) = s.get_mut(i..i + 4) {
+            // SAFETY: `s` is exactly 4 u32, 16 writable bytes; no alignment requirement.
+            unsafe { v128_store(s.as_mut_ptr().cast::<v128>(), v) }
+        }
+    };
+    // a + b with the result u32::MAX where it wrapped (unsigned lanes).
+    let saturating = |x: v128, y: v128| -> v128 {
+        let s = i32x4_add(x, y);
+        v128_or(s, u32x4_lt(s, x))
+    };
+    let mut i = 0;
+    while i < whole {
+        let (x, y) = (load(a, i), load(b, i));
+        or = v128_or(or, v128_or(x, y));
+        max = u16x8_max(max, u16x8_max(x, y));
+        let mut lo = i32x4_add(u32x4_extend_low_u16x8(x), u32x4_extend_low_u16x8(y));
+        let mut hi = i32x4_add(u32x4_extend_high_u16x8(x), u32x4_extend_high_u16x8(y));
+        let diff = i16x8_sub(u16x8_max(x, y), u16x8_min(x, y));
+        let (mut dlo, mut dhi) = (
+            u32x4_extmul_low_u16x8(diff, diff),
+            u32x4_extmul_high_u16x8(diff, diff),
+        );
+        if TWO {
+            let (z, w) = (load(c, i), load(d, i));
+            or = v128_or(or, v128_or(z, w));
+            max = u16x8_max(max, u16x8_max(z, w));
+            lo = i32x4_add(
+                lo,
+                i32x4_add(u32x4_extend_low_u16x8(z), u32x4_extend_low_u16x8(w)),
+            );
+            hi = i32x4_add(
+                hi,
+                i32x4_add(u32x4_extend_high_u16x8(z), u32x4_extend_high_u16x8(w)),
+            );
+            let diff = i16x8_sub(u16x8_max(z, w), u16x8_min(z, w));
+            dlo = saturating(dlo, u32x4_extmul_low_u16x8(diff, diff));
+            dhi = saturating(dhi, u32x4_extmul_high_u16x8(diff, diff));
+        }
+        if FIRST {
+            store32(sums, i, lo);
+            store32(sums, i + 4, hi);
+        } else {
+            store32(sums, i, i32x4_add(load32(sums, i), lo));
+            store32(sums, i + 4, i32x4_add(load32(sums, i + 4), hi));
+        }
+        if DSQ {
+            if FIRST {
+                store32(dsq, i, dlo);
+                store32(dsq, i + 4, dhi);
+            } else {
+                store32(dsq, i, saturating(load32(dsq, i), dlo));
+                store32(dsq, i + 4, saturating(load32(dsq, i + 4), dhi));
+            }
+        }
+        i += 8;
+    }
+    let tail = |s: &'r [u16]| s.get(whole..).unwrap_or_default();
+    let (t_or, t_max) = per_pixel_loop::<&[u16], FIRST, DSQ, TWO>(
+        tail(a),
+        tail(b),
+        tail(c),
+        tail(d),
+        sums.get_mut(whole..).unwrap_or_default(),
+        if DSQ {
+            dsq.get_mut(whole..).unwrap_or_default()
+        } else {
+            &mut []
+        },
+    );
+    let lanes = |v: v128| -> [u16; 8] {
+        [
+            u16x8_extract_lane::<0>(v),
+            u16x8_extract_lane::<1>(v),
+            u16x8_extract_lane::<2>(v),
+            u16x8_extract_lane::<3>(v),
+            u16x8_extract_lane::<4>(v),
+            u16x8_extract_lane::<5>(v),
+            u16x8_extract_lane::<6>(v),
+            u16x8_extract_lane::<7>(v),
+        ]
+    };
+    let or = lanes(or).iter().fold(t_or, |o, v| o | v);
+    let max = lanes(max).iter().fold(t_max, |m, v| m.max(*v));
+    (or, max)
+}
+
+/// [`per_pixel`] as a plain loop.
 #[inline(always)]
 #[allow(clippy::indexing_slicing)] // OK because the caller cut every slice to one length n
-fn per_pixel<R: Row, const FIRST: bool, const DSQ: bool, const TWO: bool>(
+fn per_pixel_loop<'r, R: Row<'r>, const FIRST: bool, const DSQ: bool, const TWO: bool>(
     a: R,
     b: R,
     c: R,
@@ -471,7 +637,8 @@ fn per_pixel<R: Row, const FIRST: bool, const DSQ: bool, const TWO: bool>(
         let (ai, bi) = (a.at(i), b.at(i));
         let (x, y) = (u32::from(ai), u32::from(bi));
         let mut v = x + y;
-        let diff = x.abs_diff(y);
+        // |a − b| in 16 bits (twice the lanes of a 32-bit difference), squared in 32.
+        let diff = u32::from(ai.abs_diff(bi));
         let mut dd = diff * diff;
         or |= ai | bi;
         max = max.max(ai.max(bi));
@@ -479,7 +646,7 @@ fn per_pixel<R: Row, const FIRST: bool, const DSQ: bool, const TWO: bool>(
             let (ci, di) = (c.at(i), d.at(i));
             let (z, w) = (u32::from(ci), u32::from(di));
             v += z + w;
-            let diff = z.abs_diff(w);
+            let diff = u32::from(ci.abs_diff(di));
             dd = dd.saturating_add(diff * diff);
             or |= ci | di;
             max = max.max(ci.max(di));
@@ -496,7 +663,7 @@ fn per_pixel<R: Row, const FIRST: bool, const DSQ: bool, const TWO: bool>(
 /// (lane j takes the offsets ≡ j mod 16, so its parity is j's).
 #[inline(always)]
 #[allow(clippy::indexing_slicing)] // OK because every index is j < LANES into arrays of LANES
-fn parity_sums<R: Row, const SQUARES_OF_SUMS: bool>(a: R, b: R) -> [PairSums; 2] {
+fn parity_sums<'r, R: Row<'r>, const SQUARES_OF_SUMS: bool>(a: R, b: R) -> [PairSums; 2] {
     let n = a.samples().min(b.samples());
     let mut out = [PairSums::default(); 2];
     let mut dd = [0u64; LANES];
