@@ -155,7 +155,11 @@ self.onmessage = async (event) => {
         const frame = got.bytes ? job.give(index, got.bytes) : job.unreadable(index, got.why);
         if (frame !== undefined) self.postMessage({ type: 'progress', index, frame });
       }
-      self.postMessage({ type: 'done', result: job.answer() });
+      const result = job.answer();
+      // The reader ends before the answer goes out, so that no worker outlives the analysis
+      // once the page has its answer (and ends this worker).
+      reader.close();
+      self.postMessage({ type: 'done', result });
     } finally {
       reader.close();
     }
