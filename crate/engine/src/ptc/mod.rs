@@ -27,6 +27,8 @@ mod pair;
 mod region;
 mod spatial;
 mod stack;
+#[cfg(all(feature = "threads", not(target_arch = "wasm32")))]
+mod threads;
 
 pub use analysis::{
     analyse, analyse_with, AnalysisError, AnalysisOptions, ChannelResult, Characterization,

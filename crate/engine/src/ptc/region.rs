@@ -541,9 +541,10 @@ fn picked(lines: usize) -> Vec<usize> {
 /// `frames` = L, `pairs` = frame pairs behind D.
 ///
 /// Natively with the `threads` feature, two or more groups (a colour sensor's four phases) are
-/// summarised on two threads, half the groups each: a group's summary depends on its own pixels
-/// only, so the result is the same as in one thread (and is computed here again should the
-/// second thread fail). In wasm, or without the feature, one thread. Measured: the summaries were about 40 % of a 12 MP colour stack's analysis.
+/// summarised on two threads, half the groups each ([`super::threads::on_two`]): a group's
+/// summary depends on its own pixels only, so the result is the same as in one thread. In
+/// wasm, without the feature, or when the thread cannot start, one thread. Measured: the
+/// summaries were about 40 % of a 12 MP colour stack's analysis.
 pub(crate) fn summarise_groups(
     region: Region<'_>,
     sums: &RegionSums,
@@ -554,18 +555,13 @@ pub(crate) fn summarise_groups(
     #[cfg(all(feature = "threads", not(target_arch = "wasm32")))]
     if groups.len() >= 2 {
         let (first, second) = groups.split_at(groups.len() / 2);
-        return std::thread::scope(|scope| {
-            let other = std::thread::Builder::new().spawn_scoped(scope, || {
-                summarise_some(region, sums, second, frames, pairs)
-            });
-            let mut out = summarise_some(region, sums, first, frames, pairs);
-            let rest = other
-                .ok()
-                .and_then(|h| h.join().ok())
-                .unwrap_or_else(|| summarise_some(region, sums, second, frames, pairs));
+        if let Some((mut out, rest)) = super::threads::on_two(
+            || summarise_some(region, sums, first, frames, pairs),
+            || summarise_some(region, sums, second, frames, pairs),
+        ) {
             out.extend(rest);
-            out
-        });
+            return out;
+        }
     }
     summarise_some(region, sums, groups, frames, pairs)
 }

@@ -272,9 +272,9 @@ struct RowsPass<'a> {
 impl RowsPass<'_> {
     /// Rows `ys`, whose per-pixel sums are `sums` and `dsq` (`w` a row; `dsq` empty for a
     /// flat stack). Natively with the `threads` feature the rows are split between two
-    /// threads, which write disjoint rows and whose integer sums add in any order, so the
-    /// result is the same as in one thread (all of it is summed here should the thread fail
-    /// to start). In wasm, or without the feature, one thread.
+    /// threads ([`super::threads::on_two`]), which write disjoint rows and whose integer sums
+    /// add in any order, so the result is the same as in one thread. In wasm, without the
+    /// feature, or when the thread cannot start (no sum touched), one thread.
     fn run_split(
         self,
         ys: std::ops::Range<usize>,
@@ -290,22 +290,11 @@ impl RowsPass<'_> {
             let (s1, s2) = sums.split_at_mut(cut.min(sums.len()));
             let (d1, d2) = dsq.split_at_mut(cut.min(dsq.len()));
             let (upper, lower) = (ys.start..mid, mid..ys.end);
-            let done = std::thread::scope(|scope| {
-                let other = std::thread::Builder::new().spawn_scoped(scope, move || {
-                    let mut theirs: [Vec<u16>; 4] = Default::default();
-                    self.run(lower, w, s2, d2, &mut theirs)
-                });
-                // A thread that cannot start leaves every sum untouched: one thread below.
-                let other = other.ok()?;
-                let a = self.run(upper, w, s1, d1, rows);
-                // The engine does not panic; should the thread have, so does this one.
-                let b = other
-                    .join()
-                    .unwrap_or_else(|e| std::panic::resume_unwind(e));
-                Some(merge_rows_sums(a, b))
-            });
-            if let Some(done) = done {
-                return done;
+            if let Some((a, b)) = super::threads::on_two(
+                || self.run(upper, w, s1, d1, rows),
+                move || self.run(lower, w, s2, d2, &mut Default::default()),
+            ) {
+                return merge_rows_sums(a, b);
             }
         }
         self.run(ys, w, sums, dsq, rows)
@@ -600,8 +589,7 @@ impl StackAccumulator {
                     .all(|f| f.be16_row(roi.y as usize, (x0, x0 + w)).is_some()),
         };
         let (sums, dsq) = self.dsq_mut();
-        let got = pass.run_split(ys, w, sums, dsq, &mut rows);
-        let (phases, or, max) = got;
+        let (phases, or, max) = pass.run_split(ys, w, sums, dsq, &mut rows);
         self.or |= or;
         self.max = self.max.max(max);
         let pairs = pending.len() / 2;
