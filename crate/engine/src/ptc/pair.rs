@@ -147,6 +147,29 @@ unsafe fn pair_sums_avx2(a: &[u16], b: &[u16]) -> PairSums {
     pair_sums_portable(a, b)
 }
 
+/// Eight u16 as one vector: `c` must be exactly eight long (else zeros, never reached by the
+/// loops, which load whole chunks).
+#[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
+#[inline(always)]
+fn load_u16x8(c: &[u16]) -> core::arch::wasm32::v128 {
+    match <&[u16; 8]>::try_from(c) {
+        // SAFETY: eight u16 are 16 readable bytes; wasm's v128.load needs no alignment.
+        Ok(a) => unsafe { core::arch::wasm32::v128_load(a.as_ptr().cast()) },
+        Err(_) => core::arch::wasm32::u16x8_splat(0),
+    }
+}
+
+/// Four u32 as one vector, as [`load_u16x8`].
+#[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
+#[inline(always)]
+fn load_u32x4(c: &[u32]) -> core::arch::wasm32::v128 {
+    match <&[u32; 4]>::try_from(c) {
+        // SAFETY: four u32 are 16 readable bytes; no alignment needed.
+        Ok(a) => unsafe { core::arch::wasm32::v128_load(a.as_ptr().cast()) },
+        Err(_) => core::arch::wasm32::u32x4_splat(0),
+    }
+}
+
 /// The sums with wasm's 128-bit SIMD: the same integers as [`pair_sums_portable`], exactly
 /// (each lane's arithmetic is exact: within a block of [`BLOCK`] pixels a 32-bit lane receives
 /// at most 2^12 pairwise sums of two samples, < 2^30; squares are formed exactly in 32 bits
@@ -159,7 +182,7 @@ fn pair_sums_simd128(a: &[u16], b: &[u16]) -> PairSums {
         u32x4_extend_high_u16x8, u32x4_extend_low_u16x8, u32x4_extmul_high_u16x8,
         u32x4_extmul_low_u16x8, u32x4_extract_lane, u32x4_splat, u64x2_extend_high_u32x4,
         u64x2_extend_low_u32x4, u64x2_extmul_high_u32x4, u64x2_extmul_low_u32x4,
-        u64x2_extract_lane, u64x2_splat, v128, v128_load,
+        u64x2_extract_lane, u64x2_splat, v128,
     };
     let n = a.len().min(b.len());
     let (a, b) = (
@@ -170,11 +193,7 @@ fn pair_sums_simd128(a: &[u16], b: &[u16]) -> PairSums {
         pixels: n as u64,
         ..PairSums::default()
     };
-    let load = |c: &[u16]| -> v128 {
-        // SAFETY: `c` is a chunk of exactly 8 u16 (chunks_exact), 16 readable bytes; wasm's
-        // v128.load has no alignment requirement.
-        unsafe { v128_load(c.as_ptr().cast::<v128>()) }
-    };
+    let load = load_u16x8;
     let sum4 = |v: v128| -> u64 {
         u64::from(u32x4_extract_lane::<0>(v))
             + u64::from(u32x4_extract_lane::<1>(v))
@@ -376,7 +395,8 @@ pub(crate) fn pair_pass(a: &[u16], b: &[u16], sums: &mut [u32], dsq: &mut [u32])
 /// `dsq` is the same whether its pairs come one or two at a time. A `dsq` that saturates marks a
 /// pixel far noisier than any threshold, which is what it is used for. On x86-64 with AVX2
 /// (checked at run time) the loops are compiled for 256-bit vectors; in wasm with `simd128`
-/// the compiler vectorises them for 128-bit ones.
+/// the per-pixel part over widened rows is written with 128-bit vectors ([`per_pixel`]) and
+/// the compiler vectorises the rest.
 pub(crate) fn pairs_pass<'r, R: Row<'r>>(
     a: R,
     b: R,
@@ -504,7 +524,7 @@ fn per_pixel_simd128<'r, const FIRST: bool, const DSQ: bool, const TWO: bool>(
     use core::arch::wasm32::{
         i16x8_sub, i32x4_add, u16x8_extract_lane, u16x8_max, u16x8_min, u16x8_splat,
         u32x4_extend_high_u16x8, u32x4_extend_low_u16x8, u32x4_extmul_high_u16x8,
-        u32x4_extmul_low_u16x8, u32x4_lt, v128, v128_load, v128_or, v128_store,
+        u32x4_extmul_low_u16x8, u32x4_lt, v128, v128_or, v128_store,
     };
     let n = sums.len();
     let cut = |s: &'r [u16]| s.get(..n).unwrap_or_default();
@@ -520,20 +540,14 @@ fn per_pixel_simd128<'r, const FIRST: bool, const DSQ: bool, const TWO: bool>(
         0
     };
     let (mut or, mut max) = (u16x8_splat(0), u16x8_splat(0));
-    let load = |s: &[u16], i: usize| -> v128 {
-        let s = s.get(i..i + 8).unwrap_or_default();
-        // SAFETY: `s` is exactly 8 u16 (i + 8 ≤ whole ≤ the slice's length, checked above),
-        // 16 readable bytes; wasm's v128.load has no alignment requirement.
-        unsafe { v128_load(s.as_ptr().cast::<v128>()) }
-    };
-    let load32 = |s: &[u32], i: usize| -> v128 {
-        let s = s.get(i..i + 4).unwrap_or_default();
-        // SAFETY: as above, 4 u32 of 16 readable bytes.
-        unsafe { v128_load(s.as_ptr().cast::<v128>()) }
-    };
+    let load = |s: &[u16], i: usize| load_u16x8(s.get(i..i + 8).unwrap_or_default());
+    let load32 = |s: &[u32], i: usize| load_u32x4(s.get(i..i + 4).unwrap_or_default());
     let store32 = |s: &mut [u32], i: usize, v: v128| {
-        if let Some(s) = s.get_mut(i..i + 4) {
-            // SAFETY: `s` is exactly 4 u32, 16 writable bytes; no alignment requirement.
+        if let Some(s) = s
+            .get_mut(i..i + 4)
+            .and_then(|s| <&mut [u32; 4]>::try_from(s).ok())
+        {
+            // SAFETY: four u32 are 16 writable bytes; wasm's v128.store needs no alignment.
             unsafe { v128_store(s.as_mut_ptr().cast::<v128>(), v) }
         }
     };
