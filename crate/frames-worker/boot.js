@@ -139,6 +139,7 @@ self.onmessage = async (event) => {
     }
     const files = Array.from(data.files ?? []);
     const reader = noiseBudgetReader(files);
+    let result;
     try {
       const job = wasm_bindgen.Analysis.start(String(data.manifest ?? ''));
       // Files being read, by manifest index: the wanted one and the next ones (at most
@@ -155,14 +156,13 @@ self.onmessage = async (event) => {
         const frame = got.bytes ? job.give(index, got.bytes) : job.unreadable(index, got.why);
         if (frame !== undefined) self.postMessage({ type: 'progress', index, frame });
       }
-      const result = job.answer();
+      result = job.answer();
+    } finally {
       // The reader ends before the answer goes out, so that no worker outlives the analysis
       // once the page has its answer (and ends this worker).
       reader.close();
-      self.postMessage({ type: 'done', result });
-    } finally {
-      reader.close();
     }
+    self.postMessage({ type: 'done', result });
   } catch (err) {
     self.postMessage({ type: 'failed', message: `the frame analysis stopped: ${err}` });
   }

@@ -2,8 +2,8 @@
 //!
 //! Reads the manifest file and hands it to the engine (`engine::ptc::parse_manifest`, every
 //! problem at once, each with its key path), gives the engine's measurement
-//! (`engine::ptc::Measurement`) each frame file it wants, read on a second thread one file
-//! ahead (as the page's worker does), and prints the engine's characterization as JSON or a
+//! (`engine::ptc::Measurement`) each frame file it wants, read on a second thread four files
+//! ahead (`ptc::FRAMES_SUMMED_AT_ONCE`, as the page's worker does), and prints the engine's characterization as JSON or a
 //! table. It computes no statistic itself; the files go round a few reused buffers, so it
 //! holds a few frames whatever the length of the stacks.
 
