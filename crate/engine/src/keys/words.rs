@@ -157,7 +157,7 @@ pub fn number(x: f64) -> String {
         let digits: Vec<char> = plain.chars().collect();
         let mut out = String::new();
         for (i, c) in digits.iter().enumerate() {
-            if i > 0 && (digits.len() - i) % 3 == 0 {
+            if i > 0 && (digits.len() - i).is_multiple_of(3) {
                 out.push(GROUP);
             }
             out.push(*c);

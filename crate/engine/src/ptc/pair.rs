@@ -286,8 +286,10 @@ pub(crate) trait Row<'r>: Copy {
     /// Sample `i`, which must be below [`Row::samples`] (the passes index only below the
     /// length they cut every row to; written as indexing so that the loops vectorise).
     fn at(self, i: usize) -> u16;
-    /// The row's samples [`LANES`] at a time (a shorter tail left out).
-    fn chunks(self) -> impl Iterator<Item = [u16; LANES]>;
+    /// Samples `LANES·c` to `LANES·c + LANES − 1`, which must be below [`Row::samples`] (else
+    /// zeros). Indexed, not an iterator of chunks: at opt-level "z" the zip of two such
+    /// iterators stayed a call per chunk.
+    fn chunk(self, c: usize) -> [u16; LANES];
     /// The row as widened samples, if it is one (for the SIMD loops that load them).
     #[cfg_attr(
         not(all(target_arch = "wasm32", target_feature = "simd128")),
@@ -311,9 +313,11 @@ impl<'r> Row<'r> for &'r [u16] {
         self[i]
     }
     #[inline(always)]
-    fn chunks(self) -> impl Iterator<Item = [u16; LANES]> {
-        self.chunks_exact(LANES)
-            .filter_map(|c| <[u16; LANES]>::try_from(c).ok())
+    fn chunk(self, c: usize) -> [u16; LANES] {
+        self.get(LANES * c..)
+            .and_then(<[u16]>::first_chunk::<LANES>)
+            .copied()
+            .unwrap_or([0; LANES])
     }
     #[inline(always)]
     fn widened(self) -> Option<&'r [u16]> {
@@ -342,11 +346,13 @@ impl<'r> Row<'r> for Be16<'r> {
     }
     #[inline(always)]
     #[allow(clippy::indexing_slicing)] // OK because 2j + 1 < 2·LANES indexes an array of 2·LANES
-    fn chunks(self) -> impl Iterator<Item = [u16; LANES]> {
-        self.0
-            .chunks_exact(2 * LANES)
-            .filter_map(|c| <&[u8; 2 * LANES]>::try_from(c).ok())
-            .map(|b| std::array::from_fn(|j| u16::from_be_bytes([b[2 * j], b[2 * j + 1]])))
+    fn chunk(self, c: usize) -> [u16; LANES] {
+        let b = self
+            .0
+            .get(2 * LANES * c..)
+            .and_then(<[u8]>::first_chunk::<{ 2 * LANES }>)
+            .unwrap_or(&[0; 2 * LANES]);
+        std::array::from_fn(|j| u16::from_be_bytes([b[2 * j], b[2 * j + 1]]))
     }
     #[inline(always)]
     fn widened(self) -> Option<&'r [u16]> {
@@ -683,14 +689,13 @@ fn parity_sums<'r, R: Row<'r>, const SQUARES_OF_SUMS: bool>(a: R, b: R) -> [Pair
     let mut dd = [0u64; LANES];
     let mut ss = [0u64; LANES];
     let chunks = n / LANES;
-    let (mut xs, mut ys) = (a.first(n).chunks(), b.first(n).chunks());
-    let mut left = chunks;
-    while left > 0 {
-        let take = left.min(BLOCK / LANES);
-        left -= take;
+    let mut next = 0;
+    while next < chunks {
+        let take = (chunks - next).min(BLOCK / LANES);
         let mut sa = [0u32; LANES];
         let mut sb = [0u32; LANES];
-        for (x, y) in (&mut xs).zip(&mut ys).take(take) {
+        for c in next..next + take {
+            let (x, y) = (a.chunk(c), b.chunk(c));
             for j in 0..LANES {
                 let (xj, yj) = (u32::from(x[j]), u32::from(y[j]));
                 sa[j] += xj;
@@ -703,6 +708,7 @@ fn parity_sums<'r, R: Row<'r>, const SQUARES_OF_SUMS: bool>(a: R, b: R) -> [Pair
                 }
             }
         }
+        next += take;
         for j in 0..LANES {
             out[j % 2].sum_a += u64::from(sa[j]);
             out[j % 2].sum_b += u64::from(sb[j]);

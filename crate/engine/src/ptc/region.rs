@@ -410,6 +410,8 @@ impl Counter {
     }
 
     /// Every `STEP`-th value: four at a time from a chunk of 4·`STEP`, one to each copy.
+    /// (The chunks are visited by index in `for_chunks`: at opt-level "z" an iterator of
+    /// chunks, enumerated over the four copies, stayed calls per value.)
     #[inline(always)]
     fn add_every<const STEP: usize>(&mut self, line: &[u32]) {
         let lo = self.binner.lo;
@@ -420,8 +422,9 @@ impl Counter {
         else {
             return;
         };
-        let chunks = line.chunks_exact(COPIES * STEP);
-        let rest = chunks.remainder();
+        let rest = line
+            .get(line.len() - line.len() % (COPIES * STEP)..)
+            .unwrap_or_default();
         match &self.binner.lookup {
             Lookup::Direct { shift, table } => {
                 let (shift, table) = (*shift, table.as_slice());
@@ -434,16 +437,12 @@ impl Counter {
                         }
                     }
                 };
-                for c in chunks {
-                    for (k, copy) in [&mut *c0, &mut *c1, &mut *c2, &mut *c3]
-                        .into_iter()
-                        .enumerate()
-                    {
-                        if let Some(v) = c.get(k * STEP) {
-                            one(copy, *v);
-                        }
-                    }
-                }
+                for_chunks::<STEP>(line, |[v0, v1, v2, v3]| {
+                    one(c0, v0);
+                    one(c1, v1);
+                    one(c2, v2);
+                    one(c3, v3);
+                });
                 for v in rest.iter().step_by(STEP) {
                     one(c0, *v);
                 }
@@ -463,16 +462,12 @@ impl Counter {
                         }
                     }
                 };
-                for c in chunks {
-                    for (k, copy) in [&mut *c0, &mut *c1, &mut *c2, &mut *c3]
-                        .into_iter()
-                        .enumerate()
-                    {
-                        if let Some(v) = c.get(k * STEP) {
-                            one(copy, *v);
-                        }
-                    }
-                }
+                for_chunks::<STEP>(line, |[v0, v1, v2, v3]| {
+                    one(c0, v0);
+                    one(c1, v1);
+                    one(c2, v2);
+                    one(c3, v3);
+                });
                 for v in rest.iter().step_by(STEP) {
                     one(c0, *v);
                 }
@@ -496,6 +491,16 @@ impl Counter {
         let above = (0..self.bins).map(|b| at(b, 1) + at(b, 3)).sum();
         let below = (0..self.bins).map(|b| at(b, 2) + at(b, 3)).sum();
         (counts, above, below)
+    }
+}
+
+/// `f` on the values at offsets 0, `STEP`, 2·`STEP` and 3·`STEP` of each whole chunk of
+/// 4·`STEP` values of `line`, in order (a shorter tail left out).
+#[inline(always)]
+fn for_chunks<const STEP: usize>(line: &[u32], mut f: impl FnMut([u32; COPIES])) {
+    for c in 0..line.len() / (COPIES * STEP) {
+        let at = |k: usize| line.get(c * COPIES * STEP + k * STEP).copied().unwrap_or(0);
+        f([at(0), at(1), at(2), at(3)]);
     }
 }
 
