@@ -204,7 +204,8 @@ const out = resolve('tests/artifacts');
 mkdirSync(out, { recursive: true });
 writeFileSync(join(out, 'measurements.json'), `${JSON.stringify(result, null, 2)}\n`);
 console.log(`single file   ${kb(sizes.single_file.raw)} raw, ${kb(sizes.single_file.gzip)} gzip (budget 300 KB gzip)`);
-console.log(`wasm          ${kb(sizes.wasm.raw)} raw, ${kb(sizes.wasm.gzip)} gzip`);
+console.log(`wasm          ${kb(sizes.wasm.raw)} raw, ${kb(sizes.wasm.gzip)} gzip (the served page's one engine)`);
+if (sizes.single_file_wasm) console.log(`single's wasm ${kb(sizes.single_file_wasm.raw)} raw, ${kb(sizes.single_file_wasm.gzip)} gzip${sizes.single_file_frames ? ' (the one engine)' : ' (the calculator alone)'}`);
 console.log(`first result  served ${ms(median(served))}, single file ${ms(median(single))} (median of ${served.length}); ` +
   `empty static page load ${ms(median(empty))} (median of ${empty.length}); ` +
   `= ${(median(served) / median(empty)).toFixed(2)} × and ${(median(single) / median(empty)).toFixed(2)} × the empty page`);

@@ -83,22 +83,22 @@ console.log(`native: plain read ${readMs.toFixed(0)} ms (${sum} bytes), characte
   (rounds > 1 ? ` (medians of ${rounds}, alternated; reads ${reads.map((x) => x.toFixed(0)).join(', ')}; runs ${runs.map((x) => x.toFixed(0)).join(', ')} ms)` : ''));
 
 // The same code, without the browser's file reading: the worker's analysis (its Job) natively
-// (crate/frames-worker/examples/job_native.rs) and its wasm, the speed build scripts/build-page
-// made, in node's V8 (target nodejs glue, wasm-opt -O3 as the build), each file read into
+// (crate/frames-worker/examples/job_native.rs) and in the page's one engine, the build
+// scripts/build-page made, in node's V8 (target nodejs glue, wasm-opt -Oz as the build), each file read into
 // memory before it is given and only the giving timed; best of 3 each, alternated. Both run on
 // one thread: the worker crate builds the engine without its `threads` feature, which the CLI
 // above has (so `characterize` is also faster than this native line).
 function sameCode() {
-  const built = join(ROOT, 'target/frames-worker-build/wasm32-unknown-unknown/release/noise_budget_frames_worker.wasm');
-  if (!existsSync(built)) return console.log('same code: skipped (no worker build; run scripts/build-page)');
+  const built = join(ROOT, 'target/wasm32-unknown-unknown/release/noise_budget_web.wasm');
+  if (!existsSync(built)) return console.log('same code: skipped (no page build; run scripts/build-page)');
   const glue = mkdtempSync(join(tmpdir(), 'noise-budget-worker-node-'));
   try {
     execFileSync('wasm-bindgen', ['--target', 'nodejs', '--no-typescript', '--out-dir', glue, built]);
-    const wasm = join(glue, 'noise_budget_frames_worker_bg.wasm');
-    execFileSync(join(ROOT, 'node_modules/binaryen/bin/wasm-opt'), ['-O3', '--enable-simd', '--enable-bulk-memory',
+    const wasm = join(glue, 'noise_budget_web_bg.wasm');
+    execFileSync(join(ROOT, 'node_modules/binaryen/bin/wasm-opt'), ['-Oz', '--enable-simd', '--enable-bulk-memory',
       '--enable-nontrapping-float-to-int', '--enable-sign-ext', '--enable-mutable-globals', '-o', wasm, wasm]);
     const driver = join(glue, 'drive.cjs');
-    writeFileSync(driver, `const w = require(${JSON.stringify(join(glue, 'noise_budget_frames_worker.js'))});
+    writeFileSync(driver, `const w = require(${JSON.stringify(join(glue, 'noise_budget_web.js'))});
 const fs = require('fs'); const dir = ${JSON.stringify(dir)};
 const manifest = fs.readFileSync(dir + '/manifest.json', 'utf8'); const paths = JSON.parse(manifest).frames.map((f) => f.path);
 let give = 0; const job = w.Analysis.start(manifest); let i;

@@ -7,8 +7,13 @@
 //   dist/index.html        the served page: CSP meta, style and app script from its own origin;
 //   dist/noise-budget.html one file with the style and the script inline, allowed by hash,
 //                          which works opened from file:// with no server and no network.
+// The app script also starts the frame worker: run as a module worker (given the page's own
+// WebAssembly.Module, see crate/web/src/frames_ui/run.rs) it skips the page's start-up and runs
+// crate/frames-worker/boot.js, so the page and the worker run one compiled engine.
 // Sizes go to dist/sizes.json (a measurement; nothing checks them here).
-// Usage: node scripts/single-file.mjs [dist]
+// Usage: node scripts/single-file.mjs [dist] [CALCULATOR_DIR]
+//   CALCULATOR_DIR: wasm-bindgen's output (target web) of the calculator alone, for the
+//   self-contained file while the one engine is over its size budget (scripts/build-page).
 import { createHash } from 'node:crypto';
 import { readFileSync, readdirSync, rmSync, writeFileSync } from 'node:fs';
 import { dirname, join } from 'node:path';
@@ -17,6 +22,7 @@ import { gzipSync } from 'node:zlib';
 import { deflateAsync } from '@gfx/zopfli';
 
 const dist = process.argv[2] ?? 'dist';
+const calculatorDir = process.argv[3];
 const files = readdirSync(dist);
 const fail = (msg) => { console.error(`single-file: ${msg}`); process.exit(1); };
 
@@ -27,11 +33,9 @@ if (!files.includes(glueName)) fail(`no ${glueName} in ${dist}`);
 const cssName = files.find((f) => /^style-[0-9a-f]+\.css$/.test(f));
 if (!cssName) fail(`no style-*.css in ${dist}`);
 
-const wasm = readFileSync(join(dist, wasmName));
 // Zopfli (Google's exhaustive deflate, Apache-2.0, as an npm package): a deflate stream any
 // inflater reads, 6 % smaller than zlib's level 9 on this wasm (248 420 B against 265 512 B
 // as gzip, measured), which the self-contained file's 300 KB budget needs; about 2 s of build time.
-const wasmDeflated = Buffer.from(await deflateAsync(wasm, { numiterations: 15 }));
 // The page inflates it synchronously (scripts/inflate.js, table-driven, checked against zlib
 // by tests/e2e/inflate.test.mjs), so that the wasm starts and the first result is written
 // inside the script's own run, before the browser's first layout of the page: with
@@ -39,18 +43,41 @@ const wasmDeflated = Buffer.from(await deflateAsync(wasm, { numiterations: 15 })
 // 80 ms in Chromium, traced) came between the script and the calculator's start.
 const inflater = readFileSync(join(dirname(fileURLToPath(import.meta.url)), 'inflate.js'), 'utf8');
 if (!/^const noiseBudgetInflate = /m.test(inflater)) fail('scripts/inflate.js does not define noiseBudgetInflate');
+const boot = readFileSync(join(dirname(fileURLToPath(import.meta.url)), '../crate/frames-worker/boot.js'), 'utf8');
+if (!/\bnoiseBudgetEngineArrived\b/.test(boot)) fail('crate/frames-worker/boot.js does not wait for the engine (noiseBudgetEngineArrived)');
 const css = readFileSync(join(dist, cssName), 'utf8');
 let html = readFileSync(join(dist, 'index.html'), 'utf8');
 
 // The glue as a plain module body: no exports (an inline module cannot be imported anyway).
-let glue = readFileSync(join(dist, glueName), 'utf8')
-  .replace(/^export (function|class|const|let|async function) /gm, '$1 ')
-  .replace(/^export \{[^}]*\};?[ \t]*$/gm, '')
-  .replace(/^export default [^;\n]+;?[ \t]*$/gm, '');
-if (/^\s*export\b/m.test(glue)) fail(`an export the script does not handle is left in ${glueName}`);
-if (!/\bfunction initSync\b/.test(glue)) fail(`${glueName} has no initSync`);
+function moduleBody(path) {
+  const glue = readFileSync(path, 'utf8')
+    .replace(/^export (function|class|const|let|async function) /gm, '$1 ')
+    .replace(/^export \{[^}]*\};?[ \t]*$/gm, '')
+    .replace(/^export default [^;\n]+;?[ \t]*$/gm, '');
+  if (/^\s*export\b/m.test(glue)) fail(`an export the script does not handle is left in ${path}`);
+  if (!/\bfunction initSync\b/.test(glue)) fail(`${path} has no initSync`);
+  return glue;
+}
 
-const app = `${glue}
+// The exports boot.js calls, as wasm-bindgen's no-modules glue would name them.
+const WORKER_EXPORTS = ['Analysis', 'simulate_frame', 'simulate_series', 'pair_stats_ms'];
+
+/** The app script for a glue (its path) and a wasm; `frames`: it holds the frame worker's
+ * exports, so the script also runs as the frame worker. */
+async function appScript(gluePath, wasm, frames) {
+  const glue = moduleBody(gluePath);
+  for (const name of frames ? WORKER_EXPORTS : []) {
+    if (!new RegExp(`\\b(function|class) ${name}\\b`).test(glue)) fail(`${gluePath} has no ${name}: build crate/web with its frames feature`);
+  }
+  const wasmDeflated = Buffer.from(await deflateAsync(wasm, { numiterations: 15 }));
+  const worker = frames ? `
+// ---- the frame worker (crate/frames-worker/boot.js): this script run as a module worker ----
+if (typeof document === 'undefined') {
+const wasm_bindgen = { initSync, ${WORKER_EXPORTS.join(', ')} };
+${boot}
+}
+` : '';
+  return `${glue}
 ${inflater}
 // ---- noise-budget start-up (scripts/single-file.mjs) ----
 // The wasm is embedded so the page makes no request for it (the CSP forbids fetching), as the
@@ -66,6 +93,7 @@ function noiseBudgetBytes(b64) {
   for (let i = 0; i < text.length; i++) bytes[i] = text.charCodeAt(i);
   return bytes;
 }
+${worker}if (typeof document !== 'undefined') {
 performance.mark('noise-budget:script-start');
 try {
   let wasmBytes;
@@ -85,7 +113,8 @@ try {
     throw new Error(\`its embedded code does not compile (\${err}): the file may be damaged (download it again), or this browser is older than WebAssembly's 2020 features\`);
   }
   initSync({ module });
-  window.wasmBindings = { evaluate, version };
+  // For scripts and tests: the evaluation, the version, and the compiled engine the worker is given.
+  window.wasmBindings = { evaluate, version, module };
 } catch (err) {
   document.getElementById('boot-waiting')?.remove();
   const el = document.getElementById('boot-status');
@@ -94,7 +123,14 @@ try {
     el.textContent = 'The calculator could not start in this browser: ' + err;
   }
 }
+}
 `;
+}
+
+const wasm = readFileSync(join(dist, wasmName));
+const app = await appScript(join(dist, glueName), wasm, true);
+const singleWasm = calculatorDir ? readFileSync(join(calculatorDir, 'noise_budget_web_bg.wasm')) : wasm;
+const singleApp = calculatorDir ? await appScript(join(calculatorDir, 'noise_budget_web.js'), singleWasm, false) : app;
 
 const sha256 = (text) => createHash('sha256').update(text, 'utf8').digest('base64');
 const short = (text) => createHash('sha256').update(text, 'utf8').digest('hex').slice(0, 16);
@@ -114,30 +150,35 @@ if (!cssLink) fail('no stylesheet link for the Trunk-built CSS in index.html');
 const charset = '<meta charset="utf-8">';
 if (!html.includes(charset)) fail(`index.html has no ${charset}`);
 
-// worker-src blob: lets the page start the frame worker that scripts/embed-worker.mjs embeds.
-const common = "default-src 'none'; img-src data:; connect-src 'none'; worker-src blob:; base-uri 'none'; form-action 'none'";
-const csp = (scripts, styles) =>
-  `<meta http-equiv="Content-Security-Policy" content="${common}; script-src ${scripts} 'wasm-unsafe-eval'; style-src ${styles}">`;
+// worker-src: the frame worker is the app script itself, started from its file ('self', the
+// served page) or from a Blob URL of its text (the self-contained file); the worker's file
+// reader is a second worker from a Blob URL.
+const common = "default-src 'none'; img-src data:; connect-src 'none'; base-uri 'none'; form-action 'none'";
+const csp = (scripts, styles, workers) =>
+  `<meta http-equiv="Content-Security-Policy" content="${common}; worker-src ${workers}; script-src ${scripts} 'wasm-unsafe-eval'; style-src ${styles}">`;
+// The app script's element: crate/web/src/frames_ui/run.rs starts the frame worker from it
+// (data-frames: it holds the frame worker).
+const APP_ID = 'noise-budget-app';
 
 // The served page: style and script from its own origin.
 const appName = `app-${short(app)}.js`;
 writeFileSync(join(dist, appName), app);
 const served = html
-  .replace(charset, `${charset}\n  ${csp("'self'", "'self'")}`)
+  .replace(charset, `${charset}\n  ${csp("'self'", "'self'", "'self' blob:")}`)
   // blocking="render": the browser does not lay out and paint the page's form before the app
   // script has run (it arrives after the HTML is parsed, and Chromium painted the bare form in
   // between, about 90 ms, traced); the script writes the first result in its own run, so the
   // first paint has it. Browsers that do not know the attribute ignore it.
-  .replace('</head>', `  <script type="module" src="./${appName}" blocking="render" integrity="sha384-${createHash('sha384').update(app, 'utf8').digest('base64')}"></script>\n</head>`);
+  .replace('</head>', `  <script type="module" id="${APP_ID}" data-frames src="./${appName}" blocking="render" integrity="sha384-${createHash('sha384').update(app, 'utf8').digest('base64')}"></script>\n</head>`);
 writeFileSync(join(dist, 'index.html'), served);
 
 // The single file: everything inline, allowed by hash.
-const inlineApp = escapeScript(app);
+const inlineApp = escapeScript(singleApp);
 const inlineCss = escapeStyle(css);
 const single = html
-  .replace(charset, `${charset}\n  ${csp(`'sha256-${sha256(inlineApp)}'`, `'sha256-${sha256(inlineCss)}'`)}`)
+  .replace(charset, `${charset}\n  ${csp(`'sha256-${sha256(inlineApp)}'`, `'sha256-${sha256(inlineCss)}'`, 'blob:')}`)
   .replace(cssLink[0], () => `<style>${inlineCss}</style>`)
-  .replace('</head>', () => `  <script type="module">${inlineApp}</script>\n</head>`);
+  .replace('</head>', () => `  <script type="module" id="${APP_ID}"${calculatorDir ? '' : ' data-frames'}>${inlineApp}</script>\n</head>`);
 writeFileSync(join(dist, 'noise-budget.html'), single);
 
 // The glue and the wasm now live inside the app script: drop the loose copies.
@@ -147,7 +188,9 @@ rmSync(join(dist, wasmName));
 const size = (buf) => ({ raw: buf.length, gzip: gzipSync(buf, { level: 9 }).length });
 const sizes = {
   single_file: size(Buffer.from(single)),
+  single_file_frames: !calculatorDir,
   wasm: size(wasm),
+  single_file_wasm: size(singleWasm),
   app_script: size(Buffer.from(app)),
   css: size(Buffer.from(css)),
 };

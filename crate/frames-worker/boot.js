@@ -1,11 +1,13 @@
 // ---- noise-budget frame worker start-up (crate/frames-worker/boot.js) ----
-// scripts/embed-worker.mjs puts this after the wasm-bindgen glue (target no-modules, which
-// defines `wasm_bindgen`) and the wasm as base64 of its gzip (NOISE_BUDGET_FRAMES_WASM), and
-// embeds the whole script in the page; the page starts it from a Blob URL, so nothing is
-// fetched. This script only inflates the wasm, reads the files (the next one while Rust
-// analyses the current one) and posts messages; the analysis is Rust's (src/bindings.rs).
+// scripts/single-file.mjs puts this in the page's app script, after the wasm-bindgen glue, in a
+// block that runs only where there is no document: the page starts the same script as a module
+// worker (from its file, or from a Blob URL of its text in the self-contained file), so nothing
+// is fetched, and posts it the page's own compiled WebAssembly.Module first. `wasm_bindgen` is
+// the glue's exports. This script only starts the engine, reads the files (the next ones while
+// Rust analyses the current one) and posts messages; the analysis is Rust's (src/bindings.rs).
 //
-// Messages in:  { manifest: "<manifest JSON text>", files: [File | ArrayBuffer, …] }
+// Messages in:  { engine: WebAssembly.Module }       first, from the page: its compiled engine
+//               { manifest: "<manifest JSON text>", files: [File | ArrayBuffer, …] }
 //               { bench: { width, height, repeats } }
 //               { simulate: { id, scenario: "<scenario JSON>", seed: "<u64 as text>" } }
 //               { series: { id, scenario, seed, zip: true | false } }
@@ -15,20 +17,14 @@
 //               { type: 'frame', id, result, rgba } result: the JSON of sim::frame, rgba its pixels
 //               { type: 'series', id, result, buffers } the zip, or the files in manifest order
 //               { type: 'failed', message, id }     the worker itself could not work
-function noiseBudgetBase64(b64) {
-  if (typeof Uint8Array.fromBase64 === 'function') return Uint8Array.fromBase64(b64);
-  const text = atob(b64);
-  const bytes = new Uint8Array(text.length);
-  for (let i = 0; i < text.length; i++) bytes[i] = text.charCodeAt(i);
-  return bytes;
-}
 
-const noiseBudgetReady = (async () => {
-  const gz = noiseBudgetBase64(NOISE_BUDGET_FRAMES_WASM);
-  const stream = new Blob([gz]).stream().pipeThrough(new DecompressionStream('gzip'));
-  const bytes = await new Response(stream).arrayBuffer();
-  await wasm_bindgen({ module_or_path: bytes });
-})();
+// Settled once the page's engine has been instantiated here (or could not be).
+let noiseBudgetEngineArrived;
+const noiseBudgetReady = new Promise((resolve, reject) => {
+  noiseBudgetEngineArrived = { resolve, reject };
+});
+// A failure is reported to each request that waits for the engine, not as an unhandled rejection.
+noiseBudgetReady.catch(() => {});
 
 // How many files are read ahead of the one being analysed: the frames the engine's stack
 // accumulator sums at once (engine::ptc::FRAMES_SUMMED_AT_ONCE), so the next ones are read while
@@ -108,6 +104,16 @@ function noiseBudgetReader(files) {
 
 self.onmessage = async (event) => {
   const data = event.data ?? {};
+  if (data.engine !== undefined) {
+    try {
+      if (!(data.engine instanceof WebAssembly.Module)) throw new Error('the page sent no compiled engine');
+      wasm_bindgen.initSync({ module: data.engine });
+      noiseBudgetEngineArrived.resolve();
+    } catch (err) {
+      noiseBudgetEngineArrived.reject(err);
+    }
+    return;
+  }
   try {
     await noiseBudgetReady;
   } catch (err) {

@@ -213,7 +213,7 @@ function frameSet() {
   return [manifest, ...frames.map((f) => join(dir, f.path))];
 }
 
-const SINGLE_FILE_HAS_WORKER = readFileSync(join(DIST, 'noise-budget.html'), 'utf8').includes('id="frames-worker-script"');
+const SINGLE_FILE_HAS_WORKER = readFileSync(join(DIST, 'noise-budget.html'), 'utf8').includes('id="noise-budget-app" data-frames');
 
 describe('Firefox ESR: measure a camera', () => {
   const targets = [TARGETS[0], ...(SINGLE_FILE_HAS_WORKER ? [TARGETS[1]] : [])];

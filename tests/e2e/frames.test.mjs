@@ -162,12 +162,13 @@ after(async () => {
 
 // The single file holds the frame worker only when built with NOISE_BUDGET_SINGLE_FILE_FRAMES
 // (scripts/build-page): by default it is left out to keep that file within its size budget.
-const SINGLE_FILE_HAS_WORKER = readFileSync(join(DIST, 'noise-budget.html'), 'utf8').includes('id="frames-worker-script"');
+const SINGLE_FILE_HAS_WORKER = readFileSync(join(DIST, 'noise-budget.html'), 'utf8').includes('id="noise-budget-app" data-frames');
 
-// Where the worker's script comes from: the served page's own file beside it (named by its
-// hash, scripts/embed-worker.mjs) or, in the single file, a Blob URL made from its data block.
-const OWN_WORKER_FILE = /^https?:\/\/(127\.0\.0\.1|localhost)(:\d+)?\/frames-worker-[0-9a-f]{16}\.js$/;
-const WORKER_URL = /^blob:|\/frames-worker-[0-9a-f]{16}\.js$/;
+// Where the worker's script comes from: it is the page's own app script (one engine, issue 15),
+// from its file beside the served page (named by its hash, scripts/single-file.mjs) or, in the
+// single file, a Blob URL made from its text.
+const OWN_WORKER_FILE = /^https?:\/\/(127\.0\.0\.1|localhost)(:\d+)?\/app-[0-9a-f]{16}\.js$/;
+const WORKER_URL = /^blob:|\/app-[0-9a-f]{16}\.js$/;
 
 const TARGETS = [
   { slug: 'served', name: 'the served page', url: () => `${server.origin}/` },

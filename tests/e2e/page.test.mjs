@@ -427,7 +427,7 @@ describe('a damaged single file', () => {
     const { tmpdir } = await import('node:os');
     const { pathToFileURL } = await import('node:url');
     const html = readFileSync(new URL(singleFileUrl()), 'utf8');
-    const script = html.match(/<script type="module">([\s\S]*?)<\/script>/)[1];
+    const script = html.match(/<script type="module" id="noise-budget-app"[^>]*>([\s\S]*?)<\/script>/)[1];
     const start = script.indexOf('const NOISE_BUDGET_WASM_DEFLATED = "') + 40;
     assert.ok(start > 40, 'the embedded wasm is found');
     // Replace 4 KB in the middle of the deflate stream by base64 of zeros.

@@ -15,7 +15,7 @@ import { DIST, ROOT, analysisEnded, cli, launch, loadDemo, openPage, singleFileU
 
 const DEMO = 'global-shutter-machine-vision';
 const DEMO_PATH = join(ROOT, 'www/demos', `${DEMO}.json`);
-const SINGLE_FILE_HAS_WORKER = readFileSync(join(DIST, 'noise-budget.html'), 'utf8').includes('id="frames-worker-script"');
+const SINGLE_FILE_HAS_WORKER = readFileSync(join(DIST, 'noise-budget.html'), 'utf8').includes('id="noise-budget-app" data-frames');
 
 let browser;
 let server;

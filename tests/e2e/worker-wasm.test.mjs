@@ -1,4 +1,5 @@
-// The frame worker's wasm (the simd128 build scripts/build-page made) run in node against the
+// The page's one engine (crate/web's wasm with the frame worker's exports, the simd128 build
+// scripts/build-page made, which the page's frame worker instantiates) run in node against the
 // command line's native `characterize` on the same files: every number of the two answers
 // equal (1e-12 relative, as helpers.mjs). The series exercises what the browser tests' pairs
 // do not: stacks of ten and six frames (two pairs summed in one pass, then one pair; the first
@@ -14,7 +15,7 @@ import { join } from 'node:path';
 import { test } from 'node:test';
 import { cli, RELATIVE_TOLERANCE, ROOT } from './helpers.mjs';
 
-const BUILT = join(ROOT, 'target/frames-worker-build/wasm32-unknown-unknown/release/noise_budget_frames_worker.wasm');
+const BUILT = join(ROOT, 'target/wasm32-unknown-unknown/release/noise_budget_web.wasm');
 const [W, H] = [203, 61];
 
 // Invented data: an RGGB sensor (red and blue at 0.6 and 0.45 of green) writing 12-bit samples
@@ -74,7 +75,7 @@ test('the worker\'s wasm gives the native characterize answer, number for number
     assert.ok(noisy.every((v) => v > 0), `the noisy dark pixels are counted in every channel: ${noisy}`);
 
     execFileSync('wasm-bindgen', ['--target', 'nodejs', '--no-typescript', '--out-dir', dir, BUILT]);
-    const worker = createRequire(import.meta.url)(join(dir, 'noise_budget_frames_worker.js'));
+    const worker = createRequire(import.meta.url)(join(dir, 'noise_budget_web.js'));
     const job = worker.Analysis.start(manifest);
     let index;
     let given = 0;

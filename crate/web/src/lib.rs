@@ -38,13 +38,22 @@ mod results;
 #[cfg(target_arch = "wasm32")]
 mod store;
 
+/// The frame worker's exports (`Analysis`, `simulate_frame`, …), linked into this module so
+/// that the worker runs the page's own compiled engine.
+#[cfg(all(target_arch = "wasm32", feature = "frames"))]
+pub use noise_budget_frames_worker;
+
 #[cfg(target_arch = "wasm32")]
 use wasm_bindgen::prelude::*;
 
-/// Entry point: set the page up (does nothing on a page without the calculator's form).
+/// Entry point: set the page up (does nothing on a page without the calculator's form, nor in
+/// the frame worker, which instantiates this same module and has no window).
 #[cfg(target_arch = "wasm32")]
 #[wasm_bindgen(start)]
 pub fn start() {
+    if web_sys::window().is_none() {
+        return;
+    }
     app::mount();
     frames_ui::mount();
 }

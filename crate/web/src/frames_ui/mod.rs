@@ -5,12 +5,11 @@
 //!
 //! This is the DOM side only. It writes the table as a manifest (the same JSON as
 //! `noise-budget characterize` reads, with the file names as paths) and posts it with the File
-//! objects to the worker, which reads the files (one ahead of its analysis), applies the
+//! objects to the worker, which reads the files (four ahead of its analysis), applies the
 //! engine's manifest rules, statistics and fits, and answers with JSON. Nothing here decodes
-//! a frame, checks a rule or computes a statistic, and the page's wasm links no frame decoder.
-//! The worker's script is written by `scripts/embed-worker.mjs` as a file beside the served
-//! page (or, in the single file, embedded in it and started from a Blob URL), and started only
-//! when an analysis starts; Cancel terminates it. Nothing here sends a frame anywhere, and nothing may panic on
+//! a frame, checks a rule or computes a statistic. The worker is the page's own app script
+//! run as a module worker and given the page's compiled engine (`run::new_worker`), started
+//! only when an analysis starts; Cancel terminates it. Nothing here sends a frame anywhere, and nothing may panic on
 //! a file or on what a user types.
 //!
 //! Here: the section's state, `mount` and the status and problem lines. `table.rs` the file
@@ -37,22 +36,24 @@ pub(crate) use run::new_worker;
 use run::{cancel, start_run};
 use table::{add_files, add_frame_file, apply_manifest, clear_files};
 
-/// The id of the data block holding the worker's script. `scripts/embed-worker.mjs` adds it to
-/// the built page (it is not in `www/index.html`, so it is looked up without `dom::by_id`).
-const WORKER_SCRIPT_ID: &str = "frames-worker-script";
+/// The id of the app script's element (written by `scripts/single-file.mjs`, not in
+/// `www/index.html`, so it is looked up without `dom::by_id`). The frame worker is that same
+/// script, run as a module worker; its `data-frames` attribute says that the script (and the
+/// module it carries) holds the frame worker's exports.
+pub(crate) const APP_SCRIPT_ID: &str = "noise-budget-app";
 
 /// What a copy of the page without the frame worker says (the self-contained file is built
-/// without it by default, to stay within its size budget).
+/// without it for now, to stay within its size budget).
 pub(crate) const NO_WORKER: &str =
     "this copy of the page has no frame analysis: it was left out to keep \
      the self-contained file small. Open the served page (scripts/serve), or run \
      noise-budget characterize on a manifest of these files";
 
-/// Whether the page holds the frame worker's script.
+/// Whether the page's script holds the frame worker.
 pub(crate) fn has_worker() -> bool {
     dom::document()
-        .and_then(|d| d.get_element_by_id(WORKER_SCRIPT_ID))
-        .is_some()
+        .and_then(|d| d.get_element_by_id(APP_SCRIPT_ID))
+        .is_some_and(|e| e.has_attribute("data-frames"))
 }
 
 thread_local! {

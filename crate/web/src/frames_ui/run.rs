@@ -1,16 +1,19 @@
-//! Running the analysis: the frame worker started from its own file or a Blob URL, the files
-//! and the manifest posted to it, its progress and answer, Cancel.
+//! Running the analysis: the frame worker (the page's own app script as a module worker,
+//! given the page's compiled engine), the files and the manifest posted to it, its progress and
+//! answer, Cancel.
 
 use serde_json::Value;
 use wasm_bindgen::closure::Closure;
 use wasm_bindgen::{JsCast, JsValue};
-use web_sys::{Blob, BlobPropertyBag, ErrorEvent, MessageEvent, Url, Worker};
+use web_sys::{
+    Blob, BlobPropertyBag, ErrorEvent, MessageEvent, Url, Worker, WorkerOptions, WorkerType,
+};
 
 use super::manifest::manifest;
 use super::results::show_result;
 use super::table::rows;
 use super::{
-    show_problems, status, Running, FILES, NO_WORKER, RESULT, RETIRED, RUN, WORKER_SCRIPT_ID,
+    show_problems, status, Running, APP_SCRIPT_ID, FILES, NO_WORKER, RESULT, RETIRED, RUN,
 };
 use crate::dom;
 
@@ -35,45 +38,67 @@ fn set_running(running: bool, total: u32) {
     }
 }
 
-/// Start the frame worker: from its own file next to the served page (the data block's
-/// `data-src`, so the page's HTML stays small and starts sooner), or from the script embedded
-/// in the self-contained file through a Blob URL. The second value is the Blob URL to revoke
-/// (empty for a file).
+/// Start the frame worker: the page's app script as a module worker, from its file (the
+/// served page) or from a Blob URL of its text (the self-contained file), and give it the
+/// page's compiled engine (`wasm_bindgen::module()`), which it instantiates instead of a wasm of
+/// its own. The second value is the Blob URL to revoke (empty for a file).
 pub(crate) fn new_worker() -> Result<(Worker, String), String> {
-    let block = dom::document().and_then(|d| d.get_element_by_id(WORKER_SCRIPT_ID));
-    if let Some(src) = block
-        .as_ref()
-        .and_then(|e| e.get_attribute("data-src"))
-        .filter(|s| !s.is_empty())
-    {
-        return Worker::new(&src).map(|w| (w, String::new())).map_err(|e| {
-            format!(
-                "the browser refused to start the frame analysis in a worker: {}",
-                js_text(&e)
-            )
-        });
-    }
-    let script = block
-        .and_then(|e| e.text_content())
-        .filter(|t| !t.is_empty())
+    let app = dom::document()
+        .and_then(|d| d.get_element_by_id(APP_SCRIPT_ID))
+        .filter(|e| e.has_attribute("data-frames"))
         .ok_or(NO_WORKER)?;
-    let parts = js_sys::Array::of1(&JsValue::from_str(&script));
-    let options = BlobPropertyBag::new();
-    options.set_type("text/javascript");
-    let blob = Blob::new_with_str_sequence_and_options(&parts, &options)
-        .map_err(|_| "the browser could not hold the frame analysis script")?;
-    let url = Url::create_object_url_with_blob(&blob)
-        .map_err(|_| "the browser could not hold the frame analysis script")?;
-    match Worker::new(&url) {
-        Ok(w) => Ok((w, url)),
-        Err(e) => {
-            let _ = Url::revoke_object_url(&url);
-            Err(format!(
-                "the browser refused to start the frame analysis in a worker: {}",
-                js_text(&e)
-            ))
+    let refused = |e: &JsValue| {
+        format!(
+            "the browser refused to start the frame analysis in a worker: {}",
+            js_text(e)
+        )
+    };
+    let options = WorkerOptions::new();
+    options.set_type(WorkerType::Module);
+    let (worker, url) = match app.get_attribute("src").filter(|s| !s.is_empty()) {
+        Some(src) => (
+            Worker::new_with_options(&src, &options).map_err(|e| refused(&e))?,
+            String::new(),
+        ),
+        None => {
+            let script = app
+                .text_content()
+                .filter(|t| !t.is_empty())
+                .ok_or(NO_WORKER)?;
+            let parts = js_sys::Array::of1(&JsValue::from_str(&script));
+            let blob_options = BlobPropertyBag::new();
+            blob_options.set_type("text/javascript");
+            let blob = Blob::new_with_str_sequence_and_options(&parts, &blob_options)
+                .map_err(|_| "the browser could not hold the frame analysis script")?;
+            let url = Url::create_object_url_with_blob(&blob)
+                .map_err(|_| "the browser could not hold the frame analysis script")?;
+            match Worker::new_with_options(&url, &options) {
+                Ok(w) => (w, url),
+                Err(e) => {
+                    let _ = Url::revoke_object_url(&url);
+                    return Err(refused(&e));
+                }
+            }
         }
+    };
+    let message = js_sys::Object::new();
+    let posted = js_sys::Reflect::set(
+        &message,
+        &JsValue::from_str("engine"),
+        &wasm_bindgen::module(),
+    )
+    .and_then(|_| worker.post_message(&message));
+    if let Err(e) = posted {
+        worker.terminate();
+        if !url.is_empty() {
+            let _ = Url::revoke_object_url(&url);
+        }
+        return Err(format!(
+            "the browser could not give the frame analysis its engine: {}",
+            js_text(&e)
+        ));
     }
+    Ok((worker, url))
 }
 
 fn js_text(v: &JsValue) -> String {
