@@ -684,6 +684,10 @@ fn per_pixel_loop<'r, R: Row<'r>, const FIRST: bool, const DSQ: bool, const TWO:
 #[inline(always)]
 #[allow(clippy::indexing_slicing)] // OK because every index is j < LANES into arrays of LANES
 fn parity_sums<'r, R: Row<'r>, const SQUARES_OF_SUMS: bool>(a: R, b: R) -> [PairSums; 2] {
+    #[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
+    if let (Some(a), Some(b)) = (a.widened(), b.widened()) {
+        return parity_sums_simd128::<SQUARES_OF_SUMS>(a, b);
+    }
     let n = a.samples().min(b.samples());
     let mut out = [PairSums::default(); 2];
     let mut dd = [0u64; LANES];
@@ -728,6 +732,90 @@ fn parity_sums<'r, R: Row<'r>, const SQUARES_OF_SUMS: bool>(a: R, b: R) -> [Pair
         let (x, y) = (u32::from(a.at(i)), u32::from(b.at(i)));
         let s = u64::from(x + y);
         out[i % 2] = out[i % 2].merged(PairSums {
+            pixels: 1,
+            sum_a: u64::from(x),
+            sum_b: u64::from(y),
+            sum_diff_sq: u64::from(x.abs_diff(y).pow(2)),
+            sum_sum_sq: if SQUARES_OF_SUMS { s * s } else { 0 },
+        });
+    }
+    out
+}
+
+/// [`parity_sums`] with wasm's 128-bit SIMD, for widened rows: the same integers, exactly.
+/// Eight samples a step, widened to two u32x4 (samples 0–3 and 4–7), whose even lanes hold the
+/// even offsets; |a − b|² and (a + b)² go to u64x2 lanes in the same even/odd order. Exact as
+/// [`pair_sums_simd128`]: within a block of [`BLOCK`] pixels a u32 lane of the sums receives
+/// 2^12 sums of two samples (< 2^29). Written out because at opt-level "s" the compiler left
+/// the portable 16-lane loop scalar. The last samples that do not fill 8 lanes go through the
+/// portable loop (their offsets keep their parity: blocks and steps are multiples of 8).
+#[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
+fn parity_sums_simd128<const SQUARES_OF_SUMS: bool>(a: &[u16], b: &[u16]) -> [PairSums; 2] {
+    use core::arch::wasm32::{
+        i16x8_sub, i32x4_add, i64x2_add, u16x8_max, u16x8_min, u32x4_extend_high_u16x8,
+        u32x4_extend_low_u16x8, u32x4_extmul_high_u16x8, u32x4_extmul_low_u16x8,
+        u32x4_extract_lane, u32x4_splat, u64x2_extend_high_u32x4, u64x2_extend_low_u32x4,
+        u64x2_extmul_high_u32x4, u64x2_extmul_low_u32x4, u64x2_extract_lane, u64x2_splat,
+    };
+    let n = a.len().min(b.len());
+    let whole = n - n % 8;
+    let (ha, ta) = a.split_at(whole.min(a.len()));
+    let (hb, tb) = b.split_at(whole.min(b.len()));
+    let mut out = [PairSums::default(); 2];
+    let (mut dd, mut ss) = (u64x2_splat(0), u64x2_splat(0));
+    for (ca, cb) in ha.chunks(BLOCK).zip(hb.chunks(BLOCK)) {
+        let (mut sa, mut sb) = (u32x4_splat(0), u32x4_splat(0));
+        let (xa, _) = ca.as_chunks::<8>();
+        let (xb, _) = cb.as_chunks::<8>();
+        for i in 0..xa.len().min(xb.len()) {
+            let (Some(x), Some(y)) = (xa.get(i), xb.get(i)) else {
+                break;
+            };
+            let (x, y) = (load_u16x8(x), load_u16x8(y));
+            let (xl, xh) = (u32x4_extend_low_u16x8(x), u32x4_extend_high_u16x8(x));
+            let (yl, yh) = (u32x4_extend_low_u16x8(y), u32x4_extend_high_u16x8(y));
+            sa = i32x4_add(sa, i32x4_add(xl, xh));
+            sb = i32x4_add(sb, i32x4_add(yl, yh));
+            let d = i16x8_sub(u16x8_max(x, y), u16x8_min(x, y));
+            let (d2l, d2h) = (u32x4_extmul_low_u16x8(d, d), u32x4_extmul_high_u16x8(d, d));
+            dd = i64x2_add(dd, u64x2_extend_low_u32x4(d2l));
+            dd = i64x2_add(dd, u64x2_extend_high_u32x4(d2l));
+            dd = i64x2_add(dd, u64x2_extend_low_u32x4(d2h));
+            dd = i64x2_add(dd, u64x2_extend_high_u32x4(d2h));
+            if SQUARES_OF_SUMS {
+                let (sl, sh) = (i32x4_add(xl, yl), i32x4_add(xh, yh));
+                ss = i64x2_add(ss, u64x2_extmul_low_u32x4(sl, sl));
+                ss = i64x2_add(ss, u64x2_extmul_high_u32x4(sl, sl));
+                ss = i64x2_add(ss, u64x2_extmul_low_u32x4(sh, sh));
+                ss = i64x2_add(ss, u64x2_extmul_high_u32x4(sh, sh));
+            }
+        }
+        let (ea, oa) = (
+            u64::from(u32x4_extract_lane::<0>(sa)) + u64::from(u32x4_extract_lane::<2>(sa)),
+            u64::from(u32x4_extract_lane::<1>(sa)) + u64::from(u32x4_extract_lane::<3>(sa)),
+        );
+        let (eb, ob) = (
+            u64::from(u32x4_extract_lane::<0>(sb)) + u64::from(u32x4_extract_lane::<2>(sb)),
+            u64::from(u32x4_extract_lane::<1>(sb)) + u64::from(u32x4_extract_lane::<3>(sb)),
+        );
+        let [even, odd] = &mut out;
+        (even.sum_a, even.sum_b) = (even.sum_a + ea, even.sum_b + eb);
+        (odd.sum_a, odd.sum_b) = (odd.sum_a + oa, odd.sum_b + ob);
+    }
+    let [even, odd] = &mut out;
+    even.sum_diff_sq = u64x2_extract_lane::<0>(dd);
+    odd.sum_diff_sq = u64x2_extract_lane::<1>(dd);
+    even.sum_sum_sq = u64x2_extract_lane::<0>(ss);
+    odd.sum_sum_sq = u64x2_extract_lane::<1>(ss);
+    even.pixels = (whole / 2) as u64;
+    odd.pixels = (whole / 2) as u64;
+    for (i, (&x, &y)) in ta.iter().zip(tb).enumerate() {
+        let (x, y) = (u32::from(x), u32::from(y));
+        let s = u64::from(x + y);
+        let Some(p) = out.get_mut((whole + i) % 2) else {
+            break;
+        };
+        *p = p.merged(PairSums {
             pixels: 1,
             sum_a: u64::from(x),
             sum_b: u64::from(y),
