@@ -1,8 +1,9 @@
 //! Frame decoders: round trips of every supported format and variant, and malformed files of
 //! every format refused with a clear error, never a panic (including random bytes, proptest).
 //!
-//! Files are written here with the `png` and `tiff` crates' encoders (the same crates decode
-//! them, so the round trips check this project's wrapping, not the crates). No statistics here.
+//! Files are written here with the `png` and `tiff` crates' encoders (dev-dependencies only:
+//! the engine decodes with its own code, so the round trips check it against an independent
+//! writer). No statistics here.
 
 #![allow(
     clippy::unwrap_used,
@@ -301,7 +302,7 @@ fn malformed_png() {
         png::ColorType::GrayscaleAlpha,
         &[0; 30],
     );
-    assert!(message(&ga, None).starts_with("png image is grayscalealpha"));
+    assert!(message(&ga, None).starts_with("png image is greyscale with alpha"));
     let g4 = png_bytes(
         4,
         2,

@@ -1,0 +1,3 @@
+//! Tests of inflate.rs.
+
+use super::*;

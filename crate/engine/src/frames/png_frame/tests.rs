@@ -1,0 +1,3 @@
+//! Tests of png_frame.rs.
+
+use super::*;

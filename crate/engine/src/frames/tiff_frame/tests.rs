@@ -1,0 +1,3 @@
+//! Tests of tiff_frame.rs.
+
+use super::*;
