@@ -53,7 +53,11 @@ const CRC_TABLE: [u32; 256] = {
             };
             k += 1;
         }
-        t[n] = c;
+        // OK: n < 256, the table's length.
+        #[allow(clippy::indexing_slicing)]
+        {
+            t[n] = c;
+        }
         n += 1;
     }
     t
@@ -84,6 +88,9 @@ fn name(kind: [u8; 4]) -> String {
         .collect()
 }
 
+/// A chunk's type and data.
+type Chunk<'a> = ([u8; 4], &'a [u8]);
+
 /// The chunks of a PNG after its signature: (type, data), each CRC checked, up to IEND or up
 /// to the first chunk after the IDAT chunks (unread).
 struct Chunks<'a> {
@@ -92,7 +99,7 @@ struct Chunks<'a> {
 }
 
 impl<'a> Chunks<'a> {
-    fn next(&mut self) -> Result<Option<([u8; 4], &'a [u8])>, FrameError> {
+    fn next(&mut self) -> Result<Option<Chunk<'a>>, FrameError> {
         let Some((len, kind)) = self.rest.get(..8).and_then(|h| {
             let len = u32::from_be_bytes(h.get(..4)?.try_into().ok()?);
             let kind: [u8; 4] = h.get(4..8)?.try_into().ok()?;
