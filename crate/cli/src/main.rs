@@ -7,6 +7,7 @@ mod characterize;
 mod demos;
 mod frame;
 mod human;
+mod png_write;
 mod simulate;
 mod table;
 
