@@ -1,8 +1,10 @@
 //! Frame decoders: round trips of every supported format and variant, and malformed files of
 //! every format refused with a clear error, never a panic (including random bytes, proptest).
 //!
-//! Files are written here with the `png` and `tiff` crates' encoders (the same crates decode
-//! them, so the round trips check this project's wrapping, not the crates). No statistics here.
+//! Files are written by tests/support/frame_files.rs, small writers made from the
+//! specifications that share no code with the engine's decoders (the cross-check against a
+//! general-purpose library's files is tests/python/test_frame_decoders.py, Pillow). No
+//! statistics here.
 
 #![allow(
     clippy::unwrap_used,
@@ -11,11 +13,12 @@
     clippy::indexing_slicing
 )] // test code: a failure should panic
 
-use std::io::Cursor;
+#[path = "support/frame_files.rs"]
+mod frame_files;
 
 use engine::frames::{decode, decode_as, Format, FrameError, RawGeometry, MAX_PIXELS};
+use frame_files::{crc32, png, tiff, tiff16, tiff8, Compression, TiffImage};
 use proptest::prelude::*;
-use tiff::encoder::{colortype, Compression, DeflateLevel, TiffEncoder};
 
 /// A 5 × 3 test pattern (chosen): distinct values, including 0 and the top of the range.
 fn pattern(max: u16) -> Vec<u16> {
@@ -30,65 +33,11 @@ fn pattern(max: u16) -> Vec<u16> {
         .collect()
 }
 
-fn png_bytes(
-    width: u32,
-    height: u32,
-    depth: png::BitDepth,
-    color: png::ColorType,
-    data: &[u8],
-) -> Vec<u8> {
-    let mut out = Vec::new();
-    {
-        let mut e = png::Encoder::new(&mut out, width, height);
-        e.set_depth(depth);
-        e.set_color(color);
-        let mut w = e.write_header().unwrap();
-        w.write_image_data(data).unwrap();
-    }
-    out
-}
-
-fn tiff16(width: u32, height: u32, data: &[u16], compression: Compression) -> Vec<u8> {
-    let mut c = Cursor::new(Vec::new());
-    TiffEncoder::new(&mut c)
-        .unwrap()
-        .with_compression(compression)
-        .write_image::<colortype::Gray16>(width, height, data)
-        .unwrap();
-    c.into_inner()
-}
-
-fn tiff8(width: u32, height: u32, data: &[u8], compression: Compression) -> Vec<u8> {
-    let mut c = Cursor::new(Vec::new());
-    TiffEncoder::new(&mut c)
-        .unwrap()
-        .with_compression(compression)
-        .write_image::<colortype::Gray8>(width, height, data)
-        .unwrap();
-    c.into_inner()
-}
-
 fn message(bytes: &[u8], raw: Option<RawGeometry>) -> String {
     match decode(bytes, raw) {
         Ok(f) => panic!("decoded a malformed file as {} × {}", f.width(), f.height()),
         Err(e) => e.to_string(),
     }
-}
-
-/// CRC-32 (ISO-HDLC, as PNG uses), bit by bit: for re-signing an edited PNG chunk.
-fn crc32(bytes: &[u8]) -> u32 {
-    let mut c = !0u32;
-    for b in bytes {
-        c ^= u32::from(*b);
-        for _ in 0..8 {
-            c = if c & 1 == 1 {
-                (c >> 1) ^ 0xEDB8_8320
-            } else {
-                c >> 1
-            };
-        }
-    }
-    !c
 }
 
 /// A PNG whose IHDR announces `width` × `height` (CRC fixed so only the size is wrong).
@@ -107,19 +56,11 @@ fn png_with_size(mut bytes: Vec<u8>, width: u32, height: u32) -> Vec<u8> {
 fn png_round_trips_8_and_16_bit() {
     let v16 = pattern(u16::MAX);
     let be: Vec<u8> = v16.iter().flat_map(|v| v.to_be_bytes()).collect();
-    let f = decode(
-        &png_bytes(5, 3, png::BitDepth::Sixteen, png::ColorType::Grayscale, &be),
-        None,
-    )
-    .unwrap();
+    let f = decode(&png(5, 3, 16, 0, &be, None), None).unwrap();
     assert_eq!((f.width(), f.height(), f.sample_bits()), (5, 3, 16));
     assert_eq!(f.pixels(), &v16[..]);
     let v8: Vec<u8> = (0..15).map(|i| (i * 17) as u8).collect();
-    let f = decode(
-        &png_bytes(5, 3, png::BitDepth::Eight, png::ColorType::Grayscale, &v8),
-        None,
-    )
-    .unwrap();
+    let f = decode(&png(5, 3, 8, 0, &v8, None), None).unwrap();
     assert_eq!(
         f.pixels(),
         &v8.iter().map(|v| u16::from(*v)).collect::<Vec<_>>()[..]
@@ -133,7 +74,7 @@ fn tiff_round_trips_every_compression() {
     for c in [
         Compression::Uncompressed,
         Compression::Lzw,
-        Compression::Deflate(DeflateLevel::default()),
+        Compression::Deflate,
         Compression::Packbits,
     ] {
         let f = decode(&tiff16(5, 3, &v16, c), None).unwrap();
@@ -248,7 +189,7 @@ fn malformed_raw() {
 #[test]
 fn malformed_png() {
     let v8 = vec![7u8; 15];
-    let good = png_bytes(5, 3, png::BitDepth::Eight, png::ColorType::Grayscale, &v8);
+    let good = png(5, 3, 8, 0, &v8, None);
     // Truncated anywhere after the signature and before the image data ends: an error, never a
     // panic. The last 12 bytes are the empty IEND chunk; without it the image is still whole,
     // and then it must decode to the same pixels.
@@ -292,23 +233,11 @@ fn malformed_png() {
         "{m}"
     );
     // Colour, alpha, palette and low bit depths.
-    let rgb = png_bytes(5, 3, png::BitDepth::Eight, png::ColorType::Rgb, &[0; 45]);
+    let rgb = png(5, 3, 8, 2, &[0; 45], None);
     assert!(message(&rgb, None).starts_with("png image is rgb"));
-    let ga = png_bytes(
-        5,
-        3,
-        png::BitDepth::Eight,
-        png::ColorType::GrayscaleAlpha,
-        &[0; 30],
-    );
-    assert!(message(&ga, None).starts_with("png image is grayscalealpha"));
-    let g4 = png_bytes(
-        4,
-        2,
-        png::BitDepth::Four,
-        png::ColorType::Grayscale,
-        &[0; 4],
-    );
+    let ga = png(5, 3, 8, 4, &[0; 30], None);
+    assert!(message(&ga, None).starts_with("png image is greyscale with alpha"));
+    let g4 = png(4, 2, 4, 0, &[0; 4], None);
     assert!(message(&g4, None).starts_with("png bit depth 4 is not supported"));
 }
 
@@ -318,7 +247,7 @@ fn malformed_tiff() {
     for c in [
         Compression::Uncompressed,
         Compression::Lzw,
-        Compression::Deflate(DeflateLevel::default()),
+        Compression::Deflate,
         Compression::Packbits,
     ] {
         let good = tiff16(5, 3, &v16, c);
@@ -339,30 +268,21 @@ fn malformed_tiff() {
     assert!(message(&bad, None).starts_with("not a PGM (P5), PNG or TIFF"));
     assert!(decode_as(Format::Tiff, &bad, None).is_err());
     // Colour, 32-bit, float and signed samples.
-    let mut c = Cursor::new(Vec::new());
-    TiffEncoder::new(&mut c)
-        .unwrap()
-        .write_image::<colortype::RGB8>(2, 1, &[0; 6])
-        .unwrap();
-    assert!(message(c.get_ref(), None).starts_with("tiff image is rgb"));
-    let mut c = Cursor::new(Vec::new());
-    TiffEncoder::new(&mut c)
-        .unwrap()
-        .write_image::<colortype::Gray32>(2, 1, &[0; 2])
-        .unwrap();
-    assert!(message(c.get_ref(), None).starts_with("tiff bit depth 32 is not supported"));
-    let mut c = Cursor::new(Vec::new());
-    TiffEncoder::new(&mut c)
-        .unwrap()
-        .write_image::<colortype::Gray32Float>(2, 1, &[0.0; 2])
-        .unwrap();
-    assert!(message(c.get_ref(), None).starts_with("tiff"));
-    let mut c = Cursor::new(Vec::new());
-    TiffEncoder::new(&mut c)
-        .unwrap()
-        .write_image::<colortype::GrayI16>(2, 1, &[0; 2])
-        .unwrap();
-    assert!(message(c.get_ref(), None).starts_with("tiff image is sample format 2"));
+    let image = |bits, samples, photometric, sample_format| TiffImage {
+        width: 2,
+        height: 1,
+        bits,
+        samples,
+        photometric,
+        sample_format,
+    };
+    let none = Compression::Uncompressed;
+    assert!(message(&tiff(image(8, 3, 2, 1), &[0; 6], none), None).starts_with("tiff image is rgb"));
+    assert!(message(&tiff(image(32, 1, 1, 1), &[0; 8], none), None)
+        .starts_with("tiff bit depth 32 is not supported"));
+    assert!(message(&tiff(image(32, 1, 1, 3), &[0; 8], none), None).starts_with("tiff"));
+    assert!(message(&tiff(image(16, 1, 1, 2), &[0; 4], none), None)
+        .starts_with("tiff image is sample format 2"));
 }
 
 #[test]
@@ -403,10 +323,10 @@ fn valid_files() -> Vec<Vec<u8>> {
     pgm.extend(&be);
     vec![
         pgm,
-        png_bytes(5, 3, png::BitDepth::Sixteen, png::ColorType::Grayscale, &be),
+        png(5, 3, 16, 0, &be, None),
         tiff16(5, 3, &v16, Compression::Uncompressed),
         tiff16(5, 3, &v16, Compression::Lzw),
-        tiff16(5, 3, &v16, Compression::Deflate(DeflateLevel::default())),
+        tiff16(5, 3, &v16, Compression::Deflate),
         tiff16(5, 3, &v16, Compression::Packbits),
     ]
 }

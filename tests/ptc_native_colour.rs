@@ -4,9 +4,10 @@
 //! column offsets of known size, and hot, dead and noisy pixels.
 //!
 //! Frames are drawn from the Poisson–Gaussian pixel model (REFERENCES.md §8; EMVA 1288 linear
-//! model §4 items 2–3) with the test's own invented truth, encoded as files and measured through
-//! `ptc::parse_manifest` and `ptc::measure`, as the command does. Each tolerance is a named
-//! constant whose size comes from the sampling statistics of these frames.
+//! model §4 items 2–3) with the test's own invented truth, encoded as files (PNG and TIFF by
+//! tests/support/frame_files.rs) and measured through `ptc::parse_manifest` and
+//! `ptc::measure`, as the command does. Each tolerance is a named constant whose size comes
+//! from the sampling statistics of these frames.
 
 #![allow(
     clippy::unwrap_used,
@@ -15,8 +16,10 @@
     clippy::indexing_slicing
 )] // test code: a failure should panic
 
+#[path = "support/frame_files.rs"]
+mod frame_files;
+
 use std::collections::HashMap;
-use std::io::Cursor;
 
 use engine::ptc::{self, Characterization, DepthSource};
 use rand::rngs::StdRng;
@@ -186,52 +189,17 @@ fn pgm(v: &[u16]) -> Vec<u8> {
     b
 }
 
-/// CRC-32 of PNG chunks (ISO 3309 polynomial 0xEDB88320, bit by bit; PNG 1.2 §3.4).
-fn crc32(bytes: &[u8]) -> u32 {
-    let mut c = 0xFFFF_FFFFu32;
-    for &b in bytes {
-        c ^= u32::from(b);
-        for _ in 0..8 {
-            c = if c & 1 != 0 {
-                0xEDB8_8320 ^ (c >> 1)
-            } else {
-                c >> 1
-            };
-        }
-    }
-    !c
-}
-
 fn png16(v: &[u16], sbit: Option<u8>) -> Vec<u8> {
-    let mut out = Vec::new();
-    {
-        let mut e = png::Encoder::new(&mut out, WIDTH as u32, HEIGHT as u32);
-        e.set_depth(png::BitDepth::Sixteen);
-        e.set_color(png::ColorType::Grayscale);
-        let mut w = e.write_header().unwrap();
-        let data: Vec<u8> = v.iter().flat_map(|x| x.to_be_bytes()).collect();
-        w.write_image_data(&data).unwrap();
-    }
-    if let Some(b) = sbit {
-        // The sBIT chunk goes right after IHDR (8-byte signature + 25-byte IHDR chunk).
-        let mut chunk = vec![0, 0, 0, 1];
-        chunk.extend(b"sBIT");
-        chunk.push(b);
-        let crc = crc32(&chunk[4..]);
-        chunk.extend(crc.to_be_bytes());
-        out.splice(33..33, chunk);
-    }
-    out
+    frame_files::png16(WIDTH as u32, HEIGHT as u32, v, sbit)
 }
 
 fn tiff16(v: &[u16]) -> Vec<u8> {
-    use tiff::encoder::{colortype, TiffEncoder};
-    let mut c = Cursor::new(Vec::new());
-    TiffEncoder::new(&mut c)
-        .unwrap()
-        .write_image::<colortype::Gray16>(WIDTH as u32, HEIGHT as u32, v)
-        .unwrap();
-    c.into_inner()
+    frame_files::tiff16(
+        WIDTH as u32,
+        HEIGHT as u32,
+        v,
+        frame_files::Compression::Uncompressed,
+    )
 }
 
 /// A series: `dark` dark frames, then pairs of flats at the given electron levels (16 frames

@@ -5,7 +5,9 @@
 
 mod characterize;
 mod demos;
+mod frame;
 mod human;
+mod png_write;
 mod simulate;
 mod table;
 
@@ -84,6 +86,18 @@ enum Command {
         /// The manifest file (JSON).
         manifest: PathBuf,
     },
+    /// Decode one frame file (PGM, PNG or TIFF) and print its size and depths as JSON.
+    ///
+    /// --raw writes its samples as little-endian 16-bit raw, to compare with another
+    /// program's reading. Exit status: 0 on success, 2 for a file that cannot be decoded, 1
+    /// when a file cannot be read or written.
+    Frame {
+        /// Also write the samples to this file, little-endian 16-bit, row by row.
+        #[arg(long, value_name = "OUT")]
+        raw: Option<PathBuf>,
+        /// The frame file.
+        file: PathBuf,
+    },
     /// Simulate the scenario's camera: a frame of an invented test scene, and a photon transfer
     /// series of its sensor to measure with `characterize`.
     ///
@@ -135,6 +149,7 @@ fn main() -> ExitCode {
             spatial_csv,
             manifest,
         } => characterize::run(&manifest, table, spatial_csv.as_deref()),
+        Command::Frame { raw, file } => frame::run(&file, raw.as_deref()),
         Command::Simulate {
             frame,
             series,

@@ -150,13 +150,16 @@ pub fn run(r: &Request<'_>) -> ExitCode {
             frame.output_full_scale_dn
         );
         let bytes = match c {
-            Container::Png => match png_16(frame, &samples.samples, title, &description) {
-                Ok(b) => b,
-                Err(e) => {
-                    eprintln!("noise-budget: cannot encode {} as PNG: {e}", path.display());
-                    return ExitCode::from(1);
-                }
-            },
+            Container::Png => crate::png_write::grey16(
+                frame.width,
+                frame.height,
+                &samples.samples,
+                &[
+                    ("Title", title),
+                    ("Description", &description),
+                    ("Software", "noise-budget simulate"),
+                ],
+            ),
             Container::Pgm => pgm_16(frame, &samples.samples, samples.scale, r.seed),
         };
         if !samples.exact {
@@ -234,29 +237,6 @@ fn write_series(dir: &Path, plan: &SeriesPlan) -> Result<(), ExitCode> {
     }
     let manifest = dir.join("manifest.json");
     std::fs::write(&manifest, plan.manifest_json()).map_err(|e| fail(&manifest, e))
-}
-
-/// A 16-bit greyscale PNG with the scenario's title and the sample mapping as UTF-8 text.
-fn png_16(
-    frame: &SceneFrame,
-    samples: &[u16],
-    title: &str,
-    description: &str,
-) -> Result<Vec<u8>, png::EncodingError> {
-    let mut out = Vec::new();
-    {
-        let mut enc = png::Encoder::new(&mut out, frame.width, frame.height);
-        enc.set_color(png::ColorType::Grayscale);
-        enc.set_depth(png::BitDepth::Sixteen);
-        enc.add_itxt_chunk("Title".into(), title.into())?;
-        enc.add_itxt_chunk("Description".into(), description.into())?;
-        enc.add_itxt_chunk("Software".into(), "noise-budget simulate".into())?;
-        let mut w = enc.write_header()?;
-        let bytes: Vec<u8> = samples.iter().flat_map(|s| s.to_be_bytes()).collect();
-        w.write_image_data(&bytes)?;
-        w.finish()?;
-    }
-    Ok(out)
 }
 
 /// A binary PGM, maxval 65 535, with the sample mapping in a header comment.

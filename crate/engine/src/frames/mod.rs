@@ -7,6 +7,12 @@
 //! not converted.
 
 mod file;
+#[cfg(any(feature = "png", feature = "tiff"))]
+mod inflate;
+#[cfg(feature = "tiff")]
+mod lzw;
+#[cfg(feature = "tiff")]
+mod packbits;
 mod pgm;
 #[cfg(feature = "png")]
 mod png_frame;
@@ -247,11 +253,12 @@ pub enum FrameError {
         /// Bytes in the file.
         file_bytes: u64,
     },
-    /// The compressed or structured data is corrupt (the decoding library's message).
+    /// The compressed or structured data is corrupt: a checksum fails, a chunk, strip or tag
+    /// runs past the end of the file, a code is invalid.
     Corrupt {
         /// The format being read.
         format: &'static str,
-        /// The decoding library's description.
+        /// What is wrong, lower case (chunk and tag names as the format spells them).
         what: String,
     },
     /// A format this build was made without (its decoder is a cargo feature, left out to keep
@@ -446,14 +453,6 @@ pub(crate) fn xy(i: usize, width: u32) -> (u32, u32) {
     // OK because i < MAX_PIXELS = 2^28, so both quotients fit u32.
     #[allow(clippy::cast_possible_truncation)]
     ((i % w) as u32, (i / w) as u32)
-}
-
-/// Widen big-endian 16-bit samples.
-#[cfg(feature = "png")]
-pub(crate) fn from_be16(bytes: &[u8]) -> Vec<u16> {
-    let mut out = Vec::new();
-    file::widen_into(Samples::Be16(0), bytes, &mut out);
-    out
 }
 
 #[cfg(test)]

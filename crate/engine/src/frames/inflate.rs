@@ -1,0 +1,434 @@
+//! Inflate: the zlib stream format (RFC 1950) around Deflate (RFC 1951), for PNG and TIFF.
+//!
+//! Written small rather than fast, after zlib's "puff": Huffman codes are decoded bit by bit
+//! from counts and symbols arrays (no lookup tables), and output goes into one `Vec` whose
+//! capacity the caller sets from the header, so a stream can never allocate more than that.
+//! It checks the zlib header and the Adler-32 of the output; it does not support a preset
+//! dictionary (PNG and TIFF never use one).
+//!
+//! # Source
+//! RFC 1950 §2.2 (zlib header, FDICT, Adler-32 §8.2 and its worked definition), RFC 1951 §3.2.3
+//! (block header), §3.2.4 (stored blocks), §3.2.5 (length and distance codes), §3.2.6 (fixed
+//! Huffman codes), §3.2.7 (dynamic Huffman codes), §3.2.2 (canonical codes from lengths).
+
+use std::fmt;
+
+/// What is wrong with a zlib stream.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[non_exhaustive]
+pub(crate) enum InflateError {
+    /// The two header bytes are not a zlib header of the Deflate method (RFC 1950 §2.2).
+    Header,
+    /// The header asks for a preset dictionary, which PNG and TIFF never use.
+    Dictionary,
+    /// The data ends before the stream does.
+    Truncated,
+    /// A block type 3, a stored block whose length check fails, a bad code table or code.
+    Corrupt(&'static str),
+    /// The stream holds more bytes than the caller's limit (the output holds the bytes up to
+    /// it).
+    TooLong,
+    /// The Adler-32 at the end does not match the output's.
+    Adler {
+        /// The checksum in the stream.
+        stored: u32,
+        /// The checksum of the decoded bytes.
+        computed: u32,
+    },
+}
+
+impl fmt::Display for InflateError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            InflateError::Header => write!(f, "not a zlib stream of deflate data"),
+            InflateError::Dictionary => write!(f, "zlib stream needs a preset dictionary"),
+            InflateError::Truncated => write!(f, "deflate data ends early (truncated)"),
+            InflateError::Corrupt(what) => write!(f, "deflate data: {what}"),
+            InflateError::TooLong => write!(f, "deflate data holds more bytes than the image"),
+            InflateError::Adler { stored, computed } => write!(
+                f,
+                "zlib adler-32 0x{stored:08x} does not match the data's 0x{computed:08x}"
+            ),
+        }
+    }
+}
+
+/// Bits read least significant first (RFC 1951 §3.1.1), from a byte slice.
+struct Bits<'a> {
+    data: &'a [u8],
+    pos: usize,
+    buf: u64,
+    count: u32,
+}
+
+impl Bits<'_> {
+    /// The next `n` ≤ 32 bits as a number, first bit lowest.
+    fn take(&mut self, n: u32) -> Result<u32, InflateError> {
+        while self.count < n {
+            let b = *self.data.get(self.pos).ok_or(InflateError::Truncated)?;
+            self.pos += 1;
+            self.buf |= u64::from(b) << self.count;
+            self.count += 8;
+        }
+        // OK: n ≤ 32, so the mask keeps at most 32 bits.
+        #[allow(clippy::cast_possible_truncation)]
+        let v = (self.buf & ((1u64 << n) - 1)) as u32;
+        self.buf >>= n;
+        self.count -= n;
+        Ok(v)
+    }
+
+    /// Drop the bits up to the next byte boundary; the position of the next whole byte.
+    fn align(&mut self) -> usize {
+        let whole = (self.count / 8) as usize;
+        self.buf = 0;
+        self.count = 0;
+        self.pos -= whole;
+        self.pos
+    }
+}
+
+/// Longest Huffman code in Deflate (RFC 1951 §3.2.7).
+const MAX_BITS: usize = 15;
+
+/// A canonical Huffman code: how many codes of each length, and the symbols in code order.
+struct Huffman {
+    counts: [u16; MAX_BITS + 1],
+    symbols: [u16; 288],
+}
+
+impl Huffman {
+    /// The code of these lengths (RFC 1951 §3.2.2). `Err` for an over-subscribed code; `Ok`
+    /// with `true` when the code is incomplete (allowed for a single distance code).
+    fn new(lengths: &[u8]) -> Result<(Huffman, bool), InflateError> {
+        let mut h = Huffman {
+            counts: [0; MAX_BITS + 1],
+            symbols: [0; 288],
+        };
+        for l in lengths {
+            if let Some(c) = h.counts.get_mut(usize::from(*l)) {
+                *c += 1;
+            }
+        }
+        let mut left: i32 = 1;
+        for c in h.counts.iter().skip(1) {
+            left = (left << 1) - i32::from(*c);
+            if left < 0 {
+                return Err(InflateError::Corrupt("over-subscribed huffman code"));
+            }
+        }
+        let mut offsets = [0u16; MAX_BITS + 1];
+        for len in 1..MAX_BITS {
+            let next = match (offsets.get(len), h.counts.get(len)) {
+                (Some(o), Some(c)) => o + c,
+                _ => 0,
+            };
+            if let Some(o) = offsets.get_mut(len + 1) {
+                *o = next;
+            }
+        }
+        for (symbol, l) in (0u16..).zip(lengths) {
+            if *l == 0 {
+                continue;
+            }
+            if let Some(o) = offsets.get_mut(usize::from(*l)) {
+                if let Some(s) = h.symbols.get_mut(usize::from(*o)) {
+                    *s = symbol;
+                }
+                *o += 1;
+            }
+        }
+        Ok((h, left > 0))
+    }
+
+    /// Decode one symbol, a bit at a time (puff's `decode`).
+    fn decode(&self, bits: &mut Bits) -> Result<u16, InflateError> {
+        let (mut code, mut first, mut index) = (0i32, 0i32, 0i32);
+        for count in self.counts.iter().skip(1) {
+            code |= bits.take(1)? as i32;
+            let count = i32::from(*count);
+            if code - count < first {
+                return usize::try_from(index + (code - first))
+                    .ok()
+                    .and_then(|i| self.symbols.get(i).copied())
+                    .ok_or(InflateError::Corrupt("bad huffman code"));
+            }
+            index += count;
+            first = (first + count) << 1;
+            code <<= 1;
+        }
+        Err(InflateError::Corrupt("bad huffman code"))
+    }
+}
+
+/// Base lengths and extra bits of length symbols 257..285 (RFC 1951 §3.2.5).
+const LENGTH_BASE: [u16; 29] = [
+    3, 4, 5, 6, 7, 8, 9, 10, 11, 13, 15, 17, 19, 23, 27, 31, 35, 43, 51, 59, 67, 83, 99, 115, 131,
+    163, 195, 227, 258,
+];
+const LENGTH_EXTRA: [u8; 29] = [
+    0, 0, 0, 0, 0, 0, 0, 0, 1, 1, 1, 1, 2, 2, 2, 2, 3, 3, 3, 3, 4, 4, 4, 4, 5, 5, 5, 5, 0,
+];
+/// Base distances and extra bits of distance symbols 0..29 (RFC 1951 §3.2.5).
+const DIST_BASE: [u16; 30] = [
+    1, 2, 3, 4, 5, 7, 9, 13, 17, 25, 33, 49, 65, 97, 129, 193, 257, 385, 513, 769, 1025, 1537,
+    2049, 3073, 4097, 6145, 8193, 12289, 16385, 24577,
+];
+const DIST_EXTRA: [u8; 30] = [
+    0, 0, 0, 0, 1, 1, 2, 2, 3, 3, 4, 4, 5, 5, 6, 6, 7, 7, 8, 8, 9, 9, 10, 10, 11, 11, 12, 12, 13,
+    13,
+];
+
+/// Order of the code length code lengths (RFC 1951 §3.2.7).
+const CODE_LENGTH_ORDER: [usize; 19] = [
+    16, 17, 18, 0, 8, 7, 9, 6, 10, 5, 11, 4, 12, 3, 13, 2, 14, 1, 15,
+];
+
+/// Where the output goes: bytes after `start` belong to this stream, at most `limit` in all.
+struct Out<'a> {
+    out: &'a mut Vec<u8>,
+    start: usize,
+    limit: usize,
+}
+
+impl Out<'_> {
+    fn push(&mut self, b: u8) -> Result<(), InflateError> {
+        if self.out.len() >= self.limit {
+            return Err(InflateError::TooLong);
+        }
+        self.out.push(b);
+        Ok(())
+    }
+
+    /// Copy `len` bytes from `dist` back (RFC 1951 §3.2.3: the copy may overlap its source).
+    fn copy(&mut self, dist: usize, len: usize) -> Result<(), InflateError> {
+        if dist > self.out.len() - self.start {
+            return Err(InflateError::Corrupt("distance too far back"));
+        }
+        // Past the limit, the bytes up to it are written before the error (TIFF keeps them).
+        let room = self.limit.saturating_sub(self.out.len());
+        let mut left = len.min(room);
+        while left > 0 {
+            // Each piece lies wholly in bytes already written: at most `dist` long.
+            let n = left.min(dist);
+            let from = self.out.len() - dist;
+            self.out.extend_from_within(from..from + n);
+            left -= n;
+        }
+        if len > room {
+            return Err(InflateError::TooLong);
+        }
+        Ok(())
+    }
+}
+
+/// One block's symbols with the given codes, until end-of-block (RFC 1951 §3.2.5).
+fn codes(
+    bits: &mut Bits,
+    out: &mut Out,
+    lit: &Huffman,
+    dist: &Huffman,
+) -> Result<(), InflateError> {
+    loop {
+        let symbol = lit.decode(bits)?;
+        if symbol < 256 {
+            // OK: symbol < 256.
+            #[allow(clippy::cast_possible_truncation)]
+            out.push(symbol as u8)?;
+        } else if symbol == 256 {
+            return Ok(());
+        } else {
+            let i = usize::from(symbol - 257);
+            let (base, extra) = LENGTH_BASE
+                .get(i)
+                .zip(LENGTH_EXTRA.get(i))
+                .ok_or(InflateError::Corrupt("bad length symbol"))?;
+            let len = usize::from(*base) + bits.take(u32::from(*extra))? as usize;
+            let d = usize::from(dist.decode(bits)?);
+            let (base, extra) = DIST_BASE
+                .get(d)
+                .zip(DIST_EXTRA.get(d))
+                .ok_or(InflateError::Corrupt("bad distance symbol"))?;
+            let d = usize::from(*base) + bits.take(u32::from(*extra))? as usize;
+            out.copy(d, len)?;
+        }
+    }
+}
+
+/// The fixed codes of RFC 1951 §3.2.6.
+fn fixed() -> Result<(Huffman, Huffman), InflateError> {
+    let mut lengths = [8u8; 288];
+    for (i, l) in lengths.iter_mut().enumerate() {
+        *l = match i {
+            0..=143 => 8,
+            144..=255 => 9,
+            256..=279 => 7,
+            _ => 8,
+        };
+    }
+    Ok((Huffman::new(&lengths)?.0, Huffman::new(&[5; 30])?.0))
+}
+
+/// The codes of a dynamic block's header (RFC 1951 §3.2.7).
+fn dynamic(bits: &mut Bits) -> Result<(Huffman, Huffman), InflateError> {
+    let nlen = bits.take(5)? as usize + 257;
+    let ndist = bits.take(5)? as usize + 1;
+    let ncode = bits.take(4)? as usize + 4;
+    if nlen > 286 || ndist > 30 {
+        return Err(InflateError::Corrupt("too many length or distance codes"));
+    }
+    let mut lengths = [0u8; 320];
+    for i in CODE_LENGTH_ORDER.iter().take(ncode) {
+        // OK: three bits.
+        #[allow(clippy::cast_possible_truncation)]
+        let l = bits.take(3)? as u8;
+        if let Some(slot) = lengths.get_mut(*i) {
+            *slot = l;
+        }
+    }
+    let (lencode, incomplete) = Huffman::new(lengths.get(..19).unwrap_or(&[]))?;
+    if incomplete {
+        return Err(InflateError::Corrupt("incomplete code length code"));
+    }
+    let mut i = 0;
+    while i < nlen + ndist {
+        let symbol = lencode.decode(bits)?;
+        let (value, repeat) = match symbol {
+            // OK: symbol < 16.
+            #[allow(clippy::cast_possible_truncation)]
+            0..=15 => (symbol as u8, 1),
+            16 => {
+                let prev = i
+                    .checked_sub(1)
+                    .and_then(|p| lengths.get(p).copied())
+                    .ok_or(InflateError::Corrupt("repeat with no previous length"))?;
+                (prev, 3 + bits.take(2)? as usize)
+            }
+            17 => (0, 3 + bits.take(3)? as usize),
+            _ => (0, 11 + bits.take(7)? as usize),
+        };
+        if i + repeat > nlen + ndist {
+            return Err(InflateError::Corrupt("code lengths repeat past the end"));
+        }
+        for l in lengths.iter_mut().skip(i).take(repeat) {
+            *l = value;
+        }
+        i += repeat;
+    }
+    let lit_lengths = lengths.get(..nlen).unwrap_or(&[]);
+    if lit_lengths.get(256).copied().unwrap_or(0) == 0 {
+        return Err(InflateError::Corrupt("no end-of-block code"));
+    }
+    let dist_lengths = lengths.get(nlen..nlen + ndist).unwrap_or(&[]);
+    // An incomplete code is allowed only when it has a single code of length 1 (puff's rule:
+    // RFC 1951 allows one distance code; zlib accepts the same for literal/lengths).
+    let single = |l: &[u8]| l.iter().filter(|x| **x != 0).count() == 1;
+    let (lit, inc) = Huffman::new(lit_lengths)?;
+    if inc && !single(lit_lengths) {
+        return Err(InflateError::Corrupt("incomplete literal/length code"));
+    }
+    let (dist, inc) = Huffman::new(dist_lengths)?;
+    if inc && !single(dist_lengths) {
+        return Err(InflateError::Corrupt("incomplete distance code"));
+    }
+    Ok((lit, dist))
+}
+
+/// Inflate raw Deflate data into `out` (appending), at most until `out` holds `limit` bytes;
+/// the number of input bytes the stream took.
+fn deflate(data: &[u8], out: &mut Vec<u8>, limit: usize) -> Result<usize, InflateError> {
+    let mut bits = Bits {
+        data,
+        pos: 0,
+        buf: 0,
+        count: 0,
+    };
+    let start = out.len();
+    let mut out = Out { out, start, limit };
+    loop {
+        let last = bits.take(1)? == 1;
+        match bits.take(2)? {
+            0 => {
+                let at = bits.align();
+                let [l0, l1, n0, n1]: [u8; 4] = data
+                    .get(at..at + 4)
+                    .and_then(|h| h.try_into().ok())
+                    .ok_or(InflateError::Truncated)?;
+                let len = u16::from_le_bytes([l0, l1]);
+                let nlen = u16::from_le_bytes([n0, n1]);
+                if len != !nlen {
+                    return Err(InflateError::Corrupt("stored block length check fails"));
+                }
+                let len = usize::from(len);
+                let block = data
+                    .get(at + 4..at + 4 + len)
+                    .ok_or(InflateError::Truncated)?;
+                let room = out.limit.saturating_sub(out.out.len());
+                out.out
+                    .extend_from_slice(block.get(..room).unwrap_or(block));
+                if len > room {
+                    return Err(InflateError::TooLong);
+                }
+                bits.pos = at + 4 + len;
+            }
+            1 => {
+                let (lit, dist) = fixed()?;
+                codes(&mut bits, &mut out, &lit, &dist)?;
+            }
+            2 => {
+                let (lit, dist) = dynamic(&mut bits)?;
+                codes(&mut bits, &mut out, &lit, &dist)?;
+            }
+            _ => return Err(InflateError::Corrupt("block type 3")),
+        }
+        if last {
+            return Ok(bits.align());
+        }
+    }
+}
+
+/// Adler-32 of `bytes` (RFC 1950 §8.2: two sums modulo 65521; 5552 bytes is the longest run
+/// whose sums cannot overflow 32 bits, from zlib's adler32.c).
+pub(crate) fn adler32(bytes: &[u8]) -> u32 {
+    let (mut a, mut b) = (1u32, 0u32);
+    for chunk in bytes.chunks(5552) {
+        for x in chunk {
+            a += u32::from(*x);
+            b += a;
+        }
+        a %= 65521;
+        b %= 65521;
+    }
+    (b << 16) | a
+}
+
+/// Inflate a zlib stream into `out` (appending), which may then hold at most `limit` bytes,
+/// checking the header and the Adler-32 of what this stream wrote.
+pub(crate) fn zlib(data: &[u8], out: &mut Vec<u8>, limit: usize) -> Result<(), InflateError> {
+    let (cmf, flg) = match data {
+        [c, f, ..] => (*c, *f),
+        _ => return Err(InflateError::Truncated),
+    };
+    if cmf & 0x0f != 8 || cmf >> 4 > 7 || ((u16::from(cmf) << 8) | u16::from(flg)) % 31 != 0 {
+        return Err(InflateError::Header);
+    }
+    if flg & 0x20 != 0 {
+        return Err(InflateError::Dictionary);
+    }
+    let start = out.len();
+    let body = data.get(2..).unwrap_or(&[]);
+    let used = deflate(body, out, limit)?;
+    let stored = body
+        .get(used..used + 4)
+        .and_then(|b| b.try_into().ok())
+        .map(u32::from_be_bytes)
+        .ok_or(InflateError::Truncated)?;
+    let computed = adler32(out.get(start..).unwrap_or(&[]));
+    if stored != computed {
+        return Err(InflateError::Adler { stored, computed });
+    }
+    Ok(())
+}
+
+#[cfg(test)]
+mod tests;
