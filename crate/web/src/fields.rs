@@ -367,20 +367,22 @@ pub fn merge_missing(base: &mut Map<String, Value>, extra: &Map<String, Value>) 
     }
 }
 
-/// The words of a file name from a scenario's title: letters and digits kept (lower case), any
-/// run of other characters as one dash, at most `most` characters; `scenario` when nothing is
-/// left.
+/// The words of a file name from a scenario's title: letters and digits kept (ASCII letters in
+/// lower case, others as written: Unicode's case tables would add about 16 KB to the page's
+/// wasm for a file name), any run of other characters as one dash, at most `most` characters;
+/// `scenario` when nothing is left.
 ///
 /// ```
 /// use noise_budget_web::fields::name_words;
 /// assert_eq!(name_words(Some("Dock, north camera (dusk)"), 60), "dock-north-camera-dusk");
 /// assert_eq!(name_words(Some(" — "), 60), "scenario");
+/// assert_eq!(name_words(Some("Kamera Süd"), 60), "kamera-süd");
 /// assert_eq!(name_words(None, 60), "scenario");
 /// ```
 #[must_use]
 pub fn name_words(title: Option<&str>, most: usize) -> String {
     let mut name = String::new();
-    for c in title.unwrap_or("").chars().flat_map(char::to_lowercase) {
+    for c in title.unwrap_or("").chars().map(|c| c.to_ascii_lowercase()) {
         if c.is_alphanumeric() {
             name.push(c);
         } else if !name.is_empty() && !name.ends_with('-') {
