@@ -18,6 +18,18 @@ import { cli, RELATIVE_TOLERANCE, ROOT } from './helpers.mjs';
 const BUILT = join(ROOT, 'target/wasm32-unknown-unknown/release/noise_budget_web.wasm');
 const [W, H] = [203, 61];
 
+/** The native build of the worker's job (its example `job_native`), built on first use. */
+function jobNative() {
+  const out = execFileSync('cargo', ['build', '--quiet', '--locked', '-p', 'noise-budget-frames-worker', '--example', 'job_native',
+    '--message-format=json'], { cwd: ROOT, encoding: 'utf8', maxBuffer: 64 << 20 });
+  for (const line of out.split('\n')) {
+    if (!line.startsWith('{')) continue;
+    const msg = JSON.parse(line);
+    if (msg.reason === 'compiler-artifact' && msg.executable && msg.target?.name === 'job_native') return msg.executable;
+  }
+  throw new Error('cargo built no job_native executable');
+}
+
 // Invented data: an RGGB sensor (red and blue at 0.6 and 0.45 of green) writing 12-bit samples
 // at the top of 16-bit PGM files; uniform noise with the Poisson–Gaussian variance (only the
 // arithmetic is under test); in the darks every 97th pixel is twenty times as noisy.
@@ -87,6 +99,13 @@ test('the worker\'s wasm gives the native characterize answer, number for number
     const answer = JSON.parse(job.answer());
     assert.ok(answer.result, `the wasm analysis failed: ${JSON.stringify(answer).slice(0, 300)}`);
     sameNumbers(answer.result, want);
+    // And the whole answer, the page's plot series included (histograms, profiles,
+    // spectrograms: the command leaves them out), against the worker's own code run natively
+    // (crate/frames-worker/examples/job_native.rs --answer), so the wasm-only SIMD paths of the
+    // spatial summaries are checked too.
+    const native = JSON.parse(execFileSync(jobNative(), [dir, '--answer'], { encoding: 'utf8', maxBuffer: 64 << 20 }));
+    assert.ok(native.result, `the native job failed: ${JSON.stringify(native).slice(0, 300)}`);
+    sameNumbers(answer, native, 'whole answer');
   } finally {
     rmSync(dir, { recursive: true, force: true });
   }

@@ -5,6 +5,8 @@
 //!
 //! Prints one JSON line; asserts nothing about speed. Usage:
 //! `cargo run --release -p noise-budget-frames-worker --example job_native -- DIR`.
+//! With `--answer` after DIR it prints the job's answer instead (the worker's JSON, plot series
+//! included), which `tests/e2e/worker-wasm.test.mjs` compares with the page's wasm.
 
 use std::time::Instant;
 
@@ -45,6 +47,10 @@ fn main() {
     let t = Instant::now();
     let answer = job.answer();
     let answer_ms = t.elapsed().as_secs_f64() * 1e3;
+    if std::env::args().nth(2).as_deref() == Some("--answer") {
+        println!("{answer}");
+        return;
+    }
     println!(
         "{}",
         serde_json::json!({
