@@ -1,8 +1,11 @@
 //! Inflate: the zlib stream format (RFC 1950) around Deflate (RFC 1951), for PNG and TIFF.
 //!
-//! Written small rather than fast, after zlib's "puff": Huffman codes are decoded bit by bit
-//! from counts and symbols arrays (no lookup tables), and output goes into one `Vec` whose
-//! capacity the caller sets from the header, so a stream can never allocate more than that.
+//! Written small, after zlib's "puff", with puff's one costly step replaced: a Huffman code is
+//! decoded by one look-up in a table indexed by the next `TABLE_BITS` bits (symbol and code
+//! length), and only a code longer than that continues puff's bit-by-bit walk over counts and
+//! symbols arrays. Bits come through a 64-bit buffer refilled 8 bytes at a time. Output goes
+//! into one `Vec` whose capacity the caller sets from the header, so a stream can never
+//! allocate more than that.
 //! It checks the zlib header and the Adler-32 of the output; it does not support a preset
 //! dictionary (PNG and TIFF never use one).
 //!
@@ -53,7 +56,13 @@ impl fmt::Display for InflateError {
     }
 }
 
-/// Bits read least significant first (RFC 1951 §3.1.1), from a byte slice.
+/// Bits read least significant first (RFC 1951 §3.1.1), from a byte slice, through a 64-bit
+/// buffer refilled 8 bytes at a time where 8 remain and byte by byte near the end.
+///
+/// `count` bits of `buf` are the stream's next bits. The bits above them are either zero or,
+/// after an 8-byte refill, the low bits of the bytes at `pos` (the same bits the next refill
+/// ORs in again), so a peek past `count` never sees invented data that `count` allows.
+#[derive(Clone, Copy)]
 struct Bits<'a> {
     data: &'a [u8],
     pos: usize,
@@ -62,19 +71,53 @@ struct Bits<'a> {
 }
 
 impl Bits<'_> {
+    /// Fill the buffer to at least 56 bits, or with every byte left.
+    #[inline(always)]
+    fn refill(&mut self) {
+        if self.count > 56 {
+            return;
+        }
+        if let Some(eight) = self
+            .data
+            .get(self.pos..self.pos + 8)
+            .and_then(|b| <[u8; 8]>::try_from(b).ok())
+        {
+            self.buf |= u64::from_le_bytes(eight) << self.count;
+            // Whole bytes that fit above `count` (count ≤ 56, so 1 to 7 of them).
+            self.pos += ((63 - self.count) / 8) as usize;
+            self.count |= 56;
+        } else {
+            while self.count <= 56 {
+                let Some(b) = self.data.get(self.pos) else {
+                    return;
+                };
+                self.buf |= u64::from(*b) << self.count;
+                self.pos += 1;
+                self.count += 8;
+            }
+        }
+    }
+
+    /// Drop the next `n` ≤ `count` bits.
+    #[inline(always)]
+    fn drop_bits(&mut self, n: u32) {
+        self.buf >>= n;
+        self.count -= n;
+    }
+
     /// The next `n` ≤ 32 bits as a number, first bit lowest.
+    #[inline(always)]
     fn take(&mut self, n: u32) -> Result<u32, InflateError> {
-        while self.count < n {
-            let b = *self.data.get(self.pos).ok_or(InflateError::Truncated)?;
-            self.pos += 1;
-            self.buf |= u64::from(b) << self.count;
-            self.count += 8;
+        if self.count < n {
+            self.refill();
+            if self.count < n {
+                return Err(InflateError::Truncated);
+            }
         }
         // OK: n ≤ 32, so the mask keeps at most 32 bits.
         #[allow(clippy::cast_possible_truncation)]
         let v = (self.buf & ((1u64 << n) - 1)) as u32;
-        self.buf >>= n;
-        self.count -= n;
+        self.drop_bits(n);
         Ok(v)
     }
 
@@ -91,10 +134,20 @@ impl Bits<'_> {
 /// Longest Huffman code in Deflate (RFC 1951 §3.2.7).
 const MAX_BITS: usize = 15;
 
-/// A canonical Huffman code: how many codes of each length, and the symbols in code order.
+/// Bits of the primary lookup table: codes up to this long are decoded in one step.
+const TABLE_BITS: u32 = 10;
+
+/// A canonical Huffman code: how many codes of each length and the symbols in code order (for
+/// codes longer than `TABLE_BITS`, decoded as puff does), and a table indexed by the next
+/// `TABLE_BITS` bits whose entry is `symbol << 4 | length`, 0 where the code is longer (or
+/// absent).
 struct Huffman {
     counts: [u16; MAX_BITS + 1],
     symbols: [u16; 288],
+    table: [u16; 1 << TABLE_BITS],
+    /// The walk's `first` and `index` after the first `TABLE_BITS` bits matched no code.
+    first_at: i32,
+    index_at: i32,
 }
 
 impl Huffman {
@@ -104,6 +157,9 @@ impl Huffman {
         let mut h = Huffman {
             counts: [0; MAX_BITS + 1],
             symbols: [0; 288],
+            table: [0; 1 << TABLE_BITS],
+            first_at: 0,
+            index_at: 0,
         };
         for l in lengths {
             if let Some(c) = h.counts.get_mut(usize::from(*l)) {
@@ -117,45 +173,99 @@ impl Huffman {
                 return Err(InflateError::Corrupt("over-subscribed huffman code"));
             }
         }
+        // offsets[len]: index in `symbols` of the first code of that length; next[len]: the
+        // first code of that length (RFC 1951 §3.2.2 step 2).
         let mut offsets = [0u16; MAX_BITS + 1];
-        for len in 1..MAX_BITS {
-            let next = match (offsets.get(len), h.counts.get(len)) {
-                (Some(o), Some(c)) => o + c,
-                _ => 0,
-            };
-            if let Some(o) = offsets.get_mut(len + 1) {
-                *o = next;
+        let mut next = [0u16; MAX_BITS + 1];
+        let (mut offset, mut code) = (0u16, 0u16);
+        for len in 1..=MAX_BITS {
+            let c = h.counts.get(len).copied().unwrap_or(0);
+            if let (Some(o), Some(n)) = (offsets.get_mut(len), next.get_mut(len)) {
+                *o = offset;
+                *n = code;
+            }
+            offset += c;
+            code = (code + c) << 1;
+            if len == TABLE_BITS as usize {
+                h.index_at = i32::from(offset);
+                h.first_at = i32::from(code);
             }
         }
         for (symbol, l) in (0u16..).zip(lengths) {
-            if *l == 0 {
+            let len = usize::from(*l);
+            let (Some(o), Some(n)) = (offsets.get_mut(len), next.get_mut(len)) else {
+                continue;
+            };
+            if len == 0 {
                 continue;
             }
-            if let Some(o) = offsets.get_mut(usize::from(*l)) {
-                if let Some(s) = h.symbols.get_mut(usize::from(*o)) {
-                    *s = symbol;
+            if let Some(s) = h.symbols.get_mut(usize::from(*o)) {
+                *s = symbol;
+            }
+            *o += 1;
+            // Codes are sent most significant bit first (§3.1.1): the table is indexed by the
+            // code reversed, with every value of the bits above it.
+            let reversed = usize::from(n.reverse_bits() >> (16 - len));
+            *n += 1;
+            if len <= TABLE_BITS as usize {
+                let entry = (symbol << 4) | u16::from(*l);
+                for e in h.table.iter_mut().skip(reversed).step_by(1 << len) {
+                    *e = entry;
                 }
-                *o += 1;
             }
         }
         Ok((h, left > 0))
     }
 
-    /// Decode one symbol, a bit at a time (puff's `decode`).
+    /// Decode one symbol: one table look-up, or for a code longer than the table's bits (or
+    /// a missing one) the rest of puff's bit-by-bit walk.
+    #[inline(always)]
     fn decode(&self, bits: &mut Bits) -> Result<u16, InflateError> {
-        let (mut code, mut first, mut index) = (0i32, 0i32, 0i32);
-        for count in self.counts.iter().skip(1) {
-            code |= bits.take(1)? as i32;
-            let count = i32::from(*count);
-            if code - count < first {
+        bits.refill();
+        let index = (bits.buf & ((1 << TABLE_BITS) - 1)) as usize;
+        let entry = self.table.get(index).copied().unwrap_or(0);
+        let len = u32::from(entry & 15);
+        if len != 0 && len <= bits.count {
+            bits.drop_bits(len);
+            return Ok(entry >> 4);
+        }
+        let (symbol, len) = self.decode_slow(bits.buf, bits.count)?;
+        bits.drop_bits(len);
+        Ok(symbol)
+    }
+
+    /// Puff's `decode` on the buffered bits `buf` (`count` of them): the symbol and its code's
+    /// length. With `TABLE_BITS` bits at hand that matched no code, the walk resumes after them
+    /// from `first_at` and `index_at` (the state the walk over them would reach).
+    #[inline(never)]
+    fn decode_slow(&self, buf: u64, count: u32) -> Result<(u16, u32), InflateError> {
+        let (mut code, mut first, mut index, mut len) = if count >= TABLE_BITS {
+            // The first TABLE_BITS bits as a code, most significant bit first (§3.1.1).
+            // OK: masked to TABLE_BITS ≤ 16 bits.
+            #[allow(clippy::cast_possible_truncation)]
+            let low = (buf & ((1 << TABLE_BITS) - 1)) as u16;
+            let code = i32::from(low.reverse_bits() >> (16 - TABLE_BITS));
+            (code << 1, self.first_at, self.index_at, TABLE_BITS + 1)
+        } else {
+            (0, 0, 0, 1)
+        };
+        while let Some(count_at) = self.counts.get(len as usize) {
+            if len > count {
+                return Err(InflateError::Truncated);
+            }
+            code |= ((buf >> (len - 1)) & 1) as i32;
+            let n = i32::from(*count_at);
+            if code - n < first {
                 return usize::try_from(index + (code - first))
                     .ok()
                     .and_then(|i| self.symbols.get(i).copied())
+                    .map(|s| (s, len))
                     .ok_or(InflateError::Corrupt("bad huffman code"));
             }
-            index += count;
-            first = (first + count) << 1;
+            index += n;
+            first = (first + n) << 1;
             code <<= 1;
+            len += 1;
         }
         Err(InflateError::Corrupt("bad huffman code"))
     }
@@ -192,6 +302,7 @@ struct Out<'a> {
 }
 
 impl Out<'_> {
+    #[inline(always)]
     fn push(&mut self, b: u8) -> Result<(), InflateError> {
         if self.out.len() >= self.limit {
             return Err(InflateError::TooLong);
@@ -201,19 +312,26 @@ impl Out<'_> {
     }
 
     /// Copy `len` bytes from `dist` back (RFC 1951 §3.2.3: the copy may overlap its source).
+    #[inline(always)]
     fn copy(&mut self, dist: usize, len: usize) -> Result<(), InflateError> {
-        if dist > self.out.len() - self.start {
+        let end = self.out.len();
+        if dist > end - self.start {
             return Err(InflateError::Corrupt("distance too far back"));
         }
         // Past the limit, the bytes up to it are written before the error (TIFF keeps them).
-        let room = self.limit.saturating_sub(self.out.len());
-        let mut left = len.min(room);
-        while left > 0 {
-            // Each piece lies wholly in bytes already written: at most `dist` long.
-            let n = left.min(dist);
-            let from = self.out.len() - dist;
+        let room = self.limit.saturating_sub(end);
+        let n = len.min(room);
+        let from = end - dist;
+        if dist >= n {
+            // The source lies wholly in bytes already written.
             self.out.extend_from_within(from..from + n);
-            left -= n;
+        } else {
+            // An overlapping run (distance 1 repeats a byte): each byte is one written `dist`
+            // before it, byte by byte.
+            for i in from..from + n {
+                let b = self.out.get(i).copied().unwrap_or(0);
+                self.out.push(b);
+            }
         }
         if len > room {
             return Err(InflateError::TooLong);
@@ -224,6 +342,21 @@ impl Out<'_> {
 
 /// One block's symbols with the given codes, until end-of-block (RFC 1951 §3.2.5).
 fn codes(
+    bits_io: &mut Bits,
+    out: &mut Out,
+    lit: &Huffman,
+    dist: &Huffman,
+) -> Result<(), InflateError> {
+    // A local copy, which the compiler keeps in registers; written back on every exit.
+    let mut local = *bits_io;
+    let r = codes_in(&mut local, out, lit, dist);
+    *bits_io = local;
+    r
+}
+
+/// The loop of [`codes`].
+#[inline(always)]
+fn codes_in(
     bits: &mut Bits,
     out: &mut Out,
     lit: &Huffman,

@@ -105,3 +105,92 @@ fn damaged_streams_are_refused() {
     let r = zlib(&hex("78da4b4c4a4ec48d00b20c0b7d"), &mut out, 7);
     assert_eq!((r, &out[..]), (Err(InflateError::TooLong), &b"abcabca"[..]));
 }
+
+/// The bytes of `skew(n)` (the Python below): an LCG's 16 high bits' trailing zeros, times 7, so
+/// byte 7k has probability 2^-(k+1) and its Huffman code is about k + 1 bits long.
+fn skew(n: usize) -> Vec<u8> {
+    let mut x: u64 = 1;
+    (0..n)
+        .map(|_| {
+            x = (x * 1_103_515_245 + 12_345) % (1 << 31);
+            let t = (x >> 15) | 0x1_0000;
+            (t.trailing_zeros() * 7) as u8
+        })
+        .collect()
+}
+
+/// Source: Python 3's zlib (zlib 1.3): `c = zlib.compressobj(9, zlib.DEFLATED, 15, 9,
+/// zlib.Z_HUFFMAN_ONLY)`, `c.compress(skew(3000)) + c.flush()` (literals only), with `skew`:
+/// ```text
+/// def skew(n):
+///     x, out = 1, bytearray()
+///     for _ in range(n):
+///         x = (x * 1103515245 + 12345) % 2**31
+///         t = (x >> 15) | 0x10000
+///         out.append(((t & -t).bit_length() - 1) * 7)
+///     return bytes(out)
+/// ```
+/// One dynamic block whose literal/length code has codes longer than `TABLE_BITS` (checked
+/// here from its header), so the decode reaches the slow path; Python's
+/// `zlib.adler32(skew(3000))` is 1948274607.
+#[test]
+fn codes_longer_than_the_table() {
+    let z = hex(concat!(
+        "780105c111a26ddb9645c1b066dd864d5bb6edd8b567dfb2fed5c98841901318527b674a3945e0da54d5d62b",
+        "3376309f402ea399595bd2786c35148fa74bf4a112aa1a9b1bf1aef603c8afe085ae4f630c1a04f867d17d80",
+        "ab0c310433f70c48f3131a35f7852b329678d525d5795a2b0cdfb8e68ca638f6f0ab6ddba39842c830552820",
+        "184a97ddbc01a3438ede7a47d93c8e0fe43c7c229bc2b2563600fbdfd6513cba99b490d4c864d8ae13bff271",
+        "1a1c3b95442a40f5cbd9980ceeaf88c649fc1cb8c2434a6f0ded6e491ed90f15b98cd5e793a38a9438bb0271",
+        "2f45f784ae9c5c7b995cbe67d01c9a41001ffde33caa33be97bcffd82d6b893d4e1f0568e9daf70d6304fb50",
+        "6311f326acc90a550719b9ac599f45c624011758b1953dca0a074e07fc1f0f7ffadc143d5c064a0afa5ac0d5",
+        "ddce012a0b7e820e241122d3b04efe79d6790b538237972a90bb6bc1a55ebb565980d9879db679a672c28c4a",
+        "505e99550321652b11ae03e1f827c2125bc8511ffd7615d904468c40dd4896293f69d18b5e80ddecf784fdf8",
+        "39553761e6924fa38a507f5c20cdb47c3b3fdc55f3635014c26533529dce3b980fe21d1d49928469b8b57944",
+        "f4892c762ba926b9dd2045f94e97347048f087105bb6fb2607c13827fc7bd9b33471c252fc60f7a41177f817",
+        "2baf0209d323eeac03d90de298492808f1750409d6051fb16f6573e589d069d2927665996076f9e18581572e",
+        "79aff7c787bbae175c5a25bfe65ccc74070d9bbf760b3eb85a99c1b473e6a93eea5aa33598bef791b0b4c630",
+        "f46e0f7ce0d1a7dbb02e73b8d360f88ee7122d5261bbc29879b86ab113cefce3a5df5d69cac15a1260853343",
+        "926d2e14048df1b420c56fb4e9e0c25d3463a5a0563aabb65ffdb08da1defbc98f3b51cb823c7a9f22554850",
+        "060dfcb13ba8fe136a7532c29ab38dd001138e5dfb1306e275791718b2121020768ba212dadf015360d359f9",
+        "bb6dd32ab3a8985eabf39096e5b42880803a6c2827b8c18b5d81ff263909c78c6d1f8b6fdbfac449ba13a69a",
+        "9c88a80ee50a7197d00ae94cb8c160e018c692fe1f74204faf"
+    ));
+    assert_eq!((z[2] >> 1) & 3, 2, "the first block is dynamic");
+    let mut bits = Bits {
+        data: &z[2..],
+        pos: 0,
+        buf: 0,
+        count: 0,
+    };
+    bits.take(3).unwrap();
+    let (lit, _) = dynamic(&mut bits).unwrap();
+    let long: u16 = lit.counts[TABLE_BITS as usize + 1..].iter().sum();
+    assert!(
+        long > 0,
+        "some literal/length codes are longer than the table's bits"
+    );
+    let want = skew(3000);
+    assert_eq!(adler32(&want), 1_948_274_607);
+    assert_eq!(inflate(&z).unwrap(), want);
+    // Every truncation is an error (some inside a long code), never a panic.
+    for cut in 0..z.len() {
+        assert!(inflate(&z[..cut]).is_err(), "cut {cut}");
+    }
+}
+
+/// Source: Python 3's `zlib.compress(b"a" * 300 + b"abc" * 100, 9)` (zlib 1.3): matches at
+/// distance 1 (a run of one byte) and at distance 3 with length 258 (a source that overlaps
+/// what it writes, RFC 1951 §3.2.3's example of distance < length).
+#[test]
+fn overlapping_matches() {
+    let z = hex("78da4b4c1c054483a4e451442402009e5fe485");
+    let mut want = vec![b'a'; 300];
+    for _ in 0..100 {
+        want.extend_from_slice(b"abc");
+    }
+    assert_eq!(inflate(&z).unwrap(), want);
+    // Stopped by the limit inside an overlapping run: the bytes up to it are kept.
+    let mut out = Vec::new();
+    assert_eq!(zlib(&z, &mut out, 100), Err(InflateError::TooLong));
+    assert_eq!(out, vec![b'a'; 100]);
+}
