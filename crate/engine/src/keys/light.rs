@@ -197,7 +197,14 @@ pub const WAVELENGTH_NM: Key = light(
         presence: Presence::RequiredSaying(
             "required, missing: give wavelength_nm for monochromatic light, or a spectrum",
         ),
-        range: Range::new().above(0.0).at_most_limit(1e6),
+        // The lower limit keeps one photon's energy hc/λ, and so the figures in W/m², finite:
+        // at 2e-308 nm min_detectable.light_units overflowed to infinity (found by the
+        // property test `mutated_scenarios_never_panic_and_name_keys`). 1 pm is far below any
+        // light a silicon sensor's QE model describes (common practice, no source).
+        range: Range::new()
+            .above(0.0)
+            .at_least_limit(1e-3)
+            .at_most_limit(1e6),
     },
     &["irradiance_w_per_m2"],
 )

@@ -73,6 +73,13 @@ fn rules_name_the_key_and_the_value() {
         |v| v["exposure"]["time_s"] = json!(1e7),
         &["exposure.time_s: must be at most 1e6 (this calculator's limit), got 1e7"],
     );
+    // A wavelength of 2e-308 nm passed the format's rule (λ > 0) and made the minimum
+    // detectable irradiance infinite (a case the property test found); the calculator's lower
+    // limit refuses it.
+    check(
+        |v| v["light"] = json!({"irradiance_w_per_m2": 0.0, "wavelength_nm": 2e-308}),
+        &["light.wavelength_nm: must be at least 0.001 (this calculator's limit), got 2e-308"],
+    );
 }
 
 #[test]
