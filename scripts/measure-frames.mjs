@@ -39,12 +39,12 @@ try {
   await page.goto(`${server.origin}/`);
   await page.waitForSelector('html[data-ready]', { timeout: 15000 });
   wasmMs = await page.evaluate((bench) => new Promise((resolvePromise, reject) => {
-    // The frame worker as the page starts it: its app script as a module worker, given the
+    // The frame worker as the page starts it: its app script as a classic worker, given the
     // page's compiled engine (crate/web/src/frames_ui/run.rs).
     const app = document.getElementById('noise-budget-app');
     if (!app?.hasAttribute('data-frames')) { reject(new Error('no frame worker in the page')); return; }
     const url = app.getAttribute('src') || URL.createObjectURL(new Blob([app.textContent], { type: 'text/javascript' }));
-    const worker = new Worker(url, { type: 'module' });
+    const worker = new Worker(url);
     worker.postMessage({ engine: window.wasmBindings.module });
     worker.onmessage = (e) => {
       worker.terminate();

@@ -7,7 +7,7 @@
 //   dist/index.html        the served page: CSP meta, style and app script from its own origin;
 //   dist/noise-budget.html one file with the style and the script inline, allowed by hash,
 //                          which works opened from file:// with no server and no network.
-// The app script also starts the frame worker: run as a module worker (given the page's own
+// The app script also starts the frame worker: run as a (classic) worker (given the page's own
 // WebAssembly.Module, see crate/web/src/frames_ui/run.rs) it skips the page's start-up and runs
 // crate/frames-worker/boot.js, so the page and the worker run one compiled engine.
 // Sizes go to dist/sizes.json (a measurement; nothing checks them here).
@@ -50,11 +50,17 @@ let html = readFileSync(join(dist, 'index.html'), 'utf8');
 
 // The glue as a plain module body: no exports (an inline module cannot be imported anyway).
 function moduleBody(path) {
-  const glue = readFileSync(path, 'utf8')
+  let glue = readFileSync(path, 'utf8')
     .replace(/^export (function|class|const|let|async function) /gm, '$1 ')
     .replace(/^export \{[^}]*\};?[ \t]*$/gm, '')
     .replace(/^export default [^;\n]+;?[ \t]*$/gm, '');
   if (/^\s*export\b/m.test(glue)) fail(`an export the script does not handle is left in ${path}`);
+  // The same text also runs as the frame worker's classic script (a module worker from a
+  // Blob URL fails in a page opened from file://: its opaque origin makes the Blob URL
+  // cross-origin for a module fetch, seen in Chromium), where `import.meta` does not parse. The
+  // glue uses it only for the wasm's default URL, which initSync never reads.
+  glue = glue.replace(/\bimport\.meta\.url\b/g, 'self.location.href');
+  if (/\bimport\.meta\b/.test(glue)) fail(`${path} uses import.meta otherwise than for its URL`);
   if (!/\bfunction initSync\b/.test(glue)) fail(`${path} has no initSync`);
   return glue;
 }
@@ -71,7 +77,7 @@ async function appScript(gluePath, wasm, frames) {
   }
   const wasmDeflated = Buffer.from(await deflateAsync(wasm, { numiterations: 15 }));
   const worker = frames ? `
-// ---- the frame worker (crate/frames-worker/boot.js): this script run as a module worker ----
+// ---- the frame worker (crate/frames-worker/boot.js): this script run as a worker ----
 if (typeof document === 'undefined') {
 const wasm_bindgen = { initSync, ${WORKER_EXPORTS.join(', ')} };
 ${boot}

@@ -1,6 +1,6 @@
 // ---- noise-budget frame worker start-up (crate/frames-worker/boot.js) ----
 // scripts/single-file.mjs puts this in the page's app script, after the wasm-bindgen glue, in a
-// block that runs only where there is no document: the page starts the same script as a module
+// block that runs only where there is no document: the page starts the same script as a classic
 // worker (from its file, or from a Blob URL of its text in the self-contained file), so nothing
 // is fetched, and posts it the page's own compiled WebAssembly.Module first. `wasm_bindgen` is
 // the glue's exports. This script only starts the engine, reads the files (the next ones while

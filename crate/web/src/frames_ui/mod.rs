@@ -8,7 +8,7 @@
 //! objects to the worker, which reads the files (four ahead of its analysis), applies the
 //! engine's manifest rules, statistics and fits, and answers with JSON. Nothing here decodes
 //! a frame, checks a rule or computes a statistic. The worker is the page's own app script
-//! run as a module worker and given the page's compiled engine (`run::new_worker`), started
+//! run as a worker and given the page's compiled engine (`run::new_worker`), started
 //! only when an analysis starts; Cancel terminates it. Nothing here sends a frame anywhere, and nothing may panic on
 //! a file or on what a user types.
 //!
@@ -38,7 +38,7 @@ use table::{add_files, add_frame_file, apply_manifest, clear_files};
 
 /// The id of the app script's element (written by `scripts/single-file.mjs`, not in
 /// `www/index.html`, so it is looked up without `dom::by_id`). The frame worker is that same
-/// script, run as a module worker; its `data-frames` attribute says that the script (and the
+/// script, run as a worker; its `data-frames` attribute says that the script (and the
 /// module it carries) holds the frame worker's exports.
 pub(crate) const APP_SCRIPT_ID: &str = "noise-budget-app";
 

@@ -1,13 +1,11 @@
-//! Running the analysis: the frame worker (the page's own app script as a module worker,
+//! Running the analysis: the frame worker (the page's own app script run as a worker,
 //! given the page's compiled engine), the files and the manifest posted to it, its progress and
 //! answer, Cancel.
 
 use serde_json::Value;
 use wasm_bindgen::closure::Closure;
 use wasm_bindgen::{JsCast, JsValue};
-use web_sys::{
-    Blob, BlobPropertyBag, ErrorEvent, MessageEvent, Url, Worker, WorkerOptions, WorkerType,
-};
+use web_sys::{Blob, BlobPropertyBag, ErrorEvent, MessageEvent, Url, Worker};
 
 use super::manifest::manifest;
 use super::results::show_result;
@@ -38,7 +36,7 @@ fn set_running(running: bool, total: u32) {
     }
 }
 
-/// Start the frame worker: the page's app script as a module worker, from its file (the
+/// Start the frame worker: the page's app script as a worker, from its file (the
 /// served page) or from a Blob URL of its text (the self-contained file), and give it the
 /// page's compiled engine (`wasm_bindgen::module()`), which it instantiates instead of a wasm of
 /// its own. The second value is the Blob URL to revoke (empty for a file).
@@ -53,13 +51,8 @@ pub(crate) fn new_worker() -> Result<(Worker, String), String> {
             js_text(e)
         )
     };
-    let options = WorkerOptions::new();
-    options.set_type(WorkerType::Module);
     let (worker, url) = match app.get_attribute("src").filter(|s| !s.is_empty()) {
-        Some(src) => (
-            Worker::new_with_options(&src, &options).map_err(|e| refused(&e))?,
-            String::new(),
-        ),
+        Some(src) => (Worker::new(&src).map_err(|e| refused(&e))?, String::new()),
         None => {
             let script = app
                 .text_content()
@@ -72,7 +65,9 @@ pub(crate) fn new_worker() -> Result<(Worker, String), String> {
                 .map_err(|_| "the browser could not hold the frame analysis script")?;
             let url = Url::create_object_url_with_blob(&blob)
                 .map_err(|_| "the browser could not hold the frame analysis script")?;
-            match Worker::new_with_options(&url, &options) {
+            // A classic worker, not a module one: from a page opened from file:// a module
+            // worker cannot load a Blob URL (its opaque origin makes the URL cross-origin).
+            match Worker::new(&url) {
                 Ok(w) => (w, url),
                 Err(e) => {
                     let _ = Url::revoke_object_url(&url);
