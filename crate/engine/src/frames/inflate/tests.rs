@@ -25,6 +25,12 @@ fn adler32_worked_example() {
     assert_eq!(adler32(b""), 1);
     // Python: zlib.adler32(bytes([255]) * 100000) == 0x149a302c (past the 5552-byte runs).
     assert_eq!(adler32(&[255; 100_000]), 0x149a_302c);
+    // Python: zlib.adler32(bytes([255]) * 5553) == 0x8e299c8b (one byte past a whole run).
+    assert_eq!(adler32(&[255; 5553]), 0x8e29_9c8b);
+    // Python: zlib.adler32(bytes(i * 7 % 251 for i in range(100003))) == 0x9537c6bf (16-byte
+    // steps and a tail).
+    let ramp: Vec<u8> = (0..100_003u32).map(|i| (i * 7 % 251) as u8).collect();
+    assert_eq!(adler32(&ramp), 0x9537_c6bf);
 }
 
 /// Source: Python `zlib.compress(b"a")` = 78 9c 4b 04 00 00 62 00 62: one final
