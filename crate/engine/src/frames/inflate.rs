@@ -524,31 +524,46 @@ fn deflate(data: &[u8], out: &mut Vec<u8>, limit: usize) -> Result<usize, Inflat
 /// whose sums cannot overflow 32 bits, from zlib's adler32.c).
 ///
 /// # Formula
-/// Bytes `x_1 … x_n` after sums `a`, `b` give `a' = a + Σ x_i` and
-/// `b' = b + n·a + Σ (n + 1 − i)·x_i` (the byte-at-a-time recurrence `a += x; b += a` summed
-/// over the run), so 16 bytes at a time are two independent sums; `b'` is the value the
-/// recurrence reaches after those bytes, so the 5552-byte bound still holds.
+/// A run of `n = 16K` bytes is read as 16 lanes: byte `x(k, j)` is the `j`-th (0 to 15) of
+/// the `k`-th (1 to K) 16 bytes. Each lane keeps the byte-at-a-time sums `A_j = Σ_k x(k, j)`
+/// and `B_j = Σ_k A_j(k)` (its `a += x; b += a` over its own bytes, independent of the other
+/// lanes, so the loop is 16 sums wide). Byte `p = 16(k − 1) + j + 1` of the run counts
+/// `n + 1 − p = 16(K + 1 − k) − j` times in the serial `b`, so after the run
+/// `a' = a + Σ A_j` and `b' = b + n·a + 16·Σ B_j − Σ j·A_j` (summed in 64 bits, then reduced).
+/// `B_j ≤ 255·K(K + 1)/2` = 15.4 million for K = 347 (5552 = 16 × 347), so the lanes fit 32 bits.
 pub(crate) fn adler32(bytes: &[u8]) -> u32 {
-    let (mut a, mut b) = (1u32, 0u32);
-    for chunk in bytes.chunks(5552) {
-        let mut sixteens = chunk.chunks_exact(16);
+    const LANES: usize = 16;
+    let (mut a, mut b) = (1u64, 0u64);
+    for run in bytes.chunks(5552) {
+        let mut sixteens = run.chunks_exact(LANES);
+        let (mut sa, mut sb) = ([0u32; LANES], [0u32; LANES]);
         for s in &mut sixteens {
-            let (mut sum, mut weighted) = (0u32, 0u32);
-            for (x, w) in s.iter().zip((1..=16u32).rev()) {
-                sum += u32::from(*x);
-                weighted += w * u32::from(*x);
+            for ((x, sa), sb) in s.iter().zip(sa.iter_mut()).zip(sb.iter_mut()) {
+                *sa += u32::from(*x);
+                *sb += *sa;
             }
-            b += 16 * a + weighted;
-            a += sum;
         }
+        let n = (run.len() - sixteens.remainder().len()) as u64;
+        let sum_a: u64 = sa.iter().map(|v| u64::from(*v)).sum();
+        let sum_b: u64 = sb.iter().map(|v| u64::from(*v)).sum();
+        let sum_ja: u64 = (0u64..)
+            .zip(sa.iter())
+            .map(|(j, v)| j * u64::from(*v))
+            .sum();
+        // The serial b' is not negative, so the subtraction comes last without underflow.
+        b = (b + n * a + LANES as u64 * sum_b - sum_ja) % 65521;
+        a = (a + sum_a) % 65521;
         for x in sixteens.remainder() {
-            a += u32::from(*x);
+            a += u64::from(*x);
             b += a;
         }
         a %= 65521;
         b %= 65521;
     }
-    (b << 16) | a
+    // OK: both sums are below 65521 < 2^16.
+    #[allow(clippy::cast_possible_truncation)]
+    let v = ((b << 16) | a) as u32;
+    v
 }
 
 /// Inflate a zlib stream into `out` (appending), which may then hold at most `limit` bytes,

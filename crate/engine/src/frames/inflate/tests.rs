@@ -33,6 +33,31 @@ fn adler32_worked_example() {
     assert_eq!(adler32(&ramp), 0x9537_c6bf);
 }
 
+/// Source: RFC 1950 §8.2's definition (A = 1 + Σ D_i, B = Σ A_i, both mod 65521, byte by
+/// byte), transcribed here as the reference for lengths around the 16-byte lanes and the
+/// 5552-byte runs of `adler32`, on bytes 0xff (the largest sums) and on a ramp.
+#[test]
+fn adler32_lanes_match_the_definition() {
+    let serial = |bytes: &[u8]| {
+        let (mut a, mut b) = (1u32, 0u32);
+        for x in bytes {
+            a = (a + u32::from(*x)) % 65521;
+            b = (b + a) % 65521;
+        }
+        (b << 16) | a
+    };
+    let ramp: Vec<u8> = (0..20_000u32).map(|i| (i * 13 % 256) as u8).collect();
+    let ones = [255u8; 20_000];
+    for n in (0..=40)
+        .chain(5540..=5570)
+        .chain(11_090..=11_120)
+        .chain([20_000])
+    {
+        assert_eq!(adler32(&ramp[..n]), serial(&ramp[..n]), "ramp, length {n}");
+        assert_eq!(adler32(&ones[..n]), serial(&ones[..n]), "0xff, length {n}");
+    }
+}
+
 /// Source: Python `zlib.compress(b"a")` = 78 9c 4b 04 00 00 62 00 62: one final
 /// fixed-Huffman block (RFC 1951 §3.2.6): 'a' is the 8-bit code 0x91, then end-of-block.
 #[test]
