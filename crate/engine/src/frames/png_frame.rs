@@ -341,71 +341,102 @@ fn unfilter(
     let mut rest = raw;
     for &(x0, y0, dx, dy, pw, ph) in passes {
         let stride = (pw * bpp) as usize;
-        let mut prev: Option<&[u8]> = None;
+        // The row above the first: zeros (§9.2: "the previous scanline" is absent, so b = c = 0).
+        let zeros = vec![0u8; stride];
+        let mut prev: &[u8] = &zeros;
         for row_index in 0..ph {
             let (row, tail) = std::mem::take(&mut rest)
                 .split_at_mut_checked(1 + stride)
                 .ok_or_else(|| corrupt("the image's rows do not fill its data".into()))?;
             rest = tail;
             let (filter, row) = row.split_at_mut(1);
-            unfilter_row(filter.first().copied().unwrap_or(0), row, prev, bpp_us)
-                .map_err(|t| corrupt(format!("row {row_index}: filter type {t} is not 0 to 4")))?;
+            let filter = filter.first().copied().unwrap_or(0);
+            let done = if bpp_us == 2 {
+                unfilter_row::<2>(filter, row, prev)
+            } else {
+                unfilter_row::<1>(filter, row, prev)
+            };
+            done.map_err(|t| corrupt(format!("row {row_index}: filter type {t} is not 0 to 4")))?;
             let y = y0 + row_index * dy;
-            for (i, s) in row.chunks_exact(bpp_us).enumerate() {
-                let v = match s {
-                    [a, b] => u16::from_be_bytes([*a, *b]),
-                    [a] => u16::from(*a),
-                    _ => 0,
-                };
-                let x = x0 + i as u64 * dx;
-                if let Some(p) = pixels.get_mut((y * width + x) as usize) {
-                    *p = v;
+            if dx == 1 {
+                // A whole row (not interlaced, or Adam7's pass 7): the samples in a run.
+                let at = (y * width + x0) as usize;
+                if let Some(dst) = pixels.get_mut(at..at + pw as usize) {
+                    if bpp_us == 2 {
+                        for (p, s) in dst.iter_mut().zip(row.chunks_exact(2)) {
+                            if let [a, b] = s {
+                                *p = u16::from_be_bytes([*a, *b]);
+                            }
+                        }
+                    } else {
+                        for (p, s) in dst.iter_mut().zip(row.iter()) {
+                            *p = u16::from(*s);
+                        }
+                    }
+                }
+            } else {
+                for (i, s) in row.chunks_exact(bpp_us).enumerate() {
+                    let v = match s {
+                        [a, b] => u16::from_be_bytes([*a, *b]),
+                        [a] => u16::from(*a),
+                        _ => 0,
+                    };
+                    let x = x0 + i as u64 * dx;
+                    if let Some(p) = pixels.get_mut((y * width + x) as usize) {
+                        *p = v;
+                    }
                 }
             }
-            prev = Some(row);
+            prev = row;
         }
     }
     Ok(pixels)
 }
 
-/// Reverse one row's filter (§9.2, Paeth §9.4); the filter type when it is not 0 to 4.
-fn unfilter_row(filter: u8, row: &mut [u8], prev: Option<&[u8]>, bpp: usize) -> Result<(), u8> {
-    let up = |i: usize| prev.and_then(|p| p.get(i).copied()).unwrap_or(0);
+/// Reverse one row's filter (§9.2, Paeth §9.4) for `BPP` bytes per pixel, `prev` the row above
+/// after its own unfiltering (zeros for the first row); the filter type when it is not 0 to 4.
+///
+/// Each filter is one pass over whole pixels, the left pixel `a` and upper-left `c` carried in
+/// locals, so the loops index nothing (rows of a whole number of pixels: the caller cuts them
+/// `width × BPP` long; a `prev` of another length only shortens the zip, which never happens).
+fn unfilter_row<const BPP: usize>(filter: u8, row: &mut [u8], prev: &[u8]) -> Result<(), u8> {
+    let pixels = row.chunks_exact_mut(BPP);
+    let above = prev.chunks_exact(BPP);
     match filter {
         0 => {}
         1 => {
-            for i in bpp..row.len() {
-                let a = row.get(i - bpp).copied().unwrap_or(0);
-                if let Some(x) = row.get_mut(i) {
-                    *x = x.wrapping_add(a);
+            let mut a = [0u8; BPP];
+            for x in pixels {
+                for (x, a) in x.iter_mut().zip(a.iter_mut()) {
+                    *x = x.wrapping_add(*a);
+                    *a = *x;
                 }
             }
         }
         2 => {
-            if let Some(p) = prev {
-                for (x, b) in row.iter_mut().zip(p) {
-                    *x = x.wrapping_add(*b);
+            for (x, b) in row.iter_mut().zip(prev) {
+                *x = x.wrapping_add(*b);
+            }
+        }
+        3 => {
+            let mut a = [0u8; BPP];
+            for (x, b) in pixels.zip(above) {
+                for ((x, a), b) in x.iter_mut().zip(a.iter_mut()).zip(b) {
+                    // OK: the mean of two bytes fits a byte.
+                    #[allow(clippy::cast_possible_truncation)]
+                    let m = ((u16::from(*a) + u16::from(*b)) / 2) as u8;
+                    *x = x.wrapping_add(m);
+                    *a = *x;
                 }
             }
         }
-        3 | 4 => {
-            for i in 0..row.len() {
-                let a = i
-                    .checked_sub(bpp)
-                    .and_then(|j| row.get(j).copied())
-                    .unwrap_or(0);
-                let b = up(i);
-                let pred = if filter == 3 {
-                    // OK: the mean of two bytes fits a byte.
-                    #[allow(clippy::cast_possible_truncation)]
-                    let m = ((u16::from(a) + u16::from(b)) / 2) as u8;
-                    m
-                } else {
-                    let c = i.checked_sub(bpp).map_or(0, up);
-                    paeth(a, b, c)
-                };
-                if let Some(x) = row.get_mut(i) {
-                    *x = x.wrapping_add(pred);
+        4 => {
+            let (mut a, mut c) = ([0u8; BPP], [0u8; BPP]);
+            for (x, b) in pixels.zip(above) {
+                for (((x, a), c), b) in x.iter_mut().zip(a.iter_mut()).zip(c.iter_mut()).zip(b) {
+                    *x = x.wrapping_add(paeth(*a, *b, *c));
+                    *a = *x;
+                    *c = *b;
                 }
             }
         }
@@ -415,6 +446,7 @@ fn unfilter_row(filter: u8, row: &mut [u8], prev: Option<&[u8]>, bpp: usize) -> 
 }
 
 /// The Paeth predictor (§9.4): of left, above and upper left, the one nearest a + b − c.
+#[inline(always)]
 fn paeth(a: u8, b: u8, c: u8) -> u8 {
     let (ia, ib, ic) = (i16::from(a), i16::from(b), i16::from(c));
     let p = ia + ib - ic;
