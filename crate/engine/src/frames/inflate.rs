@@ -217,6 +217,13 @@ impl Huffman {
         Ok((h, left > 0))
     }
 
+    /// The table's entry for the buffered bits `buf`.
+    #[inline(always)]
+    fn entry(&self, buf: u64) -> u16 {
+        let index = (buf & ((1 << TABLE_BITS) - 1)) as usize;
+        self.table.get(index).copied().unwrap_or(0)
+    }
+
     /// Decode one symbol: one table look-up, or for a code longer than the table's bits (or
     /// a missing one) the rest of puff's bit-by-bit walk.
     #[inline(always)]
@@ -294,45 +301,49 @@ const CODE_LENGTH_ORDER: [usize; 19] = [
     16, 17, 18, 0, 8, 7, 9, 6, 10, 5, 11, 4, 12, 3, 13, 2, 14, 1, 15,
 ];
 
-/// Where the output goes: bytes after `start` belong to this stream, at most `limit` in all.
+/// Where the output goes: `buf` is the caller's `Vec` grown to its limit, `pos` the end of what
+/// is written, the bytes after `start` this stream's (so a distance never reaches before it).
+/// Each write is one bounds check on `buf`, which is the limit check too.
 struct Out<'a> {
-    out: &'a mut Vec<u8>,
+    buf: &'a mut [u8],
+    pos: usize,
     start: usize,
-    limit: usize,
 }
 
 impl Out<'_> {
     #[inline(always)]
     fn push(&mut self, b: u8) -> Result<(), InflateError> {
-        if self.out.len() >= self.limit {
-            return Err(InflateError::TooLong);
-        }
-        self.out.push(b);
+        let slot = self.buf.get_mut(self.pos).ok_or(InflateError::TooLong)?;
+        *slot = b;
+        self.pos += 1;
         Ok(())
     }
 
     /// Copy `len` bytes from `dist` back (RFC 1951 §3.2.3: the copy may overlap its source).
     #[inline(always)]
     fn copy(&mut self, dist: usize, len: usize) -> Result<(), InflateError> {
-        let end = self.out.len();
+        let end = self.pos;
         if dist > end - self.start {
             return Err(InflateError::Corrupt("distance too far back"));
         }
         // Past the limit, the bytes up to it are written before the error (TIFF keeps them).
-        let room = self.limit.saturating_sub(end);
+        let room = self.buf.len().saturating_sub(end);
         let n = len.min(room);
         let from = end - dist;
         if dist >= n {
             // The source lies wholly in bytes already written.
-            self.out.extend_from_within(from..from + n);
+            self.buf.copy_within(from..from + n, end);
         } else {
             // An overlapping run (distance 1 repeats a byte): each byte is one written `dist`
             // before it, byte by byte.
-            for i in from..from + n {
-                let b = self.out.get(i).copied().unwrap_or(0);
-                self.out.push(b);
+            for i in end..end + n {
+                let b = self.buf.get(i - dist).copied().unwrap_or(0);
+                if let Some(x) = self.buf.get_mut(i) {
+                    *x = b;
+                }
             }
         }
+        self.pos = end + n;
         if len > room {
             return Err(InflateError::TooLong);
         }
@@ -363,6 +374,20 @@ fn codes_in(
     dist: &Huffman,
 ) -> Result<(), InflateError> {
     loop {
+        // Literals straight from the table while the buffer holds a table-length code: one
+        // refill (56 or more bits) serves several of them.
+        if bits.count < 2 * TABLE_BITS {
+            bits.refill();
+        }
+        let entry = lit.entry(bits.buf);
+        let len = u32::from(entry & 15);
+        if len != 0 && len <= bits.count && entry >> 4 < 256 {
+            bits.drop_bits(len);
+            // OK: below 256.
+            #[allow(clippy::cast_possible_truncation)]
+            out.push((entry >> 4) as u8)?;
+            continue;
+        }
         let symbol = lit.decode(bits)?;
         if symbol < 256 {
             // OK: symbol < 256.
@@ -477,7 +502,24 @@ fn deflate(data: &[u8], out: &mut Vec<u8>, limit: usize) -> Result<usize, Inflat
         count: 0,
     };
     let start = out.len();
-    let mut out = Out { out, start, limit };
+    // Grown (zeroed) to the limit, or to what this input can possibly hold when that is less:
+    // every code is at least one bit and gives at most 258 bytes (RFC 1951 §3.2.5), so a
+    // malformed stream with a large limit allocates no more than its own size allows.
+    let most = data.len().saturating_mul(8 * 258);
+    out.resize(limit.min(start.saturating_add(most)).max(start), 0);
+    let mut o = Out {
+        buf: out.as_mut_slice(),
+        pos: start,
+        start,
+    };
+    let r = blocks(&mut bits, data, &mut o);
+    let written = o.pos;
+    out.truncate(written);
+    r
+}
+
+/// The blocks of [`deflate`], written into `out`; the number of input bytes they took.
+fn blocks(bits: &mut Bits, data: &[u8], out: &mut Out) -> Result<usize, InflateError> {
     loop {
         let last = bits.take(1)? == 1;
         match bits.take(2)? {
@@ -496,9 +538,14 @@ fn deflate(data: &[u8], out: &mut Vec<u8>, limit: usize) -> Result<usize, Inflat
                 let block = data
                     .get(at + 4..at + 4 + len)
                     .ok_or(InflateError::Truncated)?;
-                let room = out.limit.saturating_sub(out.out.len());
-                out.out
-                    .extend_from_slice(block.get(..room).unwrap_or(block));
+                let room = out.buf.len().saturating_sub(out.pos);
+                let n = len.min(room);
+                if let (Some(dst), Some(src)) =
+                    (out.buf.get_mut(out.pos..out.pos + n), block.get(..n))
+                {
+                    dst.copy_from_slice(src);
+                }
+                out.pos += n;
                 if len > room {
                     return Err(InflateError::TooLong);
                 }
@@ -506,11 +553,11 @@ fn deflate(data: &[u8], out: &mut Vec<u8>, limit: usize) -> Result<usize, Inflat
             }
             1 => {
                 let (lit, dist) = fixed()?;
-                codes(&mut bits, &mut out, &lit, &dist)?;
+                codes(bits, out, &lit, &dist)?;
             }
             2 => {
-                let (lit, dist) = dynamic(&mut bits)?;
-                codes(&mut bits, &mut out, &lit, &dist)?;
+                let (lit, dist) = dynamic(bits)?;
+                codes(bits, out, &lit, &dist)?;
             }
             _ => return Err(InflateError::Corrupt("block type 3")),
         }

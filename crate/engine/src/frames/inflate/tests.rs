@@ -225,3 +225,34 @@ fn overlapping_matches() {
     assert_eq!(zlib(&z, &mut out, 100), Err(InflateError::TooLong));
     assert_eq!(out, vec![b'a'; 100]);
 }
+
+/// Source: Python 3's `zlib.compress(b"hello", 0)` (a stored block) and
+/// `zlib.compress(b"a" * 300, 9)` (one literal, then matches at distance 1); common practice,
+/// no source, for what the output holds: the bytes before the stream are kept, and a stream
+/// that ends early leaves exactly the bytes it decoded, never the zeroed room behind them.
+#[test]
+fn output_after_bytes_already_there_and_after_errors() {
+    let mut out = b"xy".to_vec();
+    zlib(&hex("7801010500faff68656c6c6f062c0215"), &mut out, 100).unwrap();
+    assert_eq!(out, b"xyhello");
+    let runs = hex("78da4b4c1c05c40200d8a871ad");
+    let mut out = b"xy".to_vec();
+    zlib(&runs, &mut out, 1000).unwrap();
+    assert_eq!(out.len(), 302);
+    // Cut inside the matches: Truncated, the output as long as what was decoded.
+    let mut out = Vec::new();
+    assert_eq!(
+        zlib(&runs[..5], &mut out, 1000),
+        Err(InflateError::Truncated)
+    );
+    assert!(
+        out.len() < 300 && out.iter().all(|b| *b == b'a'),
+        "{}",
+        out.len()
+    );
+    // The stored block cut short: nothing of it written.
+    let mut out = b"xy".to_vec();
+    let cut = hex("7801010500faff6865");
+    assert_eq!(zlib(&cut, &mut out, 100), Err(InflateError::Truncated));
+    assert_eq!(out, b"xy");
+}
