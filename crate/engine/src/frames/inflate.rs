@@ -351,6 +351,13 @@ impl Out<'_> {
     }
 }
 
+/// Whether a table entry is a literal's: a code in the table (entry not 0, its length ≥ 1) of
+/// a symbol below 256, so the entry is below `256 << 4`.
+#[inline(always)]
+fn is_literal(entry: u16) -> bool {
+    entry.wrapping_sub(1) < (256 << 4) - 1
+}
+
 /// One block's symbols with the given codes, until end-of-block (RFC 1951 §3.2.5).
 fn codes(
     bits_io: &mut Bits,
@@ -374,19 +381,31 @@ fn codes_in(
     dist: &Huffman,
 ) -> Result<(), InflateError> {
     loop {
-        // Literals straight from the table while the buffer holds a table-length code: one
-        // refill (56 or more bits) serves several of them.
-        if bits.count < 2 * TABLE_BITS {
+        // Literals straight from the table, two at a time while the buffer holds two
+        // table-length codes; one refill (to 56 or more bits) serves about four of them.
+        if bits.count < 32 {
             bits.refill();
         }
-        let entry = lit.entry(bits.buf);
-        let len = u32::from(entry & 15);
-        if len != 0 && len <= bits.count && entry >> 4 < 256 {
-            bits.drop_bits(len);
-            // OK: below 256.
-            #[allow(clippy::cast_possible_truncation)]
-            out.push((entry >> 4) as u8)?;
-            continue;
+        if bits.count >= 2 * TABLE_BITS {
+            let first = lit.entry(bits.buf);
+            if is_literal(first) {
+                let len = u32::from(first & 15);
+                let second = lit.entry(bits.buf >> len);
+                // OK: both symbols are below 256 (`is_literal`).
+                #[allow(clippy::cast_possible_truncation)]
+                let (b0, b1) = ((first >> 4) as u8, (second >> 4) as u8);
+                if is_literal(second) {
+                    if let Some([o0, o1]) = out.buf.get_mut(out.pos..out.pos + 2) {
+                        (*o0, *o1) = (b0, b1);
+                        out.pos += 2;
+                        bits.drop_bits(len + u32::from(second & 15));
+                        continue;
+                    }
+                }
+                bits.drop_bits(len);
+                out.push(b0)?;
+                continue;
+            }
         }
         let symbol = lit.decode(bits)?;
         if symbol < 256 {

@@ -334,9 +334,9 @@ fn unfilter(
     width: u64,
     bpp: u64,
 ) -> Result<Vec<u16>, FrameError> {
-    let mut pixels = Vec::new();
     let total: u64 = passes.iter().map(|p| p.4 * p.5).sum();
-    pixels.resize(usize::try_from(total).unwrap_or(0), 0u16);
+    // Zeroed by the allocator (fresh pages need no writing), not by a pass over the memory.
+    let mut pixels = vec![0u16; usize::try_from(total).unwrap_or(0)];
     let bpp_us = bpp as usize;
     let mut rest = raw;
     for &(x0, y0, dx, dy, pw, ph) in passes {
