@@ -351,6 +351,42 @@ impl Out<'_> {
     }
 }
 
+/// Bits of the literal pairs table: a literal code and the next, when both are literals and
+/// their lengths sum to at most this, are read in one look-up.
+const PAIR_BITS: u32 = 12;
+
+/// For every value of the next `PAIR_BITS` bits, the literals they begin with: `first |
+/// second << 8 | bits << 16 | count << 24`, with `count` 2 (both codes, `bits` long together),
+/// 1 (the first code only, `bits` its length; `second` is not a byte of the stream) or 0 (the
+/// first code is not a literal in the table: decode it the general way). A Huffman table's
+/// entries repeat over the bits above their code, so an index with `PAIR_BITS − len₁` known bits
+/// after the first code finds the second code's entry whenever that code is no longer.
+struct Pairs {
+    table: [u32; 1 << PAIR_BITS],
+}
+
+impl Pairs {
+    fn new(lit: &Huffman) -> Pairs {
+        let mut table = [0u32; 1 << PAIR_BITS];
+        for (i, p) in (0u64..).zip(table.iter_mut()) {
+            let first = lit.entry(i);
+            if !is_literal(first) {
+                continue;
+            }
+            let len = u32::from(first & 15);
+            let second = lit.entry(i >> len);
+            let len2 = u32::from(second & 15);
+            let (b0, b1) = (u32::from(first >> 4), u32::from(second >> 4));
+            *p = if is_literal(second) && len + len2 <= PAIR_BITS {
+                b0 | (b1 << 8) | ((len + len2) << 16) | (2 << 24)
+            } else {
+                b0 | (len << 16) | (1 << 24)
+            };
+        }
+        Pairs { table }
+    }
+}
+
 /// Whether a table entry is a literal's: a code in the table (entry not 0, its length ≥ 1) of
 /// a symbol below 256, so the entry is below `256 << 4`.
 #[inline(always)]
@@ -367,7 +403,8 @@ fn codes(
 ) -> Result<(), InflateError> {
     // A local copy, which the compiler keeps in registers; written back on every exit.
     let mut local = *bits_io;
-    let r = codes_in(&mut local, out, lit, dist);
+    let pairs = Pairs::new(lit);
+    let r = codes_in(&mut local, out, lit, &pairs, dist);
     *bits_io = local;
     r
 }
@@ -378,33 +415,32 @@ fn codes_in(
     bits: &mut Bits,
     out: &mut Out,
     lit: &Huffman,
+    pairs: &Pairs,
     dist: &Huffman,
 ) -> Result<(), InflateError> {
     loop {
-        // Literals straight from the table, two at a time while the buffer holds two
-        // table-length codes; one refill (to 56 or more bits) serves about four of them.
+        // Literals straight from the pairs table, one or two per look-up, while the buffer
+        // holds `PAIR_BITS`; one refill (to 56 or more bits) serves several look-ups.
         if bits.count < 32 {
             bits.refill();
         }
-        if bits.count >= 2 * TABLE_BITS {
-            let first = lit.entry(bits.buf);
-            if is_literal(first) {
-                let len = u32::from(first & 15);
-                let second = lit.entry(bits.buf >> len);
-                // OK: both symbols are below 256 (`is_literal`).
-                #[allow(clippy::cast_possible_truncation)]
-                let (b0, b1) = ((first >> 4) as u8, (second >> 4) as u8);
-                if is_literal(second) {
-                    if let Some([o0, o1]) = out.buf.get_mut(out.pos..out.pos + 2) {
-                        (*o0, *o1) = (b0, b1);
-                        out.pos += 2;
-                        bits.drop_bits(len + u32::from(second & 15));
-                        continue;
+        if bits.count >= PAIR_BITS {
+            let index = (bits.buf & ((1 << PAIR_BITS) - 1)) as usize;
+            let p = pairs.table.get(index).copied().unwrap_or(0);
+            let count = (p >> 24) as usize;
+            if count != 0 {
+                // Two bytes written, `count` of them kept: a second byte not kept is written
+                // over by the next symbol or cut off by the final truncation.
+                if let Some([o0, o1]) = out.buf.get_mut(out.pos..out.pos + 2) {
+                    // OK: masked to 8 bits.
+                    #[allow(clippy::cast_possible_truncation)]
+                    {
+                        (*o0, *o1) = (p as u8, (p >> 8) as u8);
                     }
+                    out.pos += count;
+                    bits.drop_bits((p >> 16) & 0xff);
+                    continue;
                 }
-                bits.drop_bits(len);
-                out.push(b0)?;
-                continue;
             }
         }
         let symbol = lit.decode(bits)?;

@@ -256,3 +256,33 @@ fn output_after_bytes_already_there_and_after_errors() {
     assert_eq!(zlib(&cut, &mut out, 100), Err(InflateError::Truncated));
     assert_eq!(out, b"xy");
 }
+
+/// Source: RFC 1951 §3.2.2's canonical codes worked by hand for lengths a (97): 1, b (98): 2,
+/// 256: 3, 257: 3, which give a = 0, b = 10, 256 = 110, 257 = 111, sent first bit first
+/// (§3.1.1), so the table index holds them from its lowest bit up.
+#[test]
+fn literal_pairs_from_a_known_code() {
+    let mut lengths = [0u8; 258];
+    (lengths[97], lengths[98], lengths[256], lengths[257]) = (1, 2, 3, 3);
+    let (lit, incomplete) = Huffman::new(&lengths).unwrap();
+    assert!(!incomplete);
+    let pairs = Pairs::new(&lit);
+    let at = |bits: &[u32]| {
+        // The bits in stream order, then ones (which begin 111 = 257, no literal).
+        let i = (0..PAIR_BITS).fold(0usize, |i, k| {
+            let bit = bits.get(k as usize).copied().unwrap_or(1);
+            i | (bit as usize) << k
+        });
+        pairs.table[i]
+    };
+    // 0, 0: a a, 2 bits.
+    assert_eq!(at(&[0, 0]), 97 | 97 << 8 | 2 << 16 | 2 << 24);
+    // 0, 1 0: a b, 3 bits.
+    assert_eq!(at(&[0, 1, 0]), 97 | 98 << 8 | 3 << 16 | 2 << 24);
+    // 1 0, 0: b a, 3 bits.
+    assert_eq!(at(&[1, 0, 0]), 98 | 97 << 8 | 3 << 16 | 2 << 24);
+    // 0, 1 1 0: a then end-of-block, so a alone, 1 bit.
+    assert_eq!(at(&[0, 1, 1, 0]), 97 | 1 << 16 | 1 << 24);
+    // 1 1 1: length symbol 257 first: decoded the general way.
+    assert_eq!(at(&[1, 1, 1]), 0);
+}
