@@ -351,9 +351,9 @@ impl Out<'_> {
     }
 }
 
-/// Bits of the literal pairs table (11 measured faster than 10, 12 or 13 on a 12 MP 16-bit
-/// frame: the table is built again for every block): a literal code and the next, when both are literals and
-/// their lengths sum to at most this, are read in one look-up.
+/// Bits of the literal pairs table: a literal code and the next, when both are literals and
+/// their lengths sum to at most this, are read in one look-up. 11 measured faster than 10, 12
+/// or 13 on a 12 MP 16-bit frame (the table is built again for every block).
 const PAIR_BITS: u32 = 11;
 
 /// For every value of the next `PAIR_BITS` bits, the literals they begin with: `first |
