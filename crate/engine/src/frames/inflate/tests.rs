@@ -25,6 +25,37 @@ fn adler32_worked_example() {
     assert_eq!(adler32(b""), 1);
     // Python: zlib.adler32(bytes([255]) * 100000) == 0x149a302c (past the 5552-byte runs).
     assert_eq!(adler32(&[255; 100_000]), 0x149a_302c);
+    // Python: zlib.adler32(bytes([255]) * 5553) == 0x8e299c8b (one byte past a whole run).
+    assert_eq!(adler32(&[255; 5553]), 0x8e29_9c8b);
+    // Python: zlib.adler32(bytes(i * 7 % 251 for i in range(100003))) == 0x9537c6bf (16-byte
+    // steps and a tail).
+    let ramp: Vec<u8> = (0..100_003u32).map(|i| (i * 7 % 251) as u8).collect();
+    assert_eq!(adler32(&ramp), 0x9537_c6bf);
+}
+
+/// Source: RFC 1950 §8.2's definition (A = 1 + Σ D_i, B = Σ A_i, both mod 65521, byte by
+/// byte), transcribed here as the reference for lengths around the 16-byte lanes and the
+/// 5552-byte runs of `adler32`, on bytes 0xff (the largest sums) and on a ramp.
+#[test]
+fn adler32_lanes_match_the_definition() {
+    let serial = |bytes: &[u8]| {
+        let (mut a, mut b) = (1u32, 0u32);
+        for x in bytes {
+            a = (a + u32::from(*x)) % 65521;
+            b = (b + a) % 65521;
+        }
+        (b << 16) | a
+    };
+    let ramp: Vec<u8> = (0..20_000u32).map(|i| (i * 13 % 256) as u8).collect();
+    let ones = [255u8; 20_000];
+    for n in (0..=40)
+        .chain(5540..=5570)
+        .chain(11_090..=11_120)
+        .chain([20_000])
+    {
+        assert_eq!(adler32(&ramp[..n]), serial(&ramp[..n]), "ramp, length {n}");
+        assert_eq!(adler32(&ones[..n]), serial(&ones[..n]), "0xff, length {n}");
+    }
 }
 
 /// Source: Python `zlib.compress(b"a")` = 78 9c 4b 04 00 00 62 00 62: one final
@@ -193,4 +224,65 @@ fn overlapping_matches() {
     let mut out = Vec::new();
     assert_eq!(zlib(&z, &mut out, 100), Err(InflateError::TooLong));
     assert_eq!(out, vec![b'a'; 100]);
+}
+
+/// Source: Python 3's `zlib.compress(b"hello", 0)` (a stored block) and
+/// `zlib.compress(b"a" * 300, 9)` (one literal, then matches at distance 1); common practice,
+/// no source, for what the output holds: the bytes before the stream are kept, and a stream
+/// that ends early leaves exactly the bytes it decoded, never the zeroed room behind them.
+#[test]
+fn output_after_bytes_already_there_and_after_errors() {
+    let mut out = b"xy".to_vec();
+    zlib(&hex("7801010500faff68656c6c6f062c0215"), &mut out, 100).unwrap();
+    assert_eq!(out, b"xyhello");
+    let runs = hex("78da4b4c1c05c40200d8a871ad");
+    let mut out = b"xy".to_vec();
+    zlib(&runs, &mut out, 1000).unwrap();
+    assert_eq!(out.len(), 302);
+    // Cut inside the matches: Truncated, the output as long as what was decoded.
+    let mut out = Vec::new();
+    assert_eq!(
+        zlib(&runs[..5], &mut out, 1000),
+        Err(InflateError::Truncated)
+    );
+    assert!(
+        out.len() < 300 && out.iter().all(|b| *b == b'a'),
+        "{}",
+        out.len()
+    );
+    // The stored block cut short: nothing of it written.
+    let mut out = b"xy".to_vec();
+    let cut = hex("7801010500faff6865");
+    assert_eq!(zlib(&cut, &mut out, 100), Err(InflateError::Truncated));
+    assert_eq!(out, b"xy");
+}
+
+/// Source: RFC 1951 §3.2.2's canonical codes worked by hand for lengths a (97): 1, b (98): 2,
+/// 256: 3, 257: 3, which give a = 0, b = 10, 256 = 110, 257 = 111, sent first bit first
+/// (§3.1.1), so the table index holds them from its lowest bit up.
+#[test]
+fn literal_pairs_from_a_known_code() {
+    let mut lengths = [0u8; 258];
+    (lengths[97], lengths[98], lengths[256], lengths[257]) = (1, 2, 3, 3);
+    let (lit, incomplete) = Huffman::new(&lengths).unwrap();
+    assert!(!incomplete);
+    let pairs = Pairs::new(&lit);
+    let at = |bits: &[u32]| {
+        // The bits in stream order, then ones (which begin 111 = 257, no literal).
+        let i = (0..PAIR_BITS).fold(0usize, |i, k| {
+            let bit = bits.get(k as usize).copied().unwrap_or(1);
+            i | (bit as usize) << k
+        });
+        pairs.table[i]
+    };
+    // 0, 0: a a, 2 bits.
+    assert_eq!(at(&[0, 0]), 97 | 97 << 8 | 2 << 16 | 2 << 24);
+    // 0, 1 0: a b, 3 bits.
+    assert_eq!(at(&[0, 1, 0]), 97 | 98 << 8 | 3 << 16 | 2 << 24);
+    // 1 0, 0: b a, 3 bits.
+    assert_eq!(at(&[1, 0, 0]), 98 | 97 << 8 | 3 << 16 | 2 << 24);
+    // 0, 1 1 0: a then end-of-block, so a alone, 1 bit.
+    assert_eq!(at(&[0, 1, 1, 0]), 97 | 1 << 16 | 1 << 24);
+    // 1 1 1: length symbol 257 first: decoded the general way.
+    assert_eq!(at(&[1, 1, 1]), 0);
 }

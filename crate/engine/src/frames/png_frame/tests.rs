@@ -61,6 +61,36 @@ fn crc32_check_values() {
     assert_eq!(crc32(b"IEND"), 0xAE42_6082);
 }
 
+/// Source: Python 3's `zlib.crc32` (zlib 1.3) on these inputs (0x414FA339 for the fox is also
+/// Wikipedia's CRC-32 example); and for every length from 0 to 40 (each tail after the 8-byte
+/// steps), the bit-at-a-time CRC of §5.5's definition (polynomial 0xEDB88320, reflected).
+#[test]
+fn crc32_eight_at_a_time_matches_bitwise() {
+    assert_eq!(
+        crc32(b"The quick brown fox jumps over the lazy dog"),
+        0x414F_A339
+    );
+    let long: Vec<u8> = (0..100_003u32).map(|i| (i * 7 % 251) as u8).collect();
+    assert_eq!(crc32(&long), 0xf8a4_718a);
+    let bitwise = |bytes: &[u8]| {
+        let mut c = !0u32;
+        for b in bytes {
+            c ^= u32::from(*b);
+            for _ in 0..8 {
+                c = if c & 1 == 1 {
+                    0xEDB8_8320 ^ (c >> 1)
+                } else {
+                    c >> 1
+                };
+            }
+        }
+        !c
+    };
+    for n in 0..=40 {
+        assert_eq!(crc32(&long[..n]), bitwise(&long[..n]), "length {n}");
+    }
+}
+
 /// Source: PNG spec §9.2 (filters 0 to 4) and §9.4 (Paeth), worked by hand on these rows.
 #[test]
 fn every_filter_type_on_known_rows() {
@@ -81,6 +111,30 @@ fn every_filter_type_on_known_rows() {
     // 16-bit: Sub works on bytes two apart (bpp 2), samples big-endian.
     let f = decode(&png(2, 1, 16, 0, &[], &[1, 0x01, 0x02, 0x03, 0x04])).unwrap();
     assert_eq!((f.sample_bits(), f.pixels()), (16, &[0x0102, 0x0406][..]));
+}
+
+/// Source: PNG spec §9.4 (PaethPredictor: p = a + b − c, pa = |p − a|, pb = |p − b|,
+/// pc = |p − c|; a if pa ≤ pb and pa ≤ pc, else b if pb ≤ pc, else c), worked by hand; also
+/// checked with a 6-line Python transcription of §9.4's pseudo-code.
+/// 8-bit, above = 50 50 30 200, filtered 5 7 9 1:
+/// (a, b, c) = (0, 50, 0): p 50, (50, 0, 50) → b, 55; (55, 50, 50): p 55, (0, 5, 5) → a, 62;
+/// (62, 30, 50): p 42, (20, 12, 8) → c, 59; (59, 200, 30): p 229, (170, 29, 199) → b, 201.
+/// 16-bit (two bytes apart): the even bytes as above; the odd bytes, above 20 10 0 0, filtered
+/// 5 3 0 0: (0, 20, 0) → b, 25; (25, 10, 20): p 15, (10, 5, 5), the tie pb = pc → b, 13;
+/// (13, 0, 10): p 3, (10, 3, 7) → b, 0; (0, 0, 0) → a, 0.
+#[test]
+fn paeth_rows_worked_by_hand() {
+    let mut row = [5, 7, 9, 1];
+    unfilter_row::<1>(4, &mut row, &[50, 50, 30, 200]).unwrap();
+    assert_eq!(row, [55, 62, 59, 201]);
+    let mut row = [5, 5, 7, 3, 9, 0, 1, 0];
+    unfilter_row::<2>(4, &mut row, &[50, 20, 50, 10, 30, 0, 200, 0]).unwrap();
+    assert_eq!(row, [55, 25, 62, 13, 59, 0, 201, 0]);
+    // The first row: above is zeros, so Paeth is Sub (§9.4: b = c = 0 gives a).
+    let mut row = [1, 2, 3, 4];
+    unfilter_row::<2>(4, &mut row, &[0; 4]).unwrap();
+    assert_eq!(row, [1, 2, 4, 6]);
+    assert_eq!(unfilter_row::<1>(5, &mut row, &[0; 4]), Err(5));
 }
 
 /// Source: PNG spec §8.2 (Adam7 pass origins and steps), worked by hand for a 3 × 3 image whose
