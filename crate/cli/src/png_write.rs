@@ -1,29 +1,16 @@
 //! A 16-bit greyscale PNG writer for `simulate --frame`, with text chunks.
 //!
 //! Small on purpose: each row's filter chosen by the minimum sum of absolute differences (the
-//! specification's suggested heuristic), the zlib stream from `miniz_oxide`'s Deflate, and
-//! nothing else: no gamma, no colour, one IDAT.
+//! specification's suggested heuristic), the zlib stream from `miniz_oxide`'s Deflate, the
+//! chunk CRC-32 and the Paeth predictor the engine's decoder uses, and nothing else: no gamma,
+//! no colour, one IDAT.
 //!
 //! # Source
 //! PNG specification (ISO/IEC 15948:2003): §5.2 signature, §5.3 chunks, §5.5 CRC-32, §11.2.2
 //! IHDR, §11.3.4.5 iTXt (uncompressed, no language tag), §9.2 filter types 0 to 4, §9.4 Paeth,
 //! §12.8 filter selection (minimum sum of absolute differences, bytes read as signed).
 
-/// CRC-32 of PNG chunks (§5.5: polynomial 0xEDB88320, reflected), bit by bit.
-fn crc32(bytes: &[u8]) -> u32 {
-    let mut c = !0u32;
-    for b in bytes {
-        c ^= u32::from(*b);
-        for _ in 0..8 {
-            c = if c & 1 == 1 {
-                (c >> 1) ^ 0xEDB8_8320
-            } else {
-                c >> 1
-            };
-        }
-    }
-    !c
-}
+use engine::frames::{png_crc32 as crc32, png_paeth as paeth};
 
 fn chunk(out: &mut Vec<u8>, kind: &[u8; 4], data: &[u8]) {
     // A chunk longer than 2^31 − 1 bytes cannot be written; the frames here are far smaller
@@ -113,20 +100,6 @@ fn filter_row(filter: u8, row: &[u8], prev: &[u8], out: &mut Vec<u8>) {
             _ => paeth(a, *b, c),
         };
         out.push(x.wrapping_sub(predictor));
-    }
-}
-
-/// The Paeth predictor (§9.4): of left, above and upper left, the one nearest a + b − c.
-fn paeth(a: u8, b: u8, c: u8) -> u8 {
-    let (ia, ib, ic) = (i16::from(a), i16::from(b), i16::from(c));
-    let p = ia + ib - ic;
-    let (pa, pb, pc) = ((p - ia).abs(), (p - ib).abs(), (p - ic).abs());
-    if pa <= pb && pa <= pc {
-        a
-    } else if pb <= pc {
-        b
-    } else {
-        c
     }
 }
 

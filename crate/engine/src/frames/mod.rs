@@ -24,6 +24,8 @@ use std::fmt;
 
 pub use file::FrameFile;
 pub(crate) use file::{Header, Samples};
+#[cfg(feature = "png")]
+pub use png_frame::{crc32 as png_crc32, paeth as png_paeth};
 pub use raw::RawGeometry;
 
 /// Most pixels one frame may have: 2^28 (268 megapixels, 512 MiB of 16-bit samples).

@@ -82,8 +82,10 @@ fn at(table: &[u32; 256], x: u32) -> u32 {
     table[(x & 0xff) as usize]
 }
 
-/// CRC-32 of the bytes (§5.5), eight bytes at a time (see [`crc_tables`]).
-fn crc32(bytes: &[u8]) -> u32 {
+/// CRC-32 of the bytes (§5.5), eight bytes at a time (see [`crc_tables`]). Public (as
+/// `engine::frames::png_crc32`) for the command line's PNG writer.
+#[must_use]
+pub fn crc32(bytes: &[u8]) -> u32 {
     let [t0, t1, t2, t3, t4, t5, t6, t7] = crc_tables();
     let mut c = !0u32;
     let mut eights = bytes.chunks_exact(8);
@@ -446,8 +448,10 @@ fn unfilter_row<const BPP: usize>(filter: u8, row: &mut [u8], prev: &[u8]) -> Re
 }
 
 /// The Paeth predictor (§9.4): of left, above and upper left, the one nearest a + b − c.
+/// Public (as `engine::frames::png_paeth`) for the command line's PNG writer.
 #[inline(always)]
-fn paeth(a: u8, b: u8, c: u8) -> u8 {
+#[must_use]
+pub fn paeth(a: u8, b: u8, c: u8) -> u8 {
     let (ia, ib, ic) = (i16::from(a), i16::from(b), i16::from(c));
     let p = ia + ib - ic;
     let (pa, pb, pc) = ((p - ia).abs(), (p - ib).abs(), (p - ic).abs());
