@@ -193,7 +193,13 @@ pub fn answer_json(c: &Characterization) -> String {
             .collect(),
         spatial,
     };
-    match serde_json::to_string(&serde_json::json!({ "result": answer })) {
+    // Written straight to text: `json!` would first copy the whole answer into a
+    // `serde_json::Value` (a second serializer of every answer type in the wasm).
+    #[derive(Serialize)]
+    struct Message<'a> {
+        result: Answer<'a>,
+    }
+    match serde_json::to_string(&Message { result: answer }) {
         Ok(s) => s,
         Err(e) => problems_json(&[format!("the result could not be written as JSON: {e}")]),
     }

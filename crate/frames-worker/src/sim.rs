@@ -61,6 +61,12 @@ pub struct FrameAnswer {
     pub json: String,
 }
 
+/// The answer's message, written straight to text (not through a `serde_json::Value`).
+#[derive(serde::Serialize)]
+struct Message<'a> {
+    frame: &'a SceneFrame,
+}
+
 fn problem(message: &str) -> String {
     json!({ "problem": message }).to_string()
 }
@@ -76,7 +82,7 @@ pub fn frame(scenario_json: &str, seed: u64) -> FrameAnswer {
             simulate::frame(&sc, seed, size).map_err(|e| e.to_string())
         });
     match made {
-        Ok(f) => match serde_json::to_string(&json!({ "frame": &f })) {
+        Ok(f) => match serde_json::to_string(&Message { frame: &f }) {
             Ok(text) => FrameAnswer {
                 rgba: rgba(&f),
                 json: text,

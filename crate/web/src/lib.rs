@@ -66,12 +66,11 @@ pub fn start() {
 #[cfg(target_arch = "wasm32")]
 #[wasm_bindgen]
 pub fn evaluate(scenario_json: &str) -> Result<JsValue, JsError> {
-    use serde::Serialize as _;
+    // As the report's JSON text, parsed by the browser: the same JavaScript object (figures
+    // that do not exist are `null`), with no second serializer in the module.
     let report = engine::evaluate_json(scenario_json).map_err(|e| JsError::new(&e.to_string()))?;
-    let ser = serde_wasm_bindgen::Serializer::new().serialize_missing_as_null(true);
-    report
-        .serialize(&ser)
-        .map_err(|e| JsError::new(&e.to_string()))
+    let text = serde_json::to_string(&report).map_err(|e| JsError::new(&e.to_string()))?;
+    js_sys::JSON::parse(&text).map_err(|_| JsError::new("the report's JSON did not parse"))
 }
 
 /// The calculator's version.

@@ -34,7 +34,12 @@ pub fn reset() {
 
 /// Show a report: figures, bar, warnings, and lift the stale mark.
 pub fn show(report: &engine::Report) {
-    let Ok(value) = serde_json::to_value(report) else {
+    // Through the report's JSON text rather than `serde_json::to_value`: the text's serializer
+    // is in the module anyway (downloads, the worker's messages), and a second one for values
+    // cost about 20 KB of the wasm (issue 15's size budget) for about 0.1 ms an edit.
+    let Ok(value) = serde_json::to_string(report)
+        .and_then(|text| serde_json::from_str::<serde_json::Value>(&text))
+    else {
         return;
     };
     for list in dom::all_in_document("[data-units-of]") {
@@ -261,10 +266,7 @@ fn show_warnings(warnings: &[Warning]) {
         dom::set_class(&el, "warned", false);
     }
     for w in warnings {
-        let code = serde_json::to_value(w.code)
-            .ok()
-            .and_then(|v| v.as_str().map(str::to_string))
-            .unwrap_or_default();
+        let code = w.code.as_str();
         let mut lists: Vec<Element> = Vec::new();
         for path in &w.concerns {
             for fig in dom::all_in_document("[data-report]")
@@ -289,7 +291,7 @@ fn show_warnings(warnings: &[Warning]) {
         }
         for list in lists {
             if let Some(li) = dom::new_element("li", &w.message) {
-                dom::set_attr(&li, "data-warning", &code);
+                dom::set_attr(&li, "data-warning", code);
                 let _ = list.append_child(&li);
             }
         }
