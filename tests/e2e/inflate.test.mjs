@@ -50,7 +50,7 @@ test("inflates the page's own embedded wasm (zopfli's stream) to the wasm", () =
   const app = readdirSync(dist).find((f) => /^app-[0-9a-f]+\.js$/.test(f));
   assert.ok(app, 'a built page (scripts/build-page)');
   const text = readFileSync(join(dist, app), 'utf8');
-  const b64 = text.match(/const NOISE_BUDGET_WASM_DEFLATED = "([^"]+)"/)[1];
+  const b64 = text.match(/const NOISE_BUDGET_WASM_PACKED = "([^"]+)"/)[1];
   const size = Number(text.match(/const NOISE_BUDGET_WASM_BYTES = (\d+);/)[1]);
   const packed = Buffer.from(b64, 'base64');
   const got = inflate(new Uint8Array(packed), new Uint8Array(size));

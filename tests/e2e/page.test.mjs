@@ -428,9 +428,10 @@ describe('a damaged single file', () => {
     const { pathToFileURL } = await import('node:url');
     const html = readFileSync(new URL(singleFileUrl()), 'utf8');
     const script = html.match(/<script type="module" id="noise-budget-app"[^>]*>([\s\S]*?)<\/script>/)[1];
-    const start = script.indexOf('const NOISE_BUDGET_WASM_DEFLATED = "') + 40;
-    assert.ok(start > 40, 'the embedded wasm is found');
-    // Replace 4 KB in the middle of the deflate stream by base64 of zeros.
+    const marker = 'const NOISE_BUDGET_WASM_PACKED = "';
+    const start = script.indexOf(marker) + marker.length;
+    assert.ok(start > marker.length, 'the embedded wasm is found');
+    // Replace 4 KB in the middle of the packed wasm (LZMA) by base64 of zeros.
     const mid = start + 100000;
     const damaged = script.slice(0, mid) + 'A'.repeat(4096) + script.slice(mid + 4096);
     const sha = (t) => createHash('sha256').update(t, 'utf8').digest('base64');
@@ -462,7 +463,7 @@ describe('a damaged single file', () => {
     const { tmpdir } = await import('node:os');
     const { pathToFileURL } = await import('node:url');
     const html = readFileSync(new URL(singleFileUrl()), 'utf8');
-    const at = html.indexOf('const NOISE_BUDGET_WASM_DEFLATED = "') + 140000;
+    const at = html.indexOf('const NOISE_BUDGET_WASM_PACKED = "') + 140000;
     const copy = html.slice(0, at) + (html[at] === 'A' ? 'B' : 'A') + html.slice(at + 1);
     const dir = mkdtempSync(join(tmpdir(), 'noise-budget-refused-'));
     writeFileSync(join(dir, 'noise-budget.html'), copy);
