@@ -74,12 +74,12 @@ async function loadTimes(url, firstResult) {
     const t = await page.evaluate((fr) => {
       const at = (name) => performance.getEntriesByName(name)[0]?.startTime ?? NaN;
       if (!fr) return { total: performance.getEntriesByType('navigation')[0].loadEventEnd };
-      // Where the time goes: the script starts (HTML and script parsed), the wasm inflated,
+      // Where the time goes: the script starts (HTML and script parsed), the wasm unpacked,
       // the wasm instantiated (mount starts), the first result written.
       return {
         painted: window.noiseBudgetResultPainted ?? NaN,
         total: at('noise-budget:first-result'),
-        parts: [at('noise-budget:script-start'), at('noise-budget:wasm-inflated'), at('noise-budget:mount-start'), at('noise-budget:first-result')],
+        parts: [at('noise-budget:script-start'), at('noise-budget:wasm-unpacked'), at('noise-budget:mount-start'), at('noise-budget:first-result')],
       };
     }, firstResult);
     out.push(t.total);
@@ -221,7 +221,7 @@ console.log(`first result  served ${ms(median(served))}, single file ${ms(median
 }
 for (const [url, runs] of Object.entries(loadTimes.parts ?? {})) {
   const step = (i) => ms(median(runs.map((r) => (i === 0 ? r[0] : r[i] - r[i - 1]))));
-  console.log(`  ${url.startsWith('file:') ? 'single file' : 'served    '}  to script start ${step(0)}, inflate ${step(1)}, ` +
+  console.log(`  ${url.startsWith('file:') ? 'single file' : 'served    '}  to script start ${step(0)}, unpack ${step(1)}, ` +
     `wasm start ${step(2)}, mount to first result ${step(3)} (medians)`);
 }
 console.log(`edit→results  median ${ms(median(edits.script))} script, ${ms(median(edits.layout))} with layout ` +

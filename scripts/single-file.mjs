@@ -11,17 +11,16 @@
 // WebAssembly.Module, see crate/web/src/frames_ui/run.rs) it skips the page's start-up and runs
 // crate/frames-worker/boot.js, so the page and the worker run one compiled engine.
 // Sizes go to dist/sizes.json (a measurement; nothing checks them here).
-// Usage: node scripts/single-file.mjs [dist] [SINGLE_DIR]
+// Usage: node scripts/single-file.mjs DIST SINGLE_DIR UNPACKER_WASM
 //   SINGLE_DIR: wasm-bindgen's output (target web) of the self-contained file's own build
 //   (scripts/build-page: opt-level "z"; the calculator alone, or the one engine with the frame
-//   analysis, found from its glue); without it the file gets the served page's wasm.
+//   analysis, found from its glue); UNPACKER_WASM: crate/unpack's wasm.
 import { execFileSync } from 'node:child_process';
 import { createHash } from 'node:crypto';
 import { readFileSync, readdirSync, rmSync, writeFileSync } from 'node:fs';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { gzipSync } from 'node:zlib';
-import { deflateAsync } from '@gfx/zopfli';
 import { transformSync } from 'esbuild';
 
 const dist = process.argv[2] ?? 'dist';
@@ -36,23 +35,15 @@ if (!files.includes(glueName)) fail(`no ${glueName} in ${dist}`);
 const cssName = files.find((f) => /^style-[0-9a-f]+\.css$/.test(f));
 if (!cssName) fail(`no style-*.css in ${dist}`);
 
-// Zopfli (Google's exhaustive deflate, Apache-2.0, as an npm package): a deflate stream any
-// inflater reads, 6 % smaller than zlib's level 9 on this wasm (248 420 B against 265 512 B
-// as gzip, measured), which the self-contained file's 300 KB budget needs; about 2 s of build time.
-// The page inflates it synchronously (scripts/inflate.js, table-driven, checked against zlib
-// by tests/e2e/inflate.test.mjs), so that the wasm starts and the first result is written
-// inside the script's own run, before the browser's first layout of the page: with
-// DecompressionStream (asynchronous) the first layout and paint of the page's form (about
-// 80 ms in Chromium, traced) came between the script and the calculator's start.
-const inflater = readFileSync(join(dirname(fileURLToPath(import.meta.url)), 'inflate.js'), 'utf8');
-if (!/^const noiseBudgetInflate = /m.test(inflater)) fail('scripts/inflate.js does not define noiseBudgetInflate');
-// The self-contained file packs its wasm tighter, with LZMA (raw LZMA1 by Python's lzma module,
-// that is liblzma: 18 % smaller than zopfli's deflate on this wasm, 301 336 against 365 000 B,
-// measured), unpacked by scripts/unlzma.js (tests/e2e/unlzma.test.mjs): its budget is 300 KB
-// gzip with everything in it. Its decoding takes longer than inflating (about 45 ms against
-// 35 ms for this wasm in node), so the served page, which has no size budget, keeps deflate.
-const unlzma = readFileSync(join(dirname(fileURLToPath(import.meta.url)), 'unlzma.js'), 'utf8');
-if (!/^const noiseBudgetUnlzma = /m.test(unlzma)) fail('scripts/unlzma.js does not define noiseBudgetUnlzma');
+// The wasm is packed with LZMA (raw LZMA1 by Python's lzma module, that is liblzma: 18 %
+// smaller than zopfli's deflate on this wasm, 301 336 against 365 000 B, measured), which the
+// self-contained file's 300 KB budget needs, and unpacked synchronously by crate/unpack, a
+// wasm of about 3 KB with no imports (SINGLE-FILE's third argument; tests/e2e/unpack.test.mjs),
+// so that the engine starts and the first result is written inside the script's own run,
+// before the browser's first layout of the page (with DecompressionStream, asynchronous, the
+// first layout and paint of the page's form, about 80 ms in Chromium, traced, came between).
+// Unpacked in JavaScript it took 66 ms of the single file's start in Chromium (most of it
+// before the JavaScript engine optimised it); the wasm takes about 20 ms in node.
 const LZMA = { lc: 3, lp: 0, pb: 0 };
 function lzmaPack(bytes) {
   const python = process.env.PYTHON ?? 'python3';
@@ -65,6 +56,33 @@ sys.stdout.buffer.write(lzma.compress(sys.stdin.buffer.read(), format=lzma.FORMA
     return fail(`could not pack the wasm with ${python}'s lzma module (${err.message.split('\n')[0]})`);
   }
 }
+const unpackerPath = process.argv[4];
+if (!unpackerPath) fail('no unpacker wasm given (crate/unpack; scripts/build-page builds it)');
+const unpacker = readFileSync(unpackerPath);
+if (!WebAssembly.validate(unpacker)) fail(`${unpackerPath} is not a valid wasm`);
+{
+  const m = new WebAssembly.Module(unpacker);
+  const names = WebAssembly.Module.exports(m).map((e) => e.name);
+  if (WebAssembly.Module.imports(m).length !== 0) fail(`${unpackerPath} imports something; the unpacker must stand alone`);
+  for (const want of ['memory', 'unlzma', 'unlzma_probs']) if (!names.includes(want)) fail(`${unpackerPath} does not export ${want}`);
+}
+// The script's unpacking: the unpacker's memory holds its probabilities, the packed bytes and
+// the wasm, in that order past what it uses itself. Its error codes are crate/unpack's Error.
+const UNPACK = `const NOISE_BUDGET_UNPACKER = "${unpacker.toString('base64')}";
+const NOISE_BUDGET_UNPACK_ERRORS = ["", "its settings are out of range", "it does not start as LZMA data", "it ends early", "a match reaches before the start", "a match runs past the end", "it ends before the whole wasm", "too little room"];
+function noiseBudgetUnpack(packed, size) {
+  const { memory, unlzma, unlzma_probs } = new WebAssembly.Instance(new WebAssembly.Module(noiseBudgetBytes(NOISE_BUDGET_UNPACKER)), {}).exports;
+  const probs = unlzma_probs(${LZMA.lc}, ${LZMA.lp});
+  const at = (memory.buffer.byteLength + 7) & ~7;
+  const from = at + probs * 2;
+  const to = from + packed.length;
+  memory.grow(Math.ceil((to + size - memory.buffer.byteLength) / 65536));
+  new Uint8Array(memory.buffer, from, packed.length).set(packed);
+  const code = unlzma(from, packed.length, to, size, at, probs, ${LZMA.lc | (LZMA.lp << 8) | (LZMA.pb << 16)});
+  if (code !== 0) throw new Error(\`bad LZMA data: \${NOISE_BUDGET_UNPACK_ERRORS[code] ?? code}\`);
+  return new Uint8Array(memory.buffer, to, size);
+}
+`;
 const boot = readFileSync(join(dirname(fileURLToPath(import.meta.url)), '../crate/frames-worker/boot.js'), 'utf8');
 if (!/\bnoiseBudgetEngineArrived\b/.test(boot)) fail('crate/frames-worker/boot.js does not wait for the engine (noiseBudgetEngineArrived)');
 const css = readFileSync(join(dist, cssName), 'utf8');
@@ -92,16 +110,12 @@ const WORKER_EXPORTS = ['Analysis', 'simulate_frame', 'simulate_series', 'pair_s
 
 /** The app script for a glue (its path) and a wasm; `frames`: it holds the frame worker's
  * exports, so the script also runs as the frame worker. */
-async function appScript(gluePath, wasm, frames, packing) {
+async function appScript(gluePath, wasm, frames, squeeze) {
   const glue = moduleBody(gluePath);
   for (const name of frames ? WORKER_EXPORTS : []) {
     if (!new RegExp(`\\b(function|class) ${name}\\b`).test(glue)) fail(`${gluePath} has no ${name}: build crate/web with its frames feature`);
   }
-  const lzma = packing === 'lzma';
-  const packed = lzma ? lzmaPack(wasm) : Buffer.from(await deflateAsync(wasm, { numiterations: 15 }));
-  const unpack = lzma
-    ? `noiseBudgetUnlzma(noiseBudgetBytes(NOISE_BUDGET_WASM_PACKED), ${LZMA.lc}, ${LZMA.lp}, ${LZMA.pb}, new Uint8Array(NOISE_BUDGET_WASM_BYTES))`
-    : 'noiseBudgetInflate(noiseBudgetBytes(NOISE_BUDGET_WASM_PACKED), new Uint8Array(NOISE_BUDGET_WASM_BYTES))';
+  const packed = lzmaPack(wasm);
   const worker = frames ? `
 // ---- the frame worker (crate/frames-worker/boot.js): this script run as a worker ----
 if (typeof document === 'undefined') {
@@ -113,9 +127,8 @@ ${boot}
   // file it is squeezed by esbuild (white space, comments, shorter syntax; names kept), 5.4 KB
   // less gzip (15.4 -> 10.0 KB, measured) for its size budget; the served page keeps it legible.
   let code = `${glue}
-${lzma ? unlzma : inflater}
 ${worker}`;
-  if (lzma) {
+  if (squeeze) {
     try {
       code = transformSync(code, { loader: 'js', minifyWhitespace: true, minifySyntax: true, charset: 'utf8' }).code;
     } catch (err) {
@@ -125,9 +138,9 @@ ${worker}`;
   return `${code}
 // ---- noise-budget start-up (scripts/single-file.mjs) ----
 // The wasm is embedded so the page makes no request for it (the CSP forbids fetching), as the
-// base64 of it packed (${lzma ? 'LZMA' : "raw deflate, zopfli's"}): base64 of raw wasm compresses badly, so this keeps the
-// file smaller. It is unpacked, compiled and started synchronously (initSync), so the first
-// result is written before the browser first lays out the page.
+// base64 of it packed (LZMA): base64 of raw wasm compresses badly, so this keeps the file
+// smaller. It is unpacked, compiled and started synchronously (initSync), so the first result
+// is written before the browser first lays out the page.
 const NOISE_BUDGET_WASM_PACKED = "${packed.toString('base64')}";
 const NOISE_BUDGET_WASM_BYTES = ${wasm.length};
 function noiseBudgetBytes(b64) {
@@ -137,19 +150,19 @@ function noiseBudgetBytes(b64) {
   for (let i = 0; i < text.length; i++) bytes[i] = text.charCodeAt(i);
   return bytes;
 }
-if (typeof document !== 'undefined') {
+${UNPACK}if (typeof document !== 'undefined') {
 performance.mark('noise-budget:script-start');
 try {
   let wasmBytes;
   try {
-    wasmBytes = ${unpack};
+    wasmBytes = noiseBudgetUnpack(noiseBudgetBytes(NOISE_BUDGET_WASM_PACKED), NOISE_BUDGET_WASM_BYTES);
   } catch (err) {
     throw new Error(\`its embedded code could not be unpacked (\${err}); the file may be damaged: download it again\`);
   }
   if (wasmBytes.length !== NOISE_BUDGET_WASM_BYTES) {
     throw new Error(\`its embedded code unpacked to \${wasmBytes.length} bytes, not \${NOISE_BUDGET_WASM_BYTES}; the file may be damaged: download it again\`);
   }
-  performance.mark('noise-budget:wasm-inflated');
+  performance.mark('noise-budget:wasm-unpacked');
   let module;
   try {
     module = new WebAssembly.Module(wasmBytes);
@@ -172,12 +185,12 @@ try {
 }
 
 const wasm = readFileSync(join(dist, wasmName));
-const app = await appScript(join(dist, glueName), wasm, true, 'deflate');
+const app = await appScript(join(dist, glueName), wasm, true, false);
 const singleWasm = singleDir ? readFileSync(join(singleDir, 'noise_budget_web_bg.wasm')) : wasm;
 const singleGlue = singleDir ? join(singleDir, 'noise_budget_web.js') : join(dist, glueName);
 // The single file holds the frame analysis when its wasm was built with crate/web's `frames`.
 const singleFrames = /\bclass Analysis\b/.test(readFileSync(singleGlue, 'utf8'));
-const singleApp = await appScript(singleGlue, singleWasm, singleFrames, 'lzma');
+const singleApp = await appScript(singleGlue, singleWasm, singleFrames, true);
 
 const sha256 = (text) => createHash('sha256').update(text, 'utf8').digest('base64');
 const short = (text) => createHash('sha256').update(text, 'utf8').digest('hex').slice(0, 16);
