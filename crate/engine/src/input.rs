@@ -681,7 +681,7 @@ impl<'v> Fields<'v> {
             // A near miss gets "did you mean"; otherwise a small object lists the keys it
             // knows (a long list, like the sensor's, would bury the message).
             let mut known: Vec<&str> = self.used.iter().map(String::as_str).collect();
-            known.sort_unstable();
+            crate::small_sort::sort_by(&mut known, |a, b| a.cmp(b));
             known.dedup();
             let hint = match self.used.iter().find(|u| near_miss(u, key)) {
                 Some(u) => format!(" (did you mean \"{u}\"?)"),

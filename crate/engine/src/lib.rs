@@ -30,6 +30,7 @@ pub mod roots;
 pub mod scenario;
 pub mod sense_node;
 pub mod simulate;
+pub mod small_sort;
 pub mod spectrum;
 pub mod sweep;
 pub mod validate;

@@ -71,7 +71,7 @@ pub(super) fn analyse_one(stacks: &[StackStats]) -> Result<Single, AnalysisError
             }
         })
         .collect();
-    pts.sort_by(|a, b| a.x.total_cmp(&b.x));
+    crate::small_sort::sort_by(&mut pts, |a, b| a.x.total_cmp(&b.x));
     let brighter = pts.iter().filter(|p| p.x > 0.0).count();
     if brighter < 2 {
         return Err(AnalysisError::FlatsNotAboveDark { found: brighter });
@@ -498,7 +498,9 @@ pub(super) fn analyse_one(stacks: &[StackStats]) -> Result<Single, AnalysisError
     };
 
     let mut points: Vec<PtcPoint> = darks.stacks.iter().map(|s| point(s, None, false)).collect();
-    points.sort_by(|a, b| a.exposure_time_s.total_cmp(&b.exposure_time_s));
+    crate::small_sort::sort_by(&mut points, |a, b| {
+        a.exposure_time_s.total_cmp(&b.exposure_time_s)
+    });
     points.extend(
         pts.iter()
             .enumerate()
