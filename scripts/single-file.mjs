@@ -105,13 +105,102 @@ function moduleBody(path) {
   return glue;
 }
 
+// Short import names. wasm-bindgen names each import the module needs from its glue
+// `__wbg_<name>_<16 hex digits>`, under a module named after the wasm's file; the hex digits
+// do not compress and each name is written twice, in the wasm and in the glue. Both get a
+// short name instead (the glue's import object and the wasm's import section rewritten
+// together; the wasm must still validate and the glue hold every name exactly once), 2-3 KB
+// less of the self-contained file's budget.
+function leb(bytes, at) {
+  let value = 0;
+  let shift = 0;
+  for (;;) {
+    const b = bytes[at++];
+    value += (b & 0x7f) * 2 ** shift;
+    shift += 7;
+    if (b < 0x80) return [value, at];
+  }
+}
+function lebBytes(n) {
+  const out = [];
+  do {
+    let b = n & 0x7f;
+    n = Math.floor(n / 128);
+    if (n > 0) b |= 0x80;
+    out.push(b);
+  } while (n > 0);
+  return out;
+}
+function shortenImports(wasm, glue) {
+  const utf8 = new TextDecoder();
+  const modules = [...glue.matchAll(/^\s+"([^"]+)": import0,$/gm)];
+  if (modules.length !== 1) fail(`the glue names ${modules.length} modules for its import object, not one`);
+  const GLUE_MODULE = modules[0][1];
+  const chunks = [wasm.subarray(0, 8)];
+  const renamed = new Map();
+  let at = 8;
+  while (at < wasm.length) {
+    const id = wasm[at];
+    const [size, body] = leb(wasm, at + 1);
+    const end = body + size;
+    if (id !== 2) {
+      chunks.push(wasm.subarray(at, end));
+      at = end;
+      continue;
+    }
+    let [count, p] = leb(wasm, body);
+    const out = [...lebBytes(count)];
+    const name = (q) => { const [n, from] = leb(wasm, q); return [utf8.decode(wasm.subarray(from, from + n)), from + n]; };
+    for (; count > 0; count--) {
+      let module;
+      let field;
+      [module, p] = name(p);
+      [field, p] = name(p);
+      const kind = wasm[p];
+      // The import's description: a function's type index; a table, memory or global's limits.
+      let q = p + 1;
+      if (kind === 0) [, q] = leb(wasm, q);
+      else if (kind === 1) { q += 1; const flags = wasm[q]; [, q] = leb(wasm, q + 1); if (flags & 1) [, q] = leb(wasm, q); }
+      else if (kind === 2) { const flags = wasm[q]; [, q] = leb(wasm, q + 1); if (flags & 1) [, q] = leb(wasm, q); }
+      else if (kind === 3) q += 2;
+      else fail(`an import of kind ${kind} the renaming does not know`);
+      let newModule = module;
+      let newField = field;
+      if (module === GLUE_MODULE) {
+        newModule = 'g';
+        if (!renamed.has(field)) renamed.set(field, renamed.size.toString(36));
+        newField = `_${renamed.get(field)}`;
+      }
+      for (const text of [newModule, newField]) {
+        const bytes = Buffer.from(text, 'utf8');
+        out.push(...lebBytes(bytes.length), ...bytes);
+      }
+      out.push(...wasm.subarray(p, q));
+      p = q;
+    }
+    if (p !== end) fail('the import section does not end where its size says');
+    chunks.push(Uint8Array.from([2, ...lebBytes(out.length), ...out]));
+    at = end;
+  }
+  const shortWasm = Buffer.concat(chunks);
+  if (!WebAssembly.validate(shortWasm)) fail('the wasm with short import names does not validate');
+  let shortGlue = glue;
+  for (const [field, short] of renamed) {
+    const key = new RegExp(`^(\\s+)${field.replace(/[$]/g, '\\$&')}(: function)`, 'm');
+    if (!key.test(shortGlue)) fail(`the glue does not define the import ${field}`);
+    shortGlue = shortGlue.replace(key, `$1_${short}$2`);
+  }
+  shortGlue = shortGlue.replace(`"${GLUE_MODULE}": import0`, '"g": import0');
+  return { wasm: shortWasm, glue: shortGlue };
+}
+
 // The exports boot.js calls, as wasm-bindgen's no-modules glue would name them.
 const WORKER_EXPORTS = ['Analysis', 'simulate_frame', 'simulate_series', 'pair_stats_ms'];
 
 /** The app script for a glue (its path) and a wasm; `frames`: it holds the frame worker's
  * exports, so the script also runs as the frame worker. */
-async function appScript(gluePath, wasm, frames, squeeze) {
-  const glue = moduleBody(gluePath);
+async function appScript(gluePath, fullWasm, frames, squeeze) {
+  const { wasm, glue } = shortenImports(fullWasm, moduleBody(gluePath));
   for (const name of frames ? WORKER_EXPORTS : []) {
     if (!new RegExp(`\\b(function|class) ${name}\\b`).test(glue)) fail(`${gluePath} has no ${name}: build crate/web with its frames feature`);
   }
