@@ -323,7 +323,15 @@ writeFileSync(join(dist, 'index.html'), served);
 
 // The single file: everything inline, allowed by hash.
 const inlineApp = escapeScript(singleApp);
-const inlineCss = escapeStyle(css);
+// The single file's style minified by esbuild (1 KB less gzip, measured); the served page
+// keeps the legible file.
+let minCss;
+try {
+  minCss = transformSync(css, { loader: 'css', minify: true, charset: 'utf8' }).code;
+} catch (err) {
+  fail(`esbuild could not minify the style: ${err.message.split('\n')[0]}`);
+}
+const inlineCss = escapeStyle(minCss);
 const single = html
   .replace(charset, `${charset}\n  ${csp(`'sha256-${sha256(inlineApp)}'`, `'sha256-${sha256(inlineCss)}'`, 'blob:')}`)
   .replace(cssLink[0], () => `<style>${inlineCss}</style>`)
