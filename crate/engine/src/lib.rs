@@ -13,6 +13,7 @@ pub mod compare;
 pub mod constants;
 pub mod curves;
 pub mod dark;
+pub mod decimal;
 pub mod demos;
 pub mod detection;
 pub mod frames;
