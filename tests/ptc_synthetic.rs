@@ -271,6 +271,44 @@ fn recovers_a_simulated_camera_from_a_light_series() {
     );
 }
 
+/// The page reads the worker's curve and spatial series back from JSON by hand
+/// (`curve_series_from_json`, `spatial_series_from_json`, to keep serde's derived deserializers
+/// out of the wasm): they give what serde's derived `Deserialize` gives, value for value.
+#[test]
+fn series_read_back_from_json_by_hand_equal_serde() {
+    let t = CAMERA_A;
+    let mut cam = Camera::new(t, 20_261_204);
+    let mut stacks = vec![cam.stack(FrameKind::Dark, 0.01, None, None, 2)];
+    for (i, f) in [0.1, 0.3, 0.5, 0.7, 0.9, 1.1].iter().enumerate() {
+        let photons = f * t.full_well_e / t.quantum_efficiency;
+        let label = format!("L{i}");
+        stacks.push(cam.stack(FrameKind::Flat, 0.01, Some(photons), Some(&label), 2));
+    }
+    let c = analyse(&stacks).unwrap();
+    let curve = engine::ptc::curve_series(&c, 40);
+    let json = serde_json::to_value(&curve).unwrap();
+    let by_serde: engine::ptc::CurveSeries = serde_json::from_value(json.clone()).unwrap();
+    let by_hand = engine::ptc::curve_series_from_json(&json).unwrap();
+    assert_eq!(by_hand, by_serde);
+    assert!(by_hand.points.iter().any(|p| p.residual_dn2.is_some()));
+    assert!(by_hand.points.len() >= 5 && !by_hand.model.is_empty());
+    let spatial = engine::ptc::spatial_series(&c);
+    let json = serde_json::to_value(&spatial).unwrap();
+    let by_serde: Vec<engine::ptc::SpatialSeries> = serde_json::from_value(json.clone()).unwrap();
+    assert_eq!(
+        engine::ptc::spatial_series_from_json(&json).unwrap(),
+        by_serde
+    );
+    assert!(!by_serde.is_empty());
+    // A field of the wrong type or missing is refused, not defaulted.
+    let mut bad = serde_json::to_value(&curve).unwrap();
+    bad["points"][0]["used_in_fit"] = serde_json::json!(1.0);
+    assert!(engine::ptc::curve_series_from_json(&bad).is_none());
+    let mut bad = serde_json::to_value(&spatial).unwrap();
+    bad[0].as_object_mut().unwrap().remove("points");
+    assert!(engine::ptc::spatial_series_from_json(&bad).is_none());
+}
+
 #[test]
 fn recovers_a_camera_from_an_exposure_series_clipped_by_its_adc() {
     // The test's chosen truth: a 12-bit camera whose ADC clips (at 4095 DN) before the full

@@ -231,7 +231,10 @@ pub fn to_csv(names: &[&str], reports: &[&Report]) -> String {
     let mut out = crate::sweep::csv_row(&header);
     for row in rows(reports) {
         let mut fields: Vec<String> = vec![row.key.into(), row.label.into(), row.unit.into()];
-        let num = |v: Option<f64>| v.map(|x| format!("{x}")).unwrap_or_default();
+        let num = |v: Option<f64>| {
+            v.map(|x| crate::decimal::Plain(x).to_string())
+                .unwrap_or_default()
+        };
         fields.extend(row.values.iter().map(|v| num(*v)));
         for i in 1..row.values.len() {
             fields.push(num(row.differences.get(i).copied().flatten()));

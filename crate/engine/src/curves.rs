@@ -183,8 +183,9 @@ pub fn view_sweep(base: &Value, view: View, points: u32) -> Result<Sweep, Scenar
         return Err(ScenarioError::from_problems(vec![Problem {
             path: req.key.clone(),
             message: format!(
-                "a {} view needs a range of values the calculator accepts around {anchor}",
-                view.as_str()
+                "a {} view needs a range of values the calculator accepts around {}",
+                view.as_str(),
+                crate::decimal::Plain(anchor)
             ),
         }]));
     }

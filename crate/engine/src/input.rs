@@ -757,9 +757,9 @@ pub(crate) fn show_value(v: &Value) -> String {
 pub(crate) fn show(x: f64) -> String {
     let a = x.abs();
     if a != 0.0 && !(1e-4..1e6).contains(&a) {
-        format!("{x:e}")
+        crate::decimal::Exp(x).to_string()
     } else {
-        format!("{x}")
+        crate::decimal::Plain(x).to_string()
     }
 }
 

@@ -676,12 +676,12 @@ fn sig(x: f64) -> String {
         return "0".into();
     }
     if !(1e-3..1e6).contains(&a) {
-        return format!("{x:.3e}");
+        return crate::decimal::ExpFixed(x, 3).to_string();
     }
     // OK because a is within [1e-3, 1e6): the digit count is between 0 and 6.
     #[allow(clippy::cast_possible_truncation, clippy::cast_sign_loss)]
     let decimals = (3.0 - a.log10().floor()).max(0.0) as usize;
-    let text = format!("{x:.decimals$}");
+    let text = crate::decimal::Fixed(x, decimals).to_string();
     if text.contains('.') {
         text.trim_end_matches('0').trim_end_matches('.').to_string()
     } else {

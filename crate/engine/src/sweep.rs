@@ -6,6 +6,7 @@
 //! not 1000 validations. Also the regime boundaries of the SNR-against-signal view, and CSV
 //! text (RFC 4180). No I/O and no plotting here.
 
+use crate::decimal::Plain;
 use serde::Serialize;
 use serde_json::Value;
 
@@ -145,13 +146,13 @@ fn run(base: &Value, request: &SweepRequest, figures: Figures) -> Result<Sweep, 
     if !request.from.is_finite() {
         problems.push(problem(
             "sweep.from",
-            format!("must be a finite number, got {}", request.from),
+            format!("must be a finite number, got {}", Plain(request.from)),
         ));
     }
     if !request.to.is_finite() {
         problems.push(problem(
             "sweep.to",
-            format!("must be a finite number, got {}", request.to),
+            format!("must be a finite number, got {}", Plain(request.to)),
         ));
     }
     if request.spacing == Spacing::Log && !(request.from > 0.0 && request.to > 0.0) {
@@ -159,7 +160,8 @@ fn run(base: &Value, request: &SweepRequest, figures: Figures) -> Result<Sweep, 
             "sweep.from",
             format!(
                 "log spacing needs both ends > 0, got {} and {}",
-                request.from, request.to
+                Plain(request.from),
+                Plain(request.to)
             ),
         ));
     }
@@ -188,7 +190,7 @@ fn run(base: &Value, request: &SweepRequest, figures: Figures) -> Result<Sweep, 
             problems.extend(
                 e.problems()
                     .iter()
-                    .map(|p| problem(end, format!("at {value}: {p}"))),
+                    .map(|p| problem(end, format!("at {}: {p}", Plain(value)))),
             );
         }
     }
@@ -199,7 +201,8 @@ fn run(base: &Value, request: &SweepRequest, figures: Figures) -> Result<Sweep, 
             "sweep.from",
             format!(
                 "detection.contrast must not be 0, so a sweep of it may not cross 0: got {} to {}; sweep each sign on its own",
-                request.from, request.to
+                Plain(request.from),
+                Plain(request.to)
             ),
         ));
     }
@@ -461,7 +464,7 @@ pub(crate) fn csv_row(fields: &[String]) -> String {
 }
 
 fn number(x: f64) -> String {
-    format!("{x}")
+    crate::decimal::Plain(x).to_string()
 }
 
 fn problem(path: &str, message: String) -> Problem {

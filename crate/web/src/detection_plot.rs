@@ -57,7 +57,8 @@ pub fn chart(report: &Report, frames: u32) -> Option<Chart> {
         id: "svg-detection".into(),
         title: "Output charge: dark only and with the signal".into(),
         desc: format!(
-            "The distribution of one output pixel's charge with dark charge only and with this scenario's signal added (Poisson counts plus Gaussian read noise), against the charge on a linear axis. Shaded: above the threshold of {threshold:.4} e⁻, where a pixel is declared a signal.{}",
+            "The distribution of one output pixel's charge with dark charge only and with this scenario's signal added (Poisson counts plus Gaussian read noise), against the charge on a linear axis. Shaded: above the threshold of {} e⁻, where a pixel is declared a signal.{}",
+            engine::decimal::Fixed(threshold, 4),
             if dist.peaks_resolved && !dist.discrete {
                 " The read noise is low enough for single electrons to show as separate peaks."
             } else {
@@ -102,7 +103,8 @@ pub fn show(scenario: &engine::Scenario, report: &Report) {
         let markup = chart(report, scenario.exposure().frames_averaged).map_or_else(
             || {
                 format!(
-                    "<p class=\"hint\">No plot of the charge: above {MAX_MEAN_E} e⁻ of mean charge the counts are close to Gaussian, and the exact and Gaussian figures above agree.</p>"
+                    "<p class=\"hint\">No plot of the charge: above {} e⁻ of mean charge the counts are close to Gaussian, and the exact and Gaussian figures above agree.</p>",
+                    engine::decimal::Plain(MAX_MEAN_E)
                 )
             },
             |c| c.svg(),

@@ -63,11 +63,11 @@ impl Numbers for Browser {
     }
 }
 
-/// The shortest decimal digits that read back as |x| (Rust's `{:e}`: the digits JavaScript's
+/// The shortest decimal digits that read back as |x| (`{:e}`: the digits JavaScript's
 /// `Number.prototype.toString` and ICU's number formatting start from) and the decimal exponent
 /// of the first digit: |x| = d₀.d₁d₂… × 10^exp.
 fn shortest_digits(x: f64) -> (Vec<u8>, i32) {
-    let text = format!("{:e}", x.abs());
+    let text = engine::decimal::Exp(x.abs()).to_string();
     let (mantissa, exponent) = text.split_once('e').unwrap_or((&text, "0"));
     let digits = mantissa
         .bytes()

@@ -43,7 +43,7 @@ fn rounded(v: f64, limit: f64) -> i64 {
     }
     // OK: a saturating cast of a value clamped to ±limit, far inside i64.
     #[allow(clippy::cast_possible_truncation)]
-    let r = v.clamp(-limit, limit).round() as i64;
+    let r = v.max(-limit).min(limit).round() as i64;
     r
 }
 
@@ -332,7 +332,7 @@ pub fn eng(v: f64, unit: &str) -> String {
     // OK to truncate: 0..=2.
     #[allow(clippy::cast_possible_truncation, clippy::cast_sign_loss)]
     let decimals = (3.0 - int_digits).clamp(0.0, 2.0) as usize;
-    let mut text = format!("{m:.decimals$}");
+    let mut text = engine::decimal::Fixed(m, decimals).to_string();
     if text.contains('.') {
         text = text.trim_end_matches('0').trim_end_matches('.').to_string();
     }

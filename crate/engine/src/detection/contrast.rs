@@ -224,8 +224,10 @@ fn lower_orthant_on(v0: f64, alpha: f64, beta: f64, panel: f64) -> f64 {
     // The transition of the inner Φ, clipped to [start, v0].
     let centre = -beta / alpha;
     let half = TRANSITION / alpha.abs();
-    let t_lo = (centre - half).clamp(start, v0);
-    let t_hi = (centre + half).clamp(start, v0);
+    // max then min, not f64::clamp: its check of the bounds would link a message that writes
+    // them, and with it core's float formatting (crate::decimal); start < v0 here.
+    let t_lo = (centre - half).max(start).min(v0);
+    let t_hi = (centre + half).max(start).min(v0);
     let mut sum = 0.0;
     // Where the inner Φ is ≈ 1 (αv + β > 9.5): ∫ φ in closed form.
     if alpha > 0.0 {

@@ -144,7 +144,7 @@ pub fn number(x: f64) -> String {
     if x < 0.0 {
         return format!("−{}", number(-x));
     }
-    let e = format!("{x:e}");
+    let e = crate::decimal::Exp(x).to_string();
     if let Some(("1", exp)) = e.split_once('e') {
         if let Ok(p) = exp.parse::<i32>() {
             if p >= 6 || p <= -4 {
@@ -152,7 +152,7 @@ pub fn number(x: f64) -> String {
             }
         }
     }
-    let plain = format!("{x}");
+    let plain = crate::decimal::Plain(x).to_string();
     if x >= 10_000.0 && x.fract() == 0.0 {
         let digits: Vec<char> = plain.chars().collect();
         let mut out = String::new();

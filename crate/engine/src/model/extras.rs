@@ -272,9 +272,9 @@ pub(super) fn add_hdr(
                 WarningCode::HdrDeepDip,
                 &["hdr.transitions"],
                 format!(
-                    "The SNR falls by {:.1} dB where the output switches from readout {} to \
+                    "The SNR falls by {} dB where the output switches from readout {} to \
                      readout {}: details near that light level are noisier than below it.",
-                    t.dip_db,
+                    crate::decimal::Fixed(t.dip_db, 1),
                     t.from + 1,
                     t.to + 1
                 ),

@@ -57,6 +57,51 @@ pub struct CurveSeries {
 /// let s = 1000.0_f64;
 /// assert!(((4.0 + 0.5 * s).sqrt() - 504f64.sqrt()).abs() < 1e-12);
 /// ```
+/// Read from JSON (pairs as two-element lists) without serde's derived `Deserialize`, the page's
+/// reading of the worker's answer: in the wasm a derived deserializer links the error text of a
+/// float where none was expected, and with it core's float formatting (crate::decimal).
+/// `None` where any field is missing or of the wrong type.
+#[must_use]
+pub fn curve_series_from_json(v: &serde_json::Value) -> Option<CurveSeries> {
+    use serde_json::Value;
+    let num = |v: &Value, k: &str| v.get(k).and_then(Value::as_f64);
+    let points = v
+        .get("points")?
+        .as_array()?
+        .iter()
+        .map(|p| {
+            Some(CurvePoint {
+                signal_dn: num(p, "signal_dn")?,
+                noise_dn: num(p, "noise_dn")?,
+                variance_above_dark_dn2: num(p, "variance_above_dark_dn2")?,
+                variance_uncertainty_dn2: num(p, "variance_uncertainty_dn2")?,
+                used_in_fit: p.get("used_in_fit")?.as_bool()?,
+                residual_dn2: match p.get("residual_dn2") {
+                    None | Some(Value::Null) => None,
+                    Some(r) => Some(r.as_f64()?),
+                },
+            })
+        })
+        .collect::<Option<Vec<_>>>()?;
+    Some(CurveSeries {
+        points,
+        dark_noise_dn: num(v, "dark_noise_dn")?,
+        model: pairs_from_json(v.get("model")?)?,
+        fit_line: pairs_from_json(v.get("fit_line")?)?,
+    })
+}
+
+/// A list of [x, y] number pairs, as serde writes `Vec<(f64, f64)>`.
+pub(crate) fn pairs_from_json(v: &serde_json::Value) -> Option<Vec<(f64, f64)>> {
+    v.as_array()?
+        .iter()
+        .map(|p| match p.as_array()?.as_slice() {
+            [x, y] => Some((x.as_f64()?, y.as_f64()?)),
+            _ => None,
+        })
+        .collect()
+}
+
 #[must_use]
 pub fn curve_series(c: &Characterization, samples: usize) -> CurveSeries {
     curve_series_of_fit(&c.fit, samples)

@@ -28,6 +28,26 @@ pub struct SpatialSeries {
     pub points: Vec<(f64, f64)>,
 }
 
+/// Read a list of series from JSON without serde's derived `Deserialize` (see
+/// [`super::curve_series_from_json`]); `None` where any field is missing or of the wrong type.
+#[must_use]
+pub fn spatial_series_from_json(v: &serde_json::Value) -> Option<Vec<SpatialSeries>> {
+    let text = |s: &serde_json::Value, k: &str| s.get(k)?.as_str().map(str::to_string);
+    v.as_array()?
+        .iter()
+        .map(|s| {
+            Some(SpatialSeries {
+                channel: text(s, "channel")?,
+                image: text(s, "image")?,
+                series: text(s, "series")?,
+                x_label: text(s, "x_label")?,
+                value_label: text(s, "value_label")?,
+                points: super::curve::pairs_from_json(s.get("points")?)?,
+            })
+        })
+        .collect()
+}
+
 fn profile(v: &[f64]) -> Vec<(f64, f64)> {
     v.iter().enumerate().map(|(i, m)| (i as f64, *m)).collect()
 }
@@ -163,10 +183,12 @@ pub fn spatial_csv(c: &Characterization) -> String {
         for (x, v) in &s.points {
             let _ = write!(
                 o,
-                "{},{},{},{x},{v},{tail}\r\n",
+                "{},{},{},{},{},{tail}\r\n",
                 quote(&s.channel),
                 quote(&s.image),
-                quote(&s.series)
+                quote(&s.series),
+                crate::decimal::Plain(*x),
+                crate::decimal::Plain(*v)
             );
         }
     }

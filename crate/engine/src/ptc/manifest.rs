@@ -212,7 +212,11 @@ pub fn parse_manifest(text: &str) -> Result<Manifest, Vec<Problem>> {
 }
 
 fn stack_name(f: &FrameEntry) -> String {
-    let mut s = format!("{} at {} s", f.kind.as_str(), f.exposure_time_s);
+    let mut s = format!(
+        "{} at {} s",
+        f.kind.as_str(),
+        crate::decimal::Plain(f.exposure_time_s)
+    );
     if let Some(l) = &f.level {
         let _ = write!(s, ", level \"{l}\"");
     }

@@ -37,9 +37,11 @@ pub use analysis::{
     DEFECT_RULE, GAIN_FIT_MAX_FRACTION, LINEARITY_FIT, LINEARITY_RANGE_FRACTION, PRNU_FRACTION,
 };
 pub use cfa::{Cfa, CFA_NAMES, CHANNEL_NAMES};
-pub use curve::{curve_series, curve_series_of_fit, CurvePoint, CurveSeries};
+pub use curve::{
+    curve_series, curve_series_from_json, curve_series_of_fit, CurvePoint, CurveSeries,
+};
 pub use depth::{sample_depth, DepthContradiction, DepthSource, SampleDepth};
-pub use export::{spatial_csv, spatial_series, SpatialSeries};
+pub use export::{spatial_csv, spatial_series, spatial_series_from_json, SpatialSeries};
 pub use figures::Figure;
 pub use fit::{fit_line, fit_line_weighted, LineFit};
 pub use formulas::{

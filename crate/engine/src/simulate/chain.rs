@@ -98,7 +98,10 @@ impl Readout {
         };
         (self.black_level_dn + self.gain_dn_per_e * e + 0.5)
             .floor()
-            .clamp(0.0, self.full_scale_dn)
+            // max then min, not f64::clamp, whose check of its bounds links core's float
+            // formatting into the wasm (crate::decimal); the same value for a finite sample.
+            .max(0.0)
+            .min(self.full_scale_dn)
     }
 }
 

@@ -244,7 +244,7 @@ pub(crate) fn simulate(sc: &Scenario, seed: u64, size: FrameSize) -> SceneFrame 
             format!(
                 "PRNU of {} % makes some pixels' gain 1 + p·z negative; they are simulated with \
                  zero gain, so the frame's PRNU is a little below the model's",
-                sc.sensor.prnu_percent
+                crate::decimal::Plain(sc.sensor.prnu_percent)
             ),
         ));
     }
@@ -254,9 +254,10 @@ pub(crate) fn simulate(sc: &Scenario, seed: u64, size: FrameSize) -> SceneFrame 
         cautions.push(Caution::new(
             "quantization_regime",
             format!(
-                "one read's noise is {read_dn:.3} DN, below half a DN: quantization is not the \
+                "one read's noise is {} DN, below half a DN: quantization is not the \
                  1/12 DN² the model assumes, so dim patches' measured SNR can differ from the \
-                 model's (the frame shows the real rounding)"
+                 model's (the frame shows the real rounding)",
+                crate::decimal::Fixed(read_dn, 3)
             ),
         ));
     }

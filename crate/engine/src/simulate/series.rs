@@ -21,6 +21,7 @@
 //! Frame i of the series takes its temporal noise from stream i; all frames share the seed's
 //! PRNU and DSNU maps (the same as a test-scene frame of that seed at binning 1).
 
+use crate::decimal::Plain;
 use std::fmt::Write as _;
 
 use serde::Serialize;
@@ -160,8 +161,10 @@ pub(crate) fn plan(sc: &Scenario, seed: u64, size: FrameSize) -> Result<SeriesPl
             "exposure_shortened",
             format!(
                 "dark charge would fill more than {} % of the pixel at the scenario's exposure \
-                 of {t_scenario} s: the series' longest flat exposure is {t} s instead",
-                MAX_DARK_FILL_AT_LONGEST_FLAT * 100.0
+                 of {} s: the series' longest flat exposure is {} s instead",
+                Plain(MAX_DARK_FILL_AT_LONGEST_FLAT * 100.0),
+                Plain(t_scenario),
+                Plain(t)
             ),
         ));
         t
@@ -221,7 +224,8 @@ pub(crate) fn plan(sc: &Scenario, seed: u64, size: FrameSize) -> Result<SeriesPl
             format!(
                 "the black level of {} DN is less than 3 times the dark noise ({} DN rms): dark \
                  frames clip at 0 DN, so the measured dark level, read noise and DSNU are biased",
-                sc.sensor.black_level_dn, dark_noise_dn
+                Plain(sc.sensor.black_level_dn),
+                Plain(dark_noise_dn)
             ),
         ));
     }
@@ -374,7 +378,7 @@ impl SeriesPlan {
 /// A binary PGM: `P5`, width, height, maxval, then samples (one byte each below 256, else two,
 /// most significant first; Netpbm's pgm manual page, from memory).
 fn pgm(width: u32, height: u32, maxval: f64, samples: &[u16]) -> Vec<u8> {
-    let mut out = format!("P5\n{width} {height}\n{maxval}\n").into_bytes();
+    let mut out = format!("P5\n{width} {height}\n{}\n", Plain(maxval)).into_bytes();
     if maxval < 256.0 {
         // OK because every sample is ≤ maxval < 256.
         #[allow(clippy::cast_possible_truncation)]

@@ -193,8 +193,9 @@ pub fn scenario_from_value(v: &Value) -> Result<Scenario, ScenarioError> {
                 p.push(
                     "sensor.dark_current_reference_c",
                     format!(
-                        "the band-gap law would multiply the dark current by more than 2^{MAX_DOUBLINGS} \
-                         between sensor.dark_current_reference_c and temperature_c (this calculator's limit)"
+                        "the band-gap law would multiply the dark current by more than 2^{} \
+                         between sensor.dark_current_reference_c and temperature_c (this calculator's limit)",
+                        show(MAX_DOUBLINGS)
                     ),
                 );
             }
@@ -209,8 +210,9 @@ pub fn scenario_from_value(v: &Value) -> Result<Scenario, ScenarioError> {
                 "sensor.dark_current_doubling_c",
                 format!(
                     "the dark current would double {} times between sensor.dark_current_reference_c \
-                     and temperature_c; at most {MAX_DOUBLINGS} (this calculator's limit)",
-                    show(doublings)
+                     and temperature_c; at most {} (this calculator's limit)",
+                    show(doublings),
+                    show(MAX_DOUBLINGS)
                 ),
             );
         }

@@ -4,7 +4,7 @@
 
 use std::fmt::Write as _;
 
-use engine::ptc::{CurveSeries, SpatialSeries};
+use engine::ptc::SpatialSeries;
 use serde_json::Value;
 use wasm_bindgen::JsCast;
 use web_sys::{Element, Event, HtmlInputElement, HtmlSelectElement};
@@ -283,7 +283,7 @@ pub(super) fn show_result(r: &Value) {
     }
     let series = r
         .get("series")
-        .and_then(|s| serde_json::from_value::<CurveSeries>(s.clone()).ok());
+        .and_then(engine::ptc::curve_series_from_json);
     let k = num(r, "/sensor/system_gain_dn_per_e").unwrap_or(0.0);
     if let Some(series) = series {
         if let Some(el) = dom::by_id("measure-ptc") {
@@ -296,7 +296,7 @@ pub(super) fn show_result(r: &Value) {
     if let Some(el) = dom::by_id("measure-spatial") {
         let spatial: Vec<SpatialSeries> = r
             .get("spatial")
-            .and_then(|s| serde_json::from_value(s.clone()).ok())
+            .and_then(engine::ptc::spatial_series_from_json)
             .unwrap_or_default();
         el.set_inner_html(&frames_plot::spatial_svgs(&spatial));
     }

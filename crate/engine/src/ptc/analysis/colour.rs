@@ -3,6 +3,7 @@
 
 use super::super::stack::{FrameKind, StackStats};
 use super::{same_time, ChannelResult, ColourSummary, Diagnostic, FitReport, Single};
+use crate::decimal::Fixed;
 
 /// The flat level the green channels' PRNU used: its mean above dark per phase.
 fn level_means(native: &[StackStats], fit: &FitReport) -> Option<([f64; 4], [f64; 4], u64)> {
@@ -87,16 +88,16 @@ pub(super) fn cfa_pattern_suspected(native: &[StackStats], one: &Single) -> Opti
         Diagnostic {
             code: "cfa_pattern_suspected",
             message: format!(
-                "the flat's 2×2 cells repeat a pattern of {:.1} % rms (the four positions at \
-                 {:.3}, {:.3}, {:.3}, {:.3} of their mean), well above the remaining PRNU of \
-                 {:.2} %: a colour sensor? State \"cfa\" (RGGB, BGGR, GRBG or GBRG) in the \
+                "the flat's 2×2 cells repeat a pattern of {} % rms (the four positions at \
+                 {}, {}, {}, {} of their mean), well above the remaining PRNU of \
+                 {} %: a colour sensor? State \"cfa\" (RGGB, BGGR, GRBG or GBRG) in the \
                  manifest to analyse each channel",
-                periodic * 100.0,
-                above[0] / mean,
-                above[1] / mean,
-                above[2] / mean,
-                above[3] / mean,
-                rest * 100.0
+                Fixed(periodic * 100.0, 1),
+                Fixed(above[0] / mean, 3),
+                Fixed(above[1] / mean, 3),
+                Fixed(above[2] / mean, 3),
+                Fixed(above[3] / mean, 3),
+                Fixed(rest * 100.0, 2)
             ),
         }
     })

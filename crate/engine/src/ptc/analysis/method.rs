@@ -17,6 +17,7 @@ use super::{
     Single, GAIN_FIT_MAX_FRACTION, LINEARITY_RANGE_FRACTION, PRNU_FRACTION,
     PRNU_FRACTION_TOLERANCE,
 };
+use crate::decimal::{Fixed, Plain};
 
 /// The independent variable of the linearity fit: its name and how to read it from a stack.
 type Abscissa = (&'static str, fn(&StackStats) -> f64);
@@ -93,7 +94,8 @@ pub(super) fn analyse_one(stacks: &[StackStats]) -> Result<Single, AnalysisError
             format!(
                 "no dark stack at {} s (a flat's exposure time) and too few dark exposure times \
                  to interpolate: the dark at {} s was used",
-                p.s.spec.exposure_time_s, p.dark.exposure_time_s
+                Plain(p.s.spec.exposure_time_s),
+                Plain(p.dark.exposure_time_s)
             ),
         );
     }
@@ -210,7 +212,7 @@ pub(super) fn analyse_one(stacks: &[StackStats]) -> Result<Single, AnalysisError
                 format!(
                     "the dark mean falls with exposure time ({} e⁻/s): dark current is below \
                      what these frames resolve and is not reported",
-                    d.value_e_per_s
+                    Plain(d.value_e_per_s)
                 ),
             );
         }
@@ -231,9 +233,11 @@ pub(super) fn analyse_one(stacks: &[StackStats]) -> Result<Single, AnalysisError
             &mut diagnostics,
             "read_noise_upper_bound",
             format!(
-                "the dark temporal variance {v0:.4} DN² is below {SMALL_DARK_VARIANCE_DN2} DN²: \
+                "the dark temporal variance {} DN² is below {} DN²: \
                  quantization dominates and only the bound read noise < 0.40/K is reported \
-                 (EMVA 1288)"
+                 (EMVA 1288)",
+                Fixed(v0, 4),
+                Plain(SMALL_DARK_VARIANCE_DN2)
             ),
         );
         ReadNoiseFit {
@@ -299,9 +303,11 @@ pub(super) fn analyse_one(stacks: &[StackStats]) -> Result<Single, AnalysisError
             &mut diagnostics,
             "dsnu_not_resolved",
             format!(
-                "the dark spatial variance with the temporal part removed is {dark_s2:.4} ± \
-                 {dark_u2:.4} DN²: DSNU is below what these frames resolve (average more dark \
-                 frames) and is not reported"
+                "the dark spatial variance with the temporal part removed is {} ± \
+                 {} DN²: DSNU is below what these frames resolve (average more dark \
+                 frames) and is not reported",
+                Fixed(dark_s2, 4),
+                Fixed(dark_u2, 4)
             ),
         );
         None
@@ -338,9 +344,9 @@ pub(super) fn analyse_one(stacks: &[StackStats]) -> Result<Single, AnalysisError
                     &mut diagnostics,
                     "prnu_level_far_from_half",
                     format!(
-                        "PRNU was measured at {:.0} % of {}, the level closest to the 50 % the \
+                        "PRNU was measured at {} % of {}, the level closest to the 50 % the \
                          standard asks for",
-                        fraction * 100.0,
+                        Fixed(fraction * 100.0, 0),
                         if found {
                             "saturation"
                         } else {
@@ -363,9 +369,11 @@ pub(super) fn analyse_one(stacks: &[StackStats]) -> Result<Single, AnalysisError
                     &mut diagnostics,
                     "prnu_not_resolved",
                     format!(
-                        "the flat spatial variance exceeds the dark one by {excess:.4} ± \
-                         {u_excess:.4} DN²: PRNU is below what these frames resolve and is not \
-                         reported"
+                        "the flat spatial variance exceeds the dark one by {} ± \
+                         {} DN²: PRNU is below what these frames resolve and is not \
+                         reported",
+                        Fixed(excess, 4),
+                        Fixed(u_excess, 4)
                     ),
                 );
                 None
@@ -468,7 +476,7 @@ pub(super) fn analyse_one(stacks: &[StackStats]) -> Result<Single, AnalysisError
                 format!(
                     "the quantum efficiency comes out as {}, outside (0, 1]: check the photons \
                      per pixel; it is not reported",
-                    r.quantum_efficiency
+                    Plain(r.quantum_efficiency)
                 ),
             );
         }

@@ -142,7 +142,7 @@ impl fmt::Display for AnalysisError {
                 f,
                 "only {found} flat level(s) lie below {} % of saturation: the gain fit needs two \
                  or more; take levels at lower light",
-                GAIN_FIT_MAX_FRACTION * 100.0
+                crate::decimal::Plain(GAIN_FIT_MAX_FRACTION * 100.0)
             ),
             AnalysisError::GainFitFailed => write!(
                 f,
@@ -156,8 +156,9 @@ impl fmt::Display for AnalysisError {
             AnalysisError::Channel { name, error } => write!(f, "channel {name}: {error}"),
             AnalysisError::GainNotPositive { slope } => write!(
                 f,
-                "the fitted system gain is {slope} DN/e⁻, not positive: the flat frames do not \
-                 follow the photon transfer line (check that flats and darks are not swapped)"
+                "the fitted system gain is {} DN/e⁻, not positive: the flat frames do not \
+                 follow the photon transfer line (check that flats and darks are not swapped)",
+                crate::decimal::Plain(*slope)
             ),
         }
     }
