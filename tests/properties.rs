@@ -224,13 +224,13 @@ fn every_number(r: &Report) -> Vec<(&'static str, f64)> {
         r.min_detectable
             .light_units
             .values()
-            .map(|x| ("min_detectable.light_units", *x)),
+            .map(|x| ("min_detectable.light_units", x)),
     );
     v.extend(
         r.saturation
             .light_units
             .values()
-            .map(|x| ("saturation.light_units", *x)),
+            .map(|x| ("saturation.light_units", x)),
     );
     for (name, n) in [
         ("noise_e", Some(r.noise_e)),

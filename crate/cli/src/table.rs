@@ -401,12 +401,12 @@ fn counting_words(v: engine::detection::counting::CountingVerdict) -> &'static s
 
 /// Values in the units the light was given in, each with the quantity's words and unit from the
 /// key catalogue, e.g. "0.02 lx (illuminance at the sensor), 0.8 lx (illuminance on the scene)".
-fn units_line(units: &std::collections::BTreeMap<&'static str, f64>) -> String {
+fn units_line(units: &engine::report::LightUnits) -> String {
     units
         .iter()
         .map(|(k, v)| match keys::find(&format!("light.{k}")) {
-            Some(key) => format!("{} {} ({})", num(*v), key.unit.shown, key.quantity),
-            None => format!("{k} {}", num(*v)),
+            Some(key) => format!("{} {} ({})", num(v), key.unit.shown, key.quantity),
+            None => format!("{k} {}", num(v)),
         })
         .collect::<Vec<_>>()
         .join(", ")

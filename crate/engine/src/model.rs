@@ -10,7 +10,6 @@ use crate::report::{
     Warning, WarningCode,
 };
 use crate::roots::positive_root;
-use std::collections::BTreeMap;
 
 use crate::light::{self, ResolvedLight, Response};
 use crate::output_noise::OutputNoise;
@@ -342,7 +341,7 @@ pub(crate) fn pixel(
     // Background charge occupies the well like dark charge (both zero-free in version 1).
     let capacity = L - d - bg;
     let per_unit_photons = |unit: f64| unit * pitch2 * t;
-    let in_units = |photons_per_pixel: f64| -> BTreeMap<&'static str, f64> {
+    let in_units = |photons_per_pixel: f64| -> crate::report::LightUnits {
         light
             .units
             .iter()
@@ -359,7 +358,7 @@ pub(crate) fn pixel(
         light_units: if capacity > 0.0 {
             in_units(capacity / eta)
         } else {
-            BTreeMap::new()
+            crate::report::LightUnits::new()
         },
     };
 

@@ -239,7 +239,7 @@ pub(super) fn add_hdr(
             light_units: md
                 .light_units
                 .iter()
-                .map(|(k, v)| (*k, v * per_electron(t.level_e)))
+                .map(|(k, v)| (k, v * per_electron(t.level_e)))
                 .collect(),
             snr_below_db: db(t.snr_below),
             snr_above_db: db(t.snr_above),
