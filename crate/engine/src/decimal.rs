@@ -163,6 +163,20 @@ impl Digits {
     }
 }
 
+/// The shortest decimal digits that read back as |x| (finite), most significant first, and the
+/// decimal exponent of the first: |x| = d₀.d₁d₂… × 10^exp, the digits and exponent `{:e}`
+/// writes (zero is `[0]`, 0). For a caller that rounds and lays out digits itself, without
+/// going through text (the page's figures, crate/web's display).
+#[must_use]
+pub fn shortest_digits(x: f64) -> (Vec<u8>, i32) {
+    let d = Digits::of(x);
+    if d.digits.is_empty() {
+        (vec![0], 0)
+    } else {
+        (d.digits, d.point - 1)
+    }
+}
+
 /// The text of a value that is not finite, as Rust writes it, or `None`.
 fn not_finite(x: f64) -> Option<&'static str> {
     if x.is_nan() {
@@ -328,6 +342,25 @@ mod tests {
         assert_eq!(ExpFixed(9.995, 2).to_string(), "1.00e1");
         assert_eq!(Fixed(0.0004, 3).to_string(), "0.000");
         assert_eq!(Fixed(-0.0004, 3).to_string(), "-0.000");
+    }
+
+    #[test]
+    #[allow(clippy::unwrap_used)] // test code
+    fn shortest_digits_are_those_std_writes_with_an_exponent() {
+        for x in values().into_iter().filter(|x| x.is_finite()) {
+            let e = format!("{:e}", x.abs());
+            let (mantissa, exponent) = e.split_once('e').unwrap();
+            let want: Vec<u8> = mantissa
+                .bytes()
+                .filter(u8::is_ascii_digit)
+                .map(|b| b - b'0')
+                .collect();
+            assert_eq!(
+                super::shortest_digits(x),
+                (want, exponent.parse().unwrap()),
+                "{e}"
+            );
+        }
     }
 
     #[test]

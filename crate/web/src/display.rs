@@ -63,20 +63,6 @@ impl Numbers for Browser {
     }
 }
 
-/// The shortest decimal digits that read back as |x| (`{:e}`: the digits JavaScript's
-/// `Number.prototype.toString` and ICU's number formatting start from) and the decimal exponent
-/// of the first digit: |x| = d₀.d₁d₂… × 10^exp.
-fn shortest_digits(x: f64) -> (Vec<u8>, i32) {
-    let text = engine::decimal::Exp(x.abs()).to_string();
-    let (mantissa, exponent) = text.split_once('e').unwrap_or((&text, "0"));
-    let digits = mantissa
-        .bytes()
-        .filter(u8::is_ascii_digit)
-        .map(|b| b - b'0')
-        .collect();
-    (digits, exponent.parse().unwrap_or(0))
-}
-
 /// `digits` × 10^exp rounded to at most `n` significant digits, half away from zero on those
 /// decimal digits (ICU's default rounding mode, halfExpand, which `Intl.NumberFormat` applies to
 /// the shortest decimal form: 1.0005 becomes 1.001), trailing zeros dropped.
@@ -156,7 +142,9 @@ pub fn rounded(x: f64, style: Style) -> String {
     if x.is_infinite() {
         return format!("{sign}∞");
     }
-    let (digits, exp) = shortest_digits(x);
+    // The shortest digits of |x|, the ones JavaScript's `Number.prototype.toString` and ICU's
+    // number formatting start from.
+    let (digits, exp) = engine::decimal::shortest_digits(x);
     match style {
         Style::Percent => {
             let shift = if x == 0.0 { 0 } else { 2 };
