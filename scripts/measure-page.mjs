@@ -2,10 +2,11 @@
 // Measure the built page (a measurement for the issue's closing note, not a test: nothing here
 // passes or fails). Reports the single file's and the wasm's sizes (dist/sizes.json), the time
 // from navigation to the first result shown next to an empty static page's load in the same
-// browser run, the time an edit takes to update the results, over 200 edits, and the time the
+// browser run (and next to the load of the page's own HTML and style without its script: the
+// floor under the first result that no engine design removes), the time an edit takes to update the results, over 200 edits, and the time the
 // curves take to be computed and redrawn with 1000 points each.
 // Usage: node scripts/measure-page.mjs [dist]   (after scripts/build-page)
-import { mkdtempSync, readFileSync, writeFileSync, mkdirSync } from 'node:fs';
+import { copyFileSync, mkdtempSync, readdirSync, readFileSync, writeFileSync, mkdirSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join, resolve } from 'node:path';
 import { pathToFileURL } from 'node:url';
@@ -21,8 +22,20 @@ const emptyDir = mkdtempSync(join(tmpdir(), 'noise-budget-empty-'));
 writeFileSync(join(emptyDir, 'index.html'),
   '<!doctype html><html lang="en"><head><meta charset="utf-8"><link rel="icon" href="data:,"><title>empty</title></head><body><p>empty</p></body></html>');
 
+// The page's own HTML and style without its script (served, and the single file from file://):
+// what the browser takes to load and lay out the page before any of the calculator runs, the
+// floor under the first result for this page.
+const bareDir = mkdtempSync(join(tmpdir(), 'noise-budget-bare-'));
+const noScript = (html) => html.replace(/<script\b[^>]*>[\s\S]*?<\/script>/g, '');
+for (const f of readdirSync(dist)) {
+  if (f.endsWith('.css')) copyFileSync(join(dist, f), join(bareDir, f));
+}
+writeFileSync(join(bareDir, 'index.html'), noScript(readFileSync(join(dist, 'index.html'), 'utf8')));
+writeFileSync(join(bareDir, 'noise-budget.html'), noScript(readFileSync(join(dist, 'noise-budget.html'), 'utf8')));
+
 const page$ = await serveStatic(dist, 0);
 const empty$ = await serveStatic(emptyDir, 0);
+const bare$ = await serveStatic(bareDir, 0);
 const browser = await chromium.launch({
   executablePath: '/usr/bin/chromium', headless: true,
   args: ['--no-sandbox', '--disable-gpu', '--disable-background-networking', '--disable-component-update',
@@ -101,8 +114,12 @@ async function loadTimes(url, firstResult) {
 const empty = [];
 const served = [];
 const single = [];
+const bareServed = [];
+const bareSingle = [];
 for (let round = 0; round < 3; round++) {
   empty.push(...await loadTimes(`${empty$.origin}/`, false));
+  bareServed.push(...await loadTimes(`${bare$.origin}/`, false));
+  bareSingle.push(...await loadTimes(pathToFileURL(join(bareDir, 'noise-budget.html')).href, false));
   served.push(...await loadTimes(`${page$.origin}/`, true));
   single.push(...await loadTimes(pathToFileURL(join(dist, 'noise-budget.html')).href, true));
 }
@@ -178,6 +195,7 @@ await ctx.close();
 await browser.close();
 page$.server.close();
 empty$.server.close();
+bare$.server.close();
 
 const ms = (x) => `${x.toFixed(1)} ms`;
 const kb = (n) => `${(n / 1024).toFixed(1)} KiB (${n} B)`;
@@ -185,6 +203,7 @@ const result = {
   sizes,
   navigation_to_first_result_ms: { served_median: median(served), single_file_median: median(single), runs: served.length },
   empty_static_page_load_ms: { median: median(empty), runs: empty.length },
+  page_without_its_script_load_ms: { served_median: median(bareServed), single_file_median: median(bareSingle), runs: bareServed.length },
   edit_to_updated_results_ms: {
     edits: EDITS, results_followed: edits.changed,
     script_median: median(edits.script), script_p95: pct(edits.script, 0.95),
@@ -209,6 +228,12 @@ if (sizes.single_file_wasm) console.log(`single's wasm ${kb(sizes.single_file_wa
 console.log(`first result  served ${ms(median(served))}, single file ${ms(median(single))} (median of ${served.length}); ` +
   `empty static page load ${ms(median(empty))} (median of ${empty.length}); ` +
   `= ${(median(served) / median(empty)).toFixed(2)} × and ${(median(single) / median(empty)).toFixed(2)} × the empty page`);
+{
+  const [bv, bf] = [`${bare$.origin}/`, pathToFileURL(join(bareDir, 'noise-budget.html')).href].map((url) => median(loadTimes.fcp[url]));
+  console.log(`no script     the page's HTML and style alone: loaded served ${ms(median(bareServed))}, single file ${ms(median(bareSingle))} ` +
+    `= ${(median(bareServed) / median(empty)).toFixed(2)} × and ${(median(bareSingle) / median(empty)).toFixed(2)} × the empty page; ` +
+    `first paint ${ms(bv)} and ${ms(bf)} (medians)`);
+}
 {
   const fcp = (url) => median(loadTimes.fcp[url]);
   const [e, sv, sf] = [`${empty$.origin}/`, `${page$.origin}/`, pathToFileURL(join(dist, 'noise-budget.html')).href].map(fcp);

@@ -1,7 +1,8 @@
 // The pages' LZMA unpacker (crate/unpack's wasm, as the built single file embeds it) against
 // Python's lzma module (liblzma, a general-purpose library computing the same thing): raw
 // LZMA1 streams of varied data at several presets and literal/position settings (liblzma
-// takes lc + lp at most 4), both pages' own embedded wasm, and damaged streams, which must end
+// takes lc + lp at most 4), the single file's own embedded wasm (the served page's is plain
+// base64, checked here too), and damaged streams, which must end
 // with the unpacker's own error or other bytes, never a hang or a trap. Node only, no browser;
 // needs python3 (as the page build does).
 import assert from 'node:assert/strict';
@@ -66,18 +67,26 @@ test('decodes what liblzma encodes, byte for byte', () => {
   assert.equal(streams, 4 * 4 * 5);
 });
 
-for (const [name, text] of [['the single file', SINGLE], ['the served page', readFileSync(join(DIST, readdirSync(DIST).find((f) => /^app-[0-9a-f]+\.js$/.test(f))), 'utf8')]]) {
-  test(`unpacks ${name}'s own embedded wasm to a valid module`, () => {
-    const b64 = text.match(/const NOISE_BUDGET_WASM_PACKED = "([^"]+)"/)[1];
-    const size = Number(text.match(/const NOISE_BUDGET_WASM_BYTES = (\d+);/)[1]);
-    const call = text.match(/unlzma\(from, packed\.length, to, size, at, probs, (\d+)\)/);
-    assert.ok(call, 'the script unpacks with the unpacker');
-    const props = Number(call[1]);
-    const { code, out } = unlzma(Buffer.from(b64, 'base64'), props & 255, (props >> 8) & 255, (props >> 16) & 255, size);
-    assert.equal(code, 0);
-    assert.ok(WebAssembly.validate(out), 'a valid wasm module');
-  });
-}
+test("unpacks the single file's own embedded wasm to a valid module", () => {
+  const b64 = SINGLE.match(/const NOISE_BUDGET_WASM_PACKED = "([^"]+)"/)[1];
+  const size = Number(SINGLE.match(/const NOISE_BUDGET_WASM_BYTES = (\d+);/)[1]);
+  const call = SINGLE.match(/unlzma\(from, packed\.length, to, size, at, probs, (\d+)\)/);
+  assert.ok(call, 'the script unpacks with the unpacker');
+  const props = Number(call[1]);
+  const { code, out } = unlzma(Buffer.from(b64, 'base64'), props & 255, (props >> 8) & 255, (props >> 16) & 255, size);
+  assert.equal(code, 0);
+  assert.ok(WebAssembly.validate(out), 'a valid wasm module');
+});
+
+// The served page has no size budget and holds its wasm as plain base64 (no unpacking at its
+// start): no unpacker in its script, and the base64 is the whole module.
+test("the served page's embedded wasm is plain base64 of a valid module", () => {
+  const text = readFileSync(join(DIST, readdirSync(DIST).find((f) => /^app-[0-9a-f]+\.js$/.test(f))), 'utf8');
+  assert.doesNotMatch(text, /NOISE_BUDGET_WASM_PACKED|NOISE_BUDGET_UNPACKER/, 'nothing packed');
+  const wasm = Buffer.from(text.match(/const NOISE_BUDGET_WASM = "([^"]+)"/)[1], 'base64');
+  assert.equal(wasm.length, Number(text.match(/const NOISE_BUDGET_WASM_BYTES = (\d+);/)[1]));
+  assert.ok(WebAssembly.validate(wasm), 'a valid wasm module');
+});
 
 // Raw LZMA has no checksum, so damage may decode to other bytes (the page checks that the wasm
 // compiles, and the script is protected by its CSP hash): checked here is that damage never
