@@ -3,8 +3,9 @@
 // passes or fails). Reports the single file's and the wasm's sizes (dist/sizes.json), the time
 // from navigation to the first result shown next to an empty static page's load in the same
 // browser run (and next to the load of the page's own HTML and style without its script: the
-// floor under the first result that no engine design removes), the time an edit takes to update the results, over 200 edits, and the time the
-// curves take to be computed and redrawn with 1000 points each.
+// floor under the first result that no engine design removes), the time an edit takes to
+// update the results, over 200 edits, and the time the curves take to be computed and redrawn
+// with 1000 points each.
 // Usage: node scripts/measure-page.mjs [dist]   (after scripts/build-page)
 import { copyFileSync, mkdtempSync, readdirSync, readFileSync, writeFileSync, mkdirSync } from 'node:fs';
 import { tmpdir } from 'node:os';
@@ -36,6 +37,8 @@ writeFileSync(join(bareDir, 'noise-budget.html'), noScript(readFileSync(join(dis
 const page$ = await serveStatic(dist, 0);
 const empty$ = await serveStatic(emptyDir, 0);
 const bare$ = await serveStatic(bareDir, 0);
+const bareServedUrl = `${bare$.origin}/`;
+const bareSingleUrl = pathToFileURL(join(bareDir, 'noise-budget.html')).href;
 const browser = await chromium.launch({
   executablePath: '/usr/bin/chromium', headless: true,
   args: ['--no-sandbox', '--disable-gpu', '--disable-background-networking', '--disable-component-update',
@@ -118,8 +121,8 @@ const bareServed = [];
 const bareSingle = [];
 for (let round = 0; round < 3; round++) {
   empty.push(...await loadTimes(`${empty$.origin}/`, false));
-  bareServed.push(...await loadTimes(`${bare$.origin}/`, false));
-  bareSingle.push(...await loadTimes(pathToFileURL(join(bareDir, 'noise-budget.html')).href, false));
+  bareServed.push(...await loadTimes(bareServedUrl, false));
+  bareSingle.push(...await loadTimes(bareSingleUrl, false));
   served.push(...await loadTimes(`${page$.origin}/`, true));
   single.push(...await loadTimes(pathToFileURL(join(dist, 'noise-budget.html')).href, true));
 }
@@ -229,7 +232,7 @@ console.log(`first result  served ${ms(median(served))}, single file ${ms(median
   `empty static page load ${ms(median(empty))} (median of ${empty.length}); ` +
   `= ${(median(served) / median(empty)).toFixed(2)} × and ${(median(single) / median(empty)).toFixed(2)} × the empty page`);
 {
-  const [bv, bf] = [`${bare$.origin}/`, pathToFileURL(join(bareDir, 'noise-budget.html')).href].map((url) => median(loadTimes.fcp[url]));
+  const [bv, bf] = [bareServedUrl, bareSingleUrl].map((url) => median(loadTimes.fcp[url]));
   console.log(`no script     the page's HTML and style alone: loaded served ${ms(median(bareServed))}, single file ${ms(median(bareSingle))} ` +
     `= ${(median(bareServed) / median(empty)).toFixed(2)} × and ${(median(bareSingle) / median(empty)).toFixed(2)} × the empty page; ` +
     `first paint ${ms(bv)} and ${ms(bf)} (medians)`);

@@ -230,34 +230,22 @@ ${worker}`;
       fail(`esbuild could not squeeze the single file's script: ${err.message.split('\n')[0]}`);
     }
   }
-  const embedded = packed
-    ? `// The wasm is embedded so the page makes no request for it (the CSP forbids fetching), as the
-// base64 of it packed (LZMA): base64 of raw wasm compresses badly, so this keeps the file
-// smaller. It is unpacked, compiled and started synchronously (initSync), so the first result
-// is written before the browser first lays out the page.
-const NOISE_BUDGET_WASM_PACKED = "${packed.toString('base64')}";`
-    : `// The wasm is embedded so the page makes no request for it (the CSP forbids fetching), as
-// plain base64: decoded, compiled and started synchronously (initSync), so the first result is
-// written before the browser first lays out the page.
-const NOISE_BUDGET_WASM = "${wasm.toString('base64')}";`;
-  const decode = packed
-    ? `wasmBytes = noiseBudgetUnpack(noiseBudgetBytes(NOISE_BUDGET_WASM_PACKED), NOISE_BUDGET_WASM_BYTES);
-  } catch (err) {
-    throw new Error(\`its embedded code could not be unpacked (\${err}); the file may be damaged: download it again\`);
-  }
-  if (wasmBytes.length !== NOISE_BUDGET_WASM_BYTES) {
-    throw new Error(\`its embedded code unpacked to \${wasmBytes.length} bytes, not \${NOISE_BUDGET_WASM_BYTES}; the file may be damaged: download it again\`);
-  }`
-    : `wasmBytes = noiseBudgetBytes(NOISE_BUDGET_WASM);
-  } catch (err) {
-    throw new Error(\`its embedded code could not be decoded (\${err}); the page's files may be damaged: load it again\`);
-  }
-  if (wasmBytes.length !== NOISE_BUDGET_WASM_BYTES) {
-    throw new Error(\`its embedded code decoded to \${wasmBytes.length} bytes, not \${NOISE_BUDGET_WASM_BYTES}; the page's files may be damaged: load it again\`);
-  }`;
+  // How the wasm is embedded so the page makes no request for it (the CSP forbids fetching):
+  // in the single file as the base64 of it packed (LZMA; base64 of raw wasm compresses badly),
+  // in the served page as plain base64. Either way it is turned back into the wasm, compiled
+  // and started synchronously (initSync), so the first result is written before the browser
+  // first lays out the page.
+  const embed = packed
+    ? { name: 'NOISE_BUDGET_WASM_PACKED', base64: packed.toString('base64'), how: 'packed (LZMA)',
+      bytes: 'noiseBudgetUnpack(noiseBudgetBytes(NOISE_BUDGET_WASM_PACKED), NOISE_BUDGET_WASM_BYTES)',
+      verb: ['could not be unpacked', 'unpacked to'], advice: 'the file may be damaged: download it again' }
+    : { name: 'NOISE_BUDGET_WASM', base64: wasm.toString('base64'), how: 'plain',
+      bytes: 'noiseBudgetBytes(NOISE_BUDGET_WASM)',
+      verb: ['could not be decoded', 'decoded to'], advice: "the page's files may be damaged: load it again" };
   return `${code}
 // ---- noise-budget start-up (scripts/single-file.mjs) ----
-${embedded}
+// The wasm, embedded as base64 (${embed.how}); see scripts/single-file.mjs.
+const ${embed.name} = "${embed.base64}";
 const NOISE_BUDGET_WASM_BYTES = ${wasm.length};
 function noiseBudgetBytes(b64) {
   if (typeof Uint8Array.fromBase64 === 'function') return Uint8Array.fromBase64(b64);
@@ -271,7 +259,13 @@ performance.mark('noise-budget:script-start');
 try {
   let wasmBytes;
   try {
-    ${decode}
+    wasmBytes = ${embed.bytes};
+  } catch (err) {
+    throw new Error(\`its embedded code ${embed.verb[0]} (\${err}); ${embed.advice}\`);
+  }
+  if (wasmBytes.length !== NOISE_BUDGET_WASM_BYTES) {
+    throw new Error(\`its embedded code ${embed.verb[1]} \${wasmBytes.length} bytes, not \${NOISE_BUDGET_WASM_BYTES}; ${embed.advice}\`);
+  }
   performance.mark('noise-budget:wasm-unpacked');
   let module;
   try {
